@@ -1,0 +1,178 @@
+/**
+ * The pipeline: text → parse → bind → check units → lower → check structure, with point solving and
+ * linearization on demand (cached per analysis). Pure: takes text, returns plain data.
+ */
+import type * as A from './ast';
+import { bind, type BoundModel } from './binder';
+import type { Diagnostic } from './diagnostics';
+import { diag } from './diagnostics';
+import { declaredValue, deviationEquations, linearize, type DeviationEquation, type LinearModel } from './linearizer';
+import { lower, type LoweredModel } from './model';
+import { parse, type ParseResult } from './parser';
+import { solvePoint, type PointSolution } from './pointSolver';
+import { checkStructure, type StructureResult } from './structure';
+import { LineMap } from './text';
+import { checkUnits, type UnitFacts } from './unitChecker';
+
+export interface AnalyzeOptions {
+  warnUnused?: boolean;
+}
+
+export interface VariableValue {
+  name: string;
+  kind: 'const' | 'state' | 'input' | 'var' | 'output';
+  value: number; // declared unit
+  unit: string;
+  /** How the point treated it. */
+  role: 'fixed' | 'solved' | 'constant';
+}
+
+const UNIT_ERRORS = new Set(['P302', 'P303', 'P304', 'P305', 'P306', 'P307', 'P308', 'P309']);
+
+export class Analysis {
+  readonly lines: LineMap;
+  readonly parsed: ParseResult;
+  readonly bound: BoundModel;
+  readonly units: UnitFacts;
+  readonly lowered: LoweredModel;
+  readonly structure: StructureResult;
+  /** Diagnostics of the static stages (syntax, names, units, structure). */
+  readonly diagnostics: Diagnostic[];
+  /** Whether points can be solved (no errors that make the numbers meaningless). */
+  readonly canSolve: boolean;
+  private readonly solved = new Map<string, PointSolution>();
+  private readonly linears = new Map<string, LinearModel>();
+
+  constructor(readonly text: string, readonly options: AnalyzeOptions = {}) {
+    this.lines = new LineMap(text);
+    this.parsed = parse(text);
+    this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused });
+    this.units = checkUnits(this.bound);
+    this.lowered = lower(this.bound, this.units, text);
+    this.structure = checkStructure(this.lowered);
+    this.diagnostics = [...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics];
+    this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
+  }
+
+  get pointNames(): string[] {
+    return this.bound.points.map((p) => p.name.name).filter((n) => n);
+  }
+
+  pointBlock(name?: string): A.PointBlock | undefined {
+    if (name === undefined) return this.bound.points.find((p) => p.name.name);
+    return this.bound.points.find((p) => p.name.name === name);
+  }
+
+  /** Solves a point (the first one when no name is given); undefined when the model cannot be solved. */
+  point(name?: string): PointSolution | undefined {
+    const block = this.pointBlock(name);
+    if (!block || !this.canSolve) return undefined;
+    let s = this.solved.get(block.name.name);
+    if (!s) {
+      try {
+        s = solvePoint(this.bound, this.lowered, block);
+      } catch (e) {
+        s = failed(block, e);
+      }
+      this.solved.set(block.name.name, s);
+    }
+    return s;
+  }
+
+  linear(name?: string): LinearModel | undefined {
+    const sol = this.point(name);
+    if (!sol || !sol.ok) return undefined;
+    let l = this.linears.get(sol.name);
+    if (!l) {
+      l = linearize(this.lowered, this.structure.unknowns, sol.values, sol.name, sol.block.name.span);
+      this.linears.set(sol.name, l);
+    }
+    return l;
+  }
+
+  deviationEquations(name?: string, digits = 4): DeviationEquation[] | undefined {
+    const l = this.linear(name);
+    return l && l.ok ? deviationEquations(l, digits) : undefined;
+  }
+
+  /** Every variable's value at a solved point, in declared units. */
+  values(sol: PointSolution): VariableValue[] {
+    const out: VariableValue[] = [];
+    for (const s of this.lowered.slots) {
+      if (s.order !== 0) continue;
+      out.push({
+        name: s.name,
+        kind: s.kind === 'deriv' ? 'state' : (s.kind as VariableValue['kind']),
+        value: declaredValue(s, sol.values[s.id]),
+        unit: s.unit.text === '1' ? '' : s.unit.text,
+        role: s.kind === 'const' ? 'constant' : sol.fixed.has(s.id) ? 'fixed' : 'solved',
+      });
+    }
+    return out;
+  }
+
+  /** Digest of the model and one point: a generated linear block is stale when it no longer matches. */
+  digest(point: string): string {
+    const cut: { start: number; end: number }[] = [...this.parsed.file.comments];
+    for (const st of this.parsed.file.statements) if (st.kind === 'linear' || st.kind === 'sweep') cut.push(st.span);
+    cut.sort((a, b) => a.start - b.start);
+    let s = '';
+    let pos = 0;
+    for (const c of cut) {
+      if (c.start > pos) s += this.text.slice(pos, c.start);
+      pos = Math.max(pos, c.end);
+    }
+    s += this.text.slice(pos);
+    s = s.replace(/\s+/g, ' ').trim() + '\u0000' + point;
+    return fnv1a(s);
+  }
+
+  /** All diagnostics: static stages, every point, stale linear blocks. */
+  allDiagnostics(): Diagnostic[] {
+    const out = [...this.diagnostics];
+    if (this.canSolve) {
+      if (!this.bound.points.length && (this.lowered.stateComponents.length || this.lowered.algebraic.length)) {
+        // no point yet: nothing to solve, not an error while writing
+      }
+      for (const p of this.bound.points) {
+        if (!p.name.name) continue;
+        const s = this.point(p.name.name);
+        if (s) out.push(...s.diagnostics);
+        const l = s && s.ok ? this.linear(p.name.name) : undefined;
+        if (l) out.push(...l.diagnostics);
+      }
+    }
+    for (const lb of this.bound.linears) {
+      if (!lb.name.name || !this.pointBlock(lb.name.name)) continue;
+      const want = this.digest(lb.name.name);
+      const have = lb.digest?.text.trim();
+      if (have !== want) out.push(diag('P601', lb.headerSpan, { name: lb.name.name }, { data: { point: lb.name.name } }));
+    }
+    return out;
+  }
+}
+
+function failed(block: A.PointBlock, e: unknown): PointSolution {
+  return {
+    name: block.name.name, block, ok: false, values: new Float64Array(0), guesses: new Float64Array(0), unknowns: [], fixed: new Set(), iterations: 0, residual: NaN,
+    diagnostics: [diag('P503', block.name.span, { point: block.name.name, detail: `internal failure (${e instanceof Error ? e.message : String(e)}); please report it.` })],
+  };
+}
+
+export function fnv1a(s: string): string {
+  let h = 0x811c9dc5;
+  for (let i = 0; i < s.length; i++) {
+    h ^= s.charCodeAt(i);
+    h = Math.imul(h, 0x01000193) >>> 0;
+  }
+  return h.toString(16).padStart(8, '0');
+}
+
+export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
+  return new Analysis(text, options);
+}
+
+/** Diagnostics with line/column positions (for the CLI and tests). */
+export function located(a: Analysis, ds: Diagnostic[]) {
+  return ds.map((d) => ({ ...d, start: a.lines.position(d.span.start), end: a.lines.position(d.span.end) }));
+}

@@ -1,0 +1,122 @@
+/**
+ * The one catalogue of everything Poise reports. Each entry has a stable code (never reuse or renumber),
+ * a severity and a message template that says what to change. Stages call `diag(code, span, args)`.
+ */
+import type { Span } from './text';
+
+export type Severity = 'error' | 'warning' | 'info';
+
+export interface Related {
+  span: Span;
+  message: string;
+}
+
+export interface Diagnostic {
+  code: string;
+  severity: Severity;
+  span: Span;
+  message: string;
+  related?: Related[];
+  /** Machine-readable facts for quick fixes (e.g. the unknown name). */
+  data?: Record<string, unknown>;
+}
+
+interface Entry {
+  severity: Severity;
+  /** Template with {name} placeholders. */
+  text: string;
+}
+
+export const catalogue = {
+  // 1xx syntax
+  P101: { severity: 'error', text: 'Unexpected {found}; expected {expected}.' },
+  P102: { severity: 'error', text: 'Unclosed parenthesis: add ")" before the end of the line.' },
+  P103: { severity: 'error', text: 'Unit bracket is not closed: add "]".' },
+  P104: { severity: 'error', text: 'Unexpected character "{ch}": remove it.' },
+  P105: { severity: 'error', text: 'A declaration needs a name after "{keyword}".' },
+  P106: { severity: 'error', text: 'Indented line outside a block: remove the indentation or put it under a "point", "linear" or "sweep" header.' },
+  P107: { severity: 'error', text: 'A point line is "name = value" (fixed) or "name ~ guess" (unknown with a starting guess).' },
+  P108: { severity: 'error', text: 'Malformed number "{text}".' },
+  P109: { severity: 'error', text: 'The prime applies to a name only: write "x\'" for the derivative of state x.' },
+  P110: { severity: 'error', text: 'An equation needs "=" between its two sides.' },
+  P111: { severity: 'error', text: '"Δ" is reserved for deviation variables in generated linear blocks; rename "{name}".' },
+  P112: { severity: 'error', text: 'Block "{name}" has no lines: indent its lines under the header.' },
+  P113: { severity: 'error', text: 'A sweep line is "vary NAME = FROM to TO steps N" with an optional "log".' },
+
+  // 2xx names
+  P201: { severity: 'error', text: 'Unknown name "{name}": declare it (const, input, state, var or output) or fix the spelling.' },
+  P202: { severity: 'error', text: '"{name}" is already declared as {kind}: rename one of them.' },
+  P203: { severity: 'warning', text: '{kind} "{name}" is declared but never used: use it in an equation or remove it.' },
+  P204: { severity: 'error', text: '"{name}" is {kind}, not a state, so it has no derivative: declare it with "state" or remove the prime.' },
+  P205: { severity: 'error', text: 'State "{name}" is never differentiated: write an equation with {name}\' or declare it as "var".' },
+  P206: { severity: 'error', text: '"{name}" is a built-in function: call it with arguments, e.g. {name}(x).' },
+  P207: { severity: 'error', text: '{fn} takes {expected} argument(s), not {got}.' },
+  P208: { severity: 'error', text: 'Constant "{name}" may use only constants declared before it; "{other}" is {kind}.' },
+  P209: { severity: 'error', text: '"{name}" is a reserved word or built-in and cannot be declared: choose another name.' },
+  P210: { severity: 'error', text: 'Point "{name}" is defined twice: rename one of them.' },
+  P211: { severity: 'error', text: '"{name}" is listed twice in point "{point}": keep one line.' },
+  P212: { severity: 'error', text: 'A point value must be a constant expression: "{name}" is {kind}.' },
+  P213: { severity: 'error', text: 'Unknown point "{name}": the header names a point that is not defined.' },
+  P214: { severity: 'error', text: '"{name}" is a constant: a point may give it another value with "=", not a guess with "~".' },
+  P215: { severity: 'error', text: 'Output "{name}" cannot depend on itself.' },
+  P216: { severity: 'error', text: 'Derivative order {order} of "{name}" in a point: points are steady states, derivatives are zero there.' },
+
+  // 3xx units
+  P301: { severity: 'error', text: 'Unknown unit "{unit}": {detail}' },
+  P302: { severity: 'error', text: 'The two sides of the equation have different units: left is {left}, right is {right}.' },
+  P303: { severity: 'error', text: 'The argument of {fn} must be dimensionless, but it is {unit}.' },
+  P304: { severity: 'error', text: 'Terms of a sum must have the same unit: {left} and {right}.' },
+  P305: { severity: 'error', text: 'A power of a quantity with units needs a constant exponent.' },
+  P306: { severity: 'error', text: 'The exponent must be dimensionless, but it is {unit}.' },
+  P307: { severity: 'error', text: 'The arguments of {fn} must have the same unit: {left} and {right}.' },
+  P308: { severity: 'error', text: 'Value for "{name}" is in {given}, which does not convert to its unit {declared}.' },
+  P309: { severity: 'error', text: 'Output "{name}" is declared in {declared} but its expression is in {actual}.' },
+  P310: { severity: 'error', text: 'Time unit must be a unit of time, not {unit}.' },
+
+  // 4xx structure
+  P401: { severity: 'error', text: 'The model is unbalanced: {equations} equation(s) for {unknowns} unknown(s) ({detail}). {advice}' },
+  P402: { severity: 'error', text: 'This equation is left over: no unknown is left for it to determine ({unknowns} already fixed by other equations). Remove it or add an unknown.' },
+  P403: { severity: 'error', text: 'No equation determines {what} "{name}": add an equation for it or remove it.' },
+  P404: { severity: 'error', text: 'Structurally singular: equations {equations} all determine only {unknowns}: {advice}' },
+  P405: { severity: 'error', text: 'The model has no equations.' },
+
+  // 5xx operating point
+  P501: { severity: 'error', text: 'Point "{point}" is unbalanced: {equations} equation(s) for {unknowns} unknown(s). {advice}' },
+  P502: { severity: 'error', text: 'Point "{point}" did not converge after {iterations} iterations: the largest residual is {residual} in this equation. Give better guesses ("~") or check the model.' },
+  P503: { severity: 'error', text: 'Point "{point}" has no real solution from these guesses: {detail}' },
+  P504: { severity: 'error', text: 'Domain error at point "{point}": {detail}.' },
+  P505: { severity: 'warning', text: 'Not differentiable at point "{point}": {detail}; the linear model uses a one-sided derivative.' },
+  P506: { severity: 'error', text: 'At point "{point}" the steady state is not isolated: {names} can move without changing any equation. Fix one of them with "=".' },
+  P507: { severity: 'error', text: 'At point "{point}" {what} cannot be solved from the equations (the Jacobian with respect to {names} is singular: index above 1 or a singular algebraic loop).' },
+  P508: { severity: 'error', text: 'At point "{point}" this equation has no unknown left and does not hold: residual {residual}. Change a fixed value or free one with "~".' },
+  P509: { severity: 'error', text: 'No point to use: add a "point NAME:" block with the values to fix.' },
+  P510: { severity: 'error', text: 'Constant "{name}" cannot be evaluated: {detail}.' },
+
+  // 6xx generated blocks and sweeps
+  P601: { severity: 'warning', text: 'Linear block "{name}" is stale: the model or point changed since it was generated. Regenerate it.' },
+  P602: { severity: 'error', text: 'Sweep "{name}": {detail}' },
+} as const satisfies Record<string, Entry>;
+
+export type Code = keyof typeof catalogue;
+
+export function format(template: string, args: Record<string, unknown>): string {
+  return template.replace(/\{(\w+)\}/g, (_, k: string) => (k in args ? String(args[k]) : `{${k}}`));
+}
+
+export function diag(
+  code: Code,
+  span: Span,
+  args: Record<string, unknown> = {},
+  extra: { related?: Related[]; data?: Record<string, unknown>; severity?: Severity } = {},
+): Diagnostic {
+  const entry: Entry = catalogue[code];
+  const d: Diagnostic = {
+    code,
+    severity: extra.severity ?? entry.severity,
+    span,
+    message: format(entry.text, args),
+  };
+  if (extra.related && extra.related.length) d.related = extra.related;
+  if (extra.data) d.data = extra.data;
+  return d;
+}

@@ -1,0 +1,414 @@
+/**
+ * Symbolic expressions: the core's own small computer-algebra layer. Smart constructors fold constants
+ * and drop trivial terms (no 0*x, no 1*x); `derivative` applies the differentiation rules; `print`
+ * writes readable infix text. Nodes are immutable plain objects; `src` keeps the source span of the
+ * model text they came from (for domain errors).
+ */
+import type { Span } from './text';
+
+export type Node = Num | Sym | Add | Mul | Pow | Fn;
+export interface Num { t: 'num'; v: number; src?: Span }
+export interface Sym { t: 'sym'; id: number; src?: Span }
+export interface Add { t: 'add'; args: Node[]; src?: Span }
+export interface Mul { t: 'mul'; args: Node[]; src?: Span }
+export interface Pow { t: 'pow'; base: Node; exp: Node; src?: Span }
+export interface Fn { t: 'fn'; fn: FnName; args: Node[]; src?: Span }
+
+export type FnName =
+  | 'sqrt' | 'exp' | 'log' | 'log10' | 'sin' | 'cos' | 'tan' | 'asin' | 'acos' | 'atan' | 'atan2'
+  | 'sinh' | 'cosh' | 'tanh' | 'abs' | 'sign' | 'min' | 'max' | 'hypot'
+  /** pick(a, b, p, q) = a <= b ? p : q — derivative of min/max. */
+  | 'pick';
+
+export const BUILTIN_ARITY: Record<Exclude<FnName, 'pick'>, number> = {
+  sqrt: 1, exp: 1, log: 1, log10: 1, sin: 1, cos: 1, tan: 1, asin: 1, acos: 1, atan: 1, atan2: 2,
+  sinh: 1, cosh: 1, tanh: 1, abs: 1, sign: 1, min: 2, max: 2, hypot: 2,
+};
+
+export const BUILTIN_DOC: Record<Exclude<FnName, 'pick'>, string> = {
+  sqrt: 'square root; argument must be ≥ 0 (not differentiable at 0)',
+  exp: 'exponential e^x; argument dimensionless',
+  log: 'natural logarithm; argument dimensionless and > 0',
+  log10: 'base-10 logarithm; argument dimensionless and > 0',
+  sin: 'sine; argument an angle (dimensionless, radians)',
+  cos: 'cosine; argument an angle (dimensionless, radians)',
+  tan: 'tangent; argument an angle (dimensionless, radians)',
+  asin: 'inverse sine in radians; argument in [-1, 1]',
+  acos: 'inverse cosine in radians; argument in [-1, 1]',
+  atan: 'inverse tangent in radians',
+  atan2: 'atan2(y, x): angle of the point (x, y) in radians; y and x in the same unit',
+  sinh: 'hyperbolic sine; argument dimensionless',
+  cosh: 'hyperbolic cosine; argument dimensionless',
+  tanh: 'hyperbolic tangent; argument dimensionless',
+  abs: 'absolute value (not differentiable at 0)',
+  sign: 'sign: -1, 0 or 1 (derivative zero, not differentiable at 0)',
+  min: 'min(a, b): the smaller; a and b in the same unit (not differentiable where they tie)',
+  max: 'max(a, b): the larger; a and b in the same unit (not differentiable where they tie)',
+  hypot: 'hypot(a, b) = sqrt(a^2 + b^2); a and b in the same unit',
+};
+
+export const num = (v: number, src?: Span): Num => (src ? { t: 'num', v, src } : { t: 'num', v });
+export const sym = (id: number, src?: Span): Sym => (src ? { t: 'sym', id, src } : { t: 'sym', id });
+export const ZERO = num(0);
+export const ONE = num(1);
+export const isNum = (n: Node, v?: number): n is Num => n.t === 'num' && (v === undefined || n.v === v);
+
+const keyCache = new WeakMap<Node, string>();
+/** A structural key: equal keys mean equal expressions. */
+export function key(n: Node): string {
+  let k = keyCache.get(n);
+  if (k !== undefined) return k;
+  switch (n.t) {
+    case 'num': k = `#${n.v}`; break;
+    case 'sym': k = `$${n.id}`; break;
+    case 'add': k = `+(${n.args.map(key).join(',')})`; break;
+    case 'mul': k = `*(${n.args.map(key).join(',')})`; break;
+    case 'pow': k = `^(${key(n.base)},${key(n.exp)})`; break;
+    case 'fn': k = `${n.fn}(${n.args.map(key).join(',')})`; break;
+  }
+  keyCache.set(n, k);
+  return k;
+}
+
+/** Split a product into numeric coefficient and the rest. */
+function coeffOf(n: Node): [number, Node] {
+  if (n.t === 'num') return [n.v, ONE];
+  if (n.t === 'mul' && n.args[0].t === 'num') {
+    const rest = n.args.slice(1);
+    return [n.args[0].v, rest.length === 1 ? rest[0] : { t: 'mul', args: rest }];
+  }
+  return [1, n];
+}
+
+export function add(args: Node[], src?: Span): Node {
+  const flat: Node[] = [];
+  for (const a of args) {
+    if (a.t === 'add') flat.push(...a.args);
+    else flat.push(a);
+  }
+  let c = 0;
+  const terms = new Map<string, { coef: number; node: Node }>();
+  const order: string[] = [];
+  for (const a of flat) {
+    if (a.t === 'num') {
+      c += a.v;
+      continue;
+    }
+    const [k0, rest] = coeffOf(a);
+    const kk = key(rest);
+    const e = terms.get(kk);
+    if (e) e.coef += k0;
+    else {
+      terms.set(kk, { coef: k0, node: rest });
+      order.push(kk);
+    }
+  }
+  const out: Node[] = [];
+  for (const kk of order) {
+    const e = terms.get(kk)!;
+    if (e.coef === 0) continue;
+    out.push(e.coef === 1 ? e.node : mul([num(e.coef), e.node]));
+  }
+  if (c !== 0 || out.length === 0) out.push(num(c));
+  if (out.length === 1) return withSrc(out[0], src);
+  return src ? { t: 'add', args: out, src } : { t: 'add', args: out };
+}
+
+function withSrc<T extends Node>(n: T, src?: Span): T {
+  if (!src || n.src) return n;
+  return { ...n, src };
+}
+
+function baseExp(n: Node): [Node, Node] {
+  if (n.t === 'pow') return [n.base, n.exp];
+  return [n, ONE];
+}
+
+export function mul(args: Node[], src?: Span): Node {
+  const flat: Node[] = [];
+  for (const a of args) {
+    if (a.t === 'mul') flat.push(...a.args);
+    else flat.push(a);
+  }
+  let c = 1;
+  const facs = new Map<string, { base: Node; exps: Node[] }>();
+  const order: string[] = [];
+  for (const a of flat) {
+    if (a.t === 'num') {
+      c *= a.v;
+      continue;
+    }
+    const [b, e] = baseExp(a);
+    const kk = key(b);
+    const f = facs.get(kk);
+    if (f) f.exps.push(e);
+    else {
+      facs.set(kk, { base: b, exps: [e] });
+      order.push(kk);
+    }
+  }
+  if (c === 0) return withSrc(num(0), src);
+  const out: Node[] = [];
+  for (const kk of order) {
+    const f = facs.get(kk)!;
+    const e = f.exps.length === 1 ? f.exps[0] : add(f.exps);
+    const p = pow(f.base, e);
+    if (p.t === 'num') c *= p.v;
+    else out.push(p);
+  }
+  if (out.length === 0) return withSrc(num(c), src);
+  if (c !== 1) out.unshift(num(c));
+  if (out.length === 1) return withSrc(out[0], src);
+  return src ? { t: 'mul', args: out, src } : { t: 'mul', args: out };
+}
+
+export function pow(base: Node, exp: Node, src?: Span): Node {
+  if (exp.t === 'num') {
+    if (exp.v === 0) return withSrc(ONE, src);
+    if (exp.v === 1) return withSrc(base, src);
+    if (base.t === 'num') {
+      const r = Math.pow(base.v, exp.v);
+      if (Number.isFinite(r)) return num(r, src);
+    }
+    if (base.t === 'pow' && base.exp.t === 'num' && Number.isInteger(exp.v)) {
+      return pow(base.base, num(base.exp.v * exp.v), src);
+    }
+    if (base.t === 'mul' && Number.isInteger(exp.v)) {
+      return mul(base.args.map((a) => pow(a, exp)), src);
+    }
+  }
+  if (base.t === 'num' && base.v === 1) return withSrc(ONE, src);
+  return src ? { t: 'pow', base, exp, src } : { t: 'pow', base, exp };
+}
+
+const FOLD: Record<FnName, (...a: number[]) => number> = {
+  sqrt: Math.sqrt, exp: Math.exp, log: Math.log, log10: Math.log10, sin: Math.sin, cos: Math.cos, tan: Math.tan,
+  asin: Math.asin, acos: Math.acos, atan: Math.atan, atan2: Math.atan2, sinh: Math.sinh, cosh: Math.cosh,
+  tanh: Math.tanh, abs: Math.abs, sign: Math.sign, min: Math.min, max: Math.max, hypot: Math.hypot,
+  pick: (a, b, p, q) => (a <= b ? p : q),
+};
+
+export function fn(name: FnName, args: Node[], src?: Span): Node {
+  if (args.every((a) => a.t === 'num')) {
+    const r = FOLD[name](...args.map((a) => (a as Num).v));
+    if (Number.isFinite(r)) return num(r, src);
+  }
+  if (name === 'pick' && key(args[2]) === key(args[3])) return args[2];
+  return src ? { t: 'fn', fn: name, args, src } : { t: 'fn', fn: name, args };
+}
+
+export const neg = (a: Node, src?: Span): Node => mul([num(-1), a], src);
+export const sub = (a: Node, b: Node, src?: Span): Node => add([a, neg(b)], src);
+export const div = (a: Node, b: Node, src?: Span): Node => mul([a, pow(b, num(-1))], src);
+
+/** Evaluate with slot values. */
+export function evaluate(n: Node, v: ArrayLike<number>): number {
+  switch (n.t) {
+    case 'num': return n.v;
+    case 'sym': return v[n.id];
+    case 'add': {
+      let s = 0;
+      for (const a of n.args) s += evaluate(a, v);
+      return s;
+    }
+    case 'mul': {
+      let s = 1;
+      for (const a of n.args) s *= evaluate(a, v);
+      return s;
+    }
+    case 'pow': return powValue(evaluate(n.base, v), evaluate(n.exp, v));
+    case 'fn': return FOLD[n.fn](...n.args.map((a) => evaluate(a, v)));
+  }
+}
+
+export function powValue(b: number, e: number): number {
+  if (e === 2) return b * b;
+  if (e === -1) return 1 / b;
+  if (e === 0.5) return Math.sqrt(b);
+  return Math.pow(b, e);
+}
+
+/** The slots an expression depends on. */
+export function slots(n: Node, out: Set<number> = new Set()): Set<number> {
+  switch (n.t) {
+    case 'num': break;
+    case 'sym': out.add(n.id); break;
+    case 'pow': slots(n.base, out); slots(n.exp, out); break;
+    default: for (const a of n.args) slots(a, out);
+  }
+  return out;
+}
+
+export function dependsOn(n: Node, id: number): boolean {
+  switch (n.t) {
+    case 'num': return false;
+    case 'sym': return n.id === id;
+    case 'pow': return dependsOn(n.base, id) || dependsOn(n.exp, id);
+    default: return n.args.some((a) => dependsOn(a, id));
+  }
+}
+
+/** Partial derivative ∂n/∂(slot id). */
+export function derivative(n: Node, id: number): Node {
+  if (!dependsOn(n, id)) return ZERO;
+  switch (n.t) {
+    case 'num': return ZERO;
+    case 'sym': return n.id === id ? ONE : ZERO;
+    case 'add': return add(n.args.map((a) => derivative(a, id)));
+    case 'mul': {
+      const terms: Node[] = [];
+      n.args.forEach((a, i) => {
+        const da = derivative(a, id);
+        if (isNum(da, 0)) return;
+        const others = n.args.filter((_, j) => j !== i);
+        terms.push(mul([...others, da]));
+      });
+      return add(terms);
+    }
+    case 'pow': {
+      const { base, exp } = n;
+      const db = derivative(base, id);
+      if (!dependsOn(exp, id)) {
+        // d(b^e) = e*b^(e-1)*db
+        return mul([exp, pow(base, add([exp, num(-1)])), db]);
+      }
+      // d(b^e) = b^e * (de*log(b) + e*db/b)
+      const de = derivative(exp, id);
+      return mul([n, add([mul([de, fn('log', [base])]), mul([exp, db, pow(base, num(-1))])])]);
+    }
+    case 'fn': {
+      const [a, b] = n.args;
+      const da = derivative(a, id);
+      switch (n.fn) {
+        case 'sqrt': return mul([num(0.5), da, pow(n, num(-1))]);
+        case 'exp': return mul([n, da]);
+        case 'log': return mul([da, pow(a, num(-1))]);
+        case 'log10': return mul([da, pow(mul([a, num(Math.LN10)]), num(-1))]);
+        case 'sin': return mul([fn('cos', [a]), da]);
+        case 'cos': return neg(mul([fn('sin', [a]), da]));
+        case 'tan': return mul([da, pow(fn('cos', [a]), num(-2))]);
+        case 'asin': return mul([da, pow(sub(ONE, pow(a, num(2))), num(-0.5))]);
+        case 'acos': return neg(mul([da, pow(sub(ONE, pow(a, num(2))), num(-0.5))]));
+        case 'atan': return mul([da, pow(add([ONE, pow(a, num(2))]), num(-1))]);
+        case 'sinh': return mul([fn('cosh', [a]), da]);
+        case 'cosh': return mul([fn('sinh', [a]), da]);
+        case 'tanh': return mul([sub(ONE, pow(n, num(2))), da]);
+        case 'abs': return mul([fn('sign', [a]), da]);
+        case 'sign': return ZERO;
+        case 'atan2': {
+          // atan2(y, x): (x dy - y dx)/(x^2 + y^2)
+          const db = derivative(b, id);
+          return mul([sub(mul([b, da]), mul([a, db])), pow(add([pow(a, num(2)), pow(b, num(2))]), num(-1))]);
+        }
+        case 'hypot': {
+          const db = derivative(b, id);
+          return mul([add([mul([a, da]), mul([b, db])]), pow(n, num(-1))]);
+        }
+        case 'min': return fn('pick', [a, b, da, derivative(b, id)]);
+        case 'max': return fn('pick', [b, a, derivative(b, id), da]);
+        case 'pick': return fn('pick', [a, b, derivative(n.args[2], id), derivative(n.args[3], id)]);
+      }
+    }
+  }
+}
+
+/** Replace slots by expressions (used for symbolic substitution). */
+export function substitute(n: Node, f: (id: number) => Node | undefined): Node {
+  switch (n.t) {
+    case 'num': return n;
+    case 'sym': return f(n.id) ?? n;
+    case 'add': return add(n.args.map((a) => substitute(a, f)), n.src);
+    case 'mul': return mul(n.args.map((a) => substitute(a, f)), n.src);
+    case 'pow': return pow(substitute(n.base, f), substitute(n.exp, f), n.src);
+    case 'fn': return fn(n.fn, n.args.map((a) => substitute(a, f)), n.src);
+  }
+}
+
+// ---------------------------------------------------------------- printing
+
+export interface PrintOptions {
+  name(id: number): string;
+  /** Significant digits for numbers; undefined = shortest round-trip. */
+  digits?: number;
+}
+
+export function formatNumber(v: number, digits?: number): string {
+  if (!Number.isFinite(v)) return String(v);
+  if (digits === undefined) return String(v);
+  if (v === 0) return '0';
+  const s = Number(v.toPrecision(digits));
+  const a = Math.abs(s);
+  if (a >= 1e-4 && a < 1e7) return String(s);
+  return s.toExponential().replace(/\.?0+e/, 'e').replace('e+', 'e');
+}
+
+const PREC = { add: 1, mul: 2, neg: 3, pow: 4, atom: 5 };
+
+export function print(n: Node, o: PrintOptions): string {
+  return pr(n, o)[0];
+}
+
+function pr(n: Node, o: PrintOptions): [string, number] {
+  switch (n.t) {
+    case 'num': {
+      const s = formatNumber(n.v, o.digits);
+      return [s, n.v < 0 ? PREC.neg : PREC.atom];
+    }
+    case 'sym': return [o.name(n.id), PREC.atom];
+    case 'fn': return [`${n.fn === 'pick' ? 'pick' : n.fn}(${n.args.map((a) => pr(a, o)[0]).join(', ')})`, PREC.atom];
+    case 'pow': {
+      if (n.exp.t === 'num' && n.exp.v < 0) return prMul([n], o);
+      if (n.exp.t === 'num' && n.exp.v === 0.5) return [`sqrt(${pr(n.base, o)[0]})`, PREC.atom];
+      const [b, bp] = pr(n.base, o);
+      const [e, ep] = pr(n.exp, o);
+      return [`${bp <= PREC.pow ? `(${b})` : b}^${ep < PREC.atom ? `(${e})` : e}`, PREC.pow];
+    }
+    case 'mul': return prMul(n.args, o);
+    case 'add': {
+      let s = '';
+      n.args.forEach((a, i) => {
+        let [t, p] = pr(a, o);
+        if (i > 0) {
+          if (t.startsWith('-')) {
+            s += ' - ' + t.slice(1);
+            return;
+          }
+          s += ' + ';
+        }
+        if (p < PREC.add) t = `(${t})`;
+        s += t;
+      });
+      return [s, PREC.add];
+    }
+  }
+}
+
+function prMul(args: Node[], o: PrintOptions): [string, number] {
+  const numer: string[] = [];
+  const denom: string[] = [];
+  let coef = 1;
+  for (const a of args) {
+    if (a.t === 'num') {
+      coef *= a.v;
+      continue;
+    }
+    if (a.t === 'pow' && a.exp.t === 'num' && a.exp.v < 0) {
+      const inv = pow(a.base, num(-a.exp.v));
+      const [t, p] = pr(inv, o);
+      denom.push(p <= PREC.mul ? `(${t})` : t);
+      continue;
+    }
+    const [t, p] = pr(a, o);
+    numer.push(p <= PREC.mul ? `(${t})` : t);
+  }
+  let sign = '';
+  if (coef < 0) {
+    sign = '-';
+    coef = -coef;
+  }
+  if (coef !== 1 || numer.length === 0) numer.unshift(formatNumber(coef, o.digits));
+  let s = numer.join('*');
+  if (denom.length === 1) s += '/' + denom[0];
+  else if (denom.length > 1) s += '/(' + denom.join('*') + ')';
+  return [sign + s, sign ? PREC.neg : PREC.mul];
+}

@@ -1,0 +1,120 @@
+/**
+ * Plain-text, Markdown and JSON renderings of the core's results, shared by the CLI, the language
+ * server and the exports. Pure.
+ */
+import type { Analysis, VariableValue } from './analysis';
+import { formatNumber } from './expr';
+import type { DeviationEquation, LinearModel } from './linearizer';
+import { eigenvalues, sortEigen } from './numeric/eigen';
+
+export interface LinearJson {
+  point: string;
+  values: Record<string, { value: number; unit: string }>;
+  states: string[];
+  inputs: string[];
+  outputs: string[];
+  units: { states: string[]; inputs: string[]; outputs: string[]; time: string };
+  A: number[][];
+  B: number[][];
+  C: number[][];
+  D: number[][];
+  eigenvalues: { re: number; im: number }[];
+  equations: string[];
+}
+
+export function rows(a: Float64Array, r: number, c: number): number[][] {
+  const out: number[][] = [];
+  for (let i = 0; i < r; i++) out.push(Array.from(a.subarray(i * c, i * c + c)));
+  return out;
+}
+
+export function linearEigen(lin: LinearModel): { re: number; im: number }[] {
+  if (lin.n === 0) return [];
+  const e = eigenvalues({ rows: lin.n, cols: lin.n, data: lin.A });
+  return sortEigen(e.re, e.im);
+}
+
+export function linearJson(lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[]): LinearJson {
+  const v: LinearJson['values'] = {};
+  for (const x of values) if (x.kind !== 'const') v[x.name] = { value: x.value, unit: x.unit };
+  return {
+    point: lin.point,
+    values: v,
+    states: lin.states,
+    inputs: lin.inputs,
+    outputs: lin.outputs,
+    units: { states: lin.stateUnits.map(u1), inputs: lin.inputUnits.map(u1), outputs: lin.outputUnits.map(u1), time: lin.timeUnit },
+    A: rows(lin.A, lin.n, lin.n),
+    B: rows(lin.B, lin.n, lin.m),
+    C: rows(lin.C, lin.p, lin.n),
+    D: rows(lin.D, lin.p, lin.m),
+    eigenvalues: linearEigen(lin),
+    equations: eqs.map((e) => e.text),
+  };
+}
+
+const u1 = (u: string) => (u === '1' ? '' : u);
+
+export function formatValues(values: VariableValue[], digits = 6, withConstants = false): string {
+  const shown = values.filter((v) => withConstants || v.kind !== 'const');
+  const w = Math.max(4, ...shown.map((v) => v.name.length));
+  return shown
+    .map((v) => `  ${v.name.padEnd(w)}  ${formatNumber(v.value, digits).padStart(12)} ${v.unit ? `[${v.unit}]` : ''}${v.role === 'fixed' ? '  (fixed)' : ''}`.trimEnd())
+    .join('\n');
+}
+
+export function formatMatrix(name: string, a: Float64Array, r: number, c: number, rowNames: string[], colNames: string[], digits = 5): string {
+  if (r === 0 || c === 0) return `${name} = [] (${r}×${c})`;
+  const cells = rows(a, r, c).map((row) => row.map((x) => formatNumber(x, digits)));
+  const w = Math.max(8, ...cells.flat().map((s) => s.length), ...colNames.map((s) => s.length));
+  const rw = Math.max(...rowNames.map((s) => s.length));
+  const lines = [`${name} (${r}×${c})`, `  ${''.padEnd(rw)}  ${colNames.map((s) => s.padStart(w)).join(' ')}`];
+  cells.forEach((row, i) => lines.push(`  ${rowNames[i].padEnd(rw)}  ${row.map((s) => s.padStart(w)).join(' ')}`));
+  return lines.join('\n');
+}
+
+export function formatEigen(eig: { re: number; im: number }[], digits = 5): string {
+  return eig.map((e) => (e.im === 0 ? formatNumber(e.re, digits) : `${formatNumber(e.re, digits)} ${e.im < 0 ? '-' : '+'} ${formatNumber(Math.abs(e.im), digits)}i`)).join(', ');
+}
+
+export function formatLinearText(a: Analysis, lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[], digits = 5): string {
+  const t = lin.timeUnit;
+  const out: string[] = [];
+  out.push(`Point ${lin.point} (time in ${t})`);
+  out.push(formatValues(values, 6));
+  out.push('');
+  out.push('Deviation equations (Δx = x − x at the point):');
+  for (const e of eqs) out.push('  ' + e.text);
+  out.push('');
+  const sn = lin.states.map((s, i) => `Δ${s}${lin.stateUnits[i] && lin.stateUnits[i] !== '1' ? ` [${lin.stateUnits[i]}]` : ''}`);
+  const inn = lin.inputs.map((s, i) => `Δ${s}${lin.inputUnits[i] && lin.inputUnits[i] !== '1' ? ` [${lin.inputUnits[i]}]` : ''}`);
+  const on = lin.outputs.map((s, i) => `Δ${s}${lin.outputUnits[i] && lin.outputUnits[i] !== '1' ? ` [${lin.outputUnits[i]}]` : ''}`);
+  out.push(formatMatrix('A', lin.A, lin.n, lin.n, sn, sn, digits));
+  out.push(formatMatrix('B', lin.B, lin.n, lin.m, sn, inn, digits));
+  out.push(formatMatrix('C', lin.C, lin.p, lin.n, on, sn, digits));
+  out.push(formatMatrix('D', lin.D, lin.p, lin.m, on, inn, digits));
+  out.push('');
+  out.push(`Eigenvalues [1/${t}]: ${formatEigen(linearEigen(lin), digits) || '(none)'}`);
+  void a;
+  return out.join('\n');
+}
+
+export function formatLinearMarkdown(lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[], digits = 5): string {
+  const out: string[] = [];
+  out.push(`## Linear model at point \`${lin.point}\` (time in ${lin.timeUnit})`, '');
+  out.push('| variable | value | unit | |', '|---|---:|---|---|');
+  for (const v of values) if (v.kind !== 'const') out.push(`| ${v.name} | ${formatNumber(v.value, 6)} | ${v.unit} | ${v.role} |`);
+  out.push('', '```', ...eqs.map((e) => e.text), '```', '');
+  const table = (name: string, a: Float64Array, r: number, c: number, rn: string[], cn: string[]) => {
+    if (!r || !c) return;
+    out.push(`**${name}**`, '', `| | ${cn.map((x) => `Δ${x}`).join(' | ')} |`, `|---|${cn.map(() => '---:').join('|')}|`);
+    rows(a, r, c).forEach((row, i) => out.push(`| Δ${rn[i]} | ${row.map((x) => formatNumber(x, digits)).join(' | ')} |`));
+    out.push('');
+  };
+  table('A', lin.A, lin.n, lin.n, lin.states, lin.states);
+  table('B', lin.B, lin.n, lin.m, lin.states, lin.inputs);
+  table('C', lin.C, lin.p, lin.n, lin.outputs, lin.states);
+  table('D', lin.D, lin.p, lin.m, lin.outputs, lin.inputs);
+  out.push(`Eigenvalues [1/${lin.timeUnit}]: ${formatEigen(linearEigen(lin), digits) || '(none)'}`);
+  return out.join('\n');
+}

@@ -1,0 +1,189 @@
+/**
+ * Lowering: bound syntax tree + unit facts → a system of symbolic residual equations over numbered slots
+ * (constants, state components and their highest derivatives, inputs, vars, outputs), all in SI.
+ * Model equations come first (residual lhs − rhs), then one definition per output (y − h = 0).
+ */
+import type * as A from './ast';
+import { BUILTIN_CONSTANTS, type BoundModel, type ModelSymbol } from './binder';
+import * as E from './expr';
+import type { Span } from './text';
+import { literalSI, type UnitFacts } from './unitChecker';
+import { ONE_UNIT, type UnitInfo } from './units';
+
+export type SlotKind = 'const' | 'state' | 'deriv' | 'input' | 'var' | 'output';
+
+export interface Slot {
+  id: number;
+  kind: SlotKind;
+  symbol: ModelSymbol;
+  /** Derivative order (0 for the value itself). */
+  order: number;
+  /** Display name: "x", "x'", "x''". */
+  name: string;
+  /** value_SI = value_declared*scale + offset; derivatives are per model time unit. */
+  scale: number;
+  offset: number;
+  unit: UnitInfo;
+}
+
+export interface ModelEquation {
+  residual: E.Node;
+  /** Where it came from. */
+  kind: 'equation' | 'output';
+  span: Span;
+  /** Short text for messages, e.g. the equation's source text. */
+  label: string;
+  /** Index in bound.equations, or index of the output. */
+  index: number;
+}
+
+export interface LoweredModel {
+  slots: Slot[];
+  equations: ModelEquation[];
+  /** Number of model equations (the rest are output definitions). */
+  nModelEquations: number;
+  /** Slot id of state `name` with derivative order k. */
+  slotOf(symbol: ModelSymbol, order?: number): number;
+  /** First-order state components, in order (x, x', … up to order n−1 per state). */
+  stateComponents: number[];
+  /** Highest derivative of each state (x^(n)), same order as states; -1 for a state never differentiated. */
+  highest: number[];
+  /** For each state component, the slot its time derivative is. */
+  componentDerivative: number[];
+  algebraic: number[]; // vars, then outputs
+  inputs: number[];
+  consts: number[];
+  /** Constants' SI values and zeros elsewhere. */
+  baseValues: Float64Array;
+  timeScale: number;
+  timeUnit: string;
+}
+
+const primeName = (n: string, k: number) => n + "'".repeat(k);
+
+export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
+  const slots: Slot[] = [];
+  const index = new Map<ModelSymbol, number[]>();
+  const tscale = u.time.scale;
+  const add = (s: ModelSymbol, kind: SlotKind, order: number): number => {
+    const base = u.units.get(s) ?? ONE_UNIT;
+    const id = slots.length;
+    const scale = base.scale / Math.pow(tscale, order);
+    const unitText = order === 0 ? base.text : `${base.text === '1' ? '1' : base.text}/${u.time.text || '1'}${order > 1 ? '^' + order : ''}`;
+    slots.push({
+      id, kind, symbol: s, order, name: primeName(s.name, order), scale, offset: order === 0 ? base.offset : 0,
+      unit: order === 0 ? base : { text: unitText, dims: base.dims, scale, offset: 0 },
+    });
+    let arr = index.get(s);
+    if (!arr) index.set(s, (arr = []));
+    arr[order] = id;
+    return id;
+  };
+  const consts = m.consts.map((s) => add(s, 'const', 0));
+  const stateComponents: number[] = [];
+  const highest: number[] = [];
+  const componentDerivative: number[] = [];
+  for (const s of m.states) {
+    const n = Math.max(1, s.order);
+    const ids: number[] = [];
+    for (let k = 0; k < n; k++) ids.push(add(s, 'state', k));
+    const h = add(s, 'deriv', n);
+    stateComponents.push(...ids);
+    for (let k = 0; k < n; k++) componentDerivative.push(k + 1 < n ? ids[k + 1] : h);
+    highest.push(h);
+  }
+  const inputs = m.inputs.map((s) => add(s, 'input', 0));
+  const algebraic = [...m.vars.map((s) => add(s, 'var', 0)), ...m.outputs.map((s) => add(s, 'output', 0))];
+
+  const slotOf = (s: ModelSymbol, order = 0): number => {
+    const arr = index.get(s);
+    if (!arr || arr[order] === undefined) return -1;
+    return arr[order];
+  };
+
+  const baseValues = new Float64Array(slots.length);
+  m.consts.forEach((s, i) => (baseValues[consts[i]] = u.constValues.get(s) ?? NaN));
+
+  const low = (e: A.Expr): E.Node => {
+    switch (e.kind) {
+      case 'number': return E.num(literalSI(e).value, e.span);
+      case 'name': {
+        if (e.name in BUILTIN_CONSTANTS && !m.symbols.has(e.name)) return E.num(BUILTIN_CONSTANTS[e.name], e.span);
+        const s = m.symbols.get(e.name);
+        if (!s) return E.num(NaN, e.span);
+        const id = slotOf(s, e.primes);
+        return id < 0 ? E.num(NaN, e.span) : E.sym(id, e.span);
+      }
+      case 'unary': return e.op === '-' ? E.neg(low(e.arg), e.span) : low(e.arg);
+      case 'binary': {
+        const a = low(e.left);
+        const b = low(e.right);
+        switch (e.op) {
+          case '+': return E.add([a, b], e.span);
+          case '-': return E.sub(a, b, e.span);
+          case '*': return E.mul([a, b], e.span);
+          case '/': return E.div(a, b, e.span);
+          case '^': return E.pow(a, b, e.span);
+        }
+        return E.num(NaN);
+      }
+      case 'call': {
+        if (!(e.fn in E.BUILTIN_ARITY)) return E.num(NaN, e.span);
+        return E.fn(e.fn as E.FnName, e.args.map(low), e.span);
+      }
+      case 'error': return E.num(NaN, e.span);
+    }
+  };
+
+  const equations: ModelEquation[] = [];
+  m.equations.forEach((eq, i) => {
+    equations.push({ residual: E.sub(low(eq.lhs), low(eq.rhs)), kind: 'equation', span: eq.span, label: oneLine(text.slice(eq.span.start, eq.span.end)), index: i });
+  });
+  const nModelEquations = equations.length;
+  m.outputs.forEach((s, i) => {
+    const d = s.decl as A.OutputDecl;
+    const y = E.sym(slotOf(s), d.name.span);
+    equations.push({ residual: E.sub(y, low(d.value)), kind: 'output', span: d.span, label: `output ${s.name}`, index: i });
+  });
+
+  return {
+    slots, equations, nModelEquations, slotOf, stateComponents, highest, componentDerivative, algebraic, inputs, consts, baseValues,
+    timeScale: tscale, timeUnit: u.time.text,
+  };
+}
+
+function oneLine(s: string): string {
+  const t = s.replace(/\s+/g, ' ').trim();
+  return t.length > 60 ? t.slice(0, 57) + '…' : t;
+}
+
+/** Lowers a constant expression (point values, sweep bounds) to SI with constants resolved from `values`. */
+export function constExprValue(e: A.Expr, m: BoundModel, lm: LoweredModel, values: ArrayLike<number>): number {
+  switch (e.kind) {
+    case 'number': return literalSI(e).value;
+    case 'name': {
+      if (e.name in BUILTIN_CONSTANTS && !m.symbols.has(e.name)) return BUILTIN_CONSTANTS[e.name];
+      const s = m.symbols.get(e.name);
+      if (!s || s.kind !== 'const') return NaN;
+      return values[lm.slotOf(s)];
+    }
+    case 'unary': return e.op === '-' ? -constExprValue(e.arg, m, lm, values) : constExprValue(e.arg, m, lm, values);
+    case 'binary': {
+      const a = constExprValue(e.left, m, lm, values);
+      const b = constExprValue(e.right, m, lm, values);
+      switch (e.op) {
+        case '+': return a + b;
+        case '-': return a - b;
+        case '*': return a * b;
+        case '/': return a / b;
+        case '^': return Math.pow(a, b);
+      }
+      return NaN;
+    }
+    case 'call': {
+      const f = (Math as unknown as Record<string, (...x: number[]) => number>)[e.fn];
+      return typeof f === 'function' ? f(...e.args.map((a) => constExprValue(a, m, lm, values))) : NaN;
+    }
+    default: return NaN;
+  }
+}

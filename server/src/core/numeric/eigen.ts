@@ -1,0 +1,993 @@
+/**
+ * Eigenvalues and eigenvectors of real non-symmetric dense matrices.
+ *
+ * eigenvalues():
+ *  1. The directed graph of the non-zero pattern is split into strongly
+ *     connected components (Tarjan). A symmetric permutation then makes the
+ *     matrix block upper triangular, so the eigenvalues are those of the
+ *     diagonal blocks (principal submatrices on the components). This is exact
+ *     and turns cascades (e.g. tanks draining into each other one way) into
+ *     1×1 blocks.
+ *  2. A block that is tridiagonal with positive products b_k·c_k of its
+ *     off-diagonal pairs (two-way chains) is similar, by a diagonal scaling,
+ *     to a symmetric tridiagonal matrix with off-diagonal sqrt(b_k·c_k); its
+ *     eigenvalues come from the implicit QL method in O(m²).
+ *  3. Any other block is balanced (power-of-two diagonal similarity), reduced
+ *     to upper Hessenberg form by Householder reflections, and its
+ *     eigenvalues found by Francis' implicit double-shift QR iteration with
+ *     deflation on small subdiagonals and exceptional shifts (the classical
+ *     hqr algorithm; only the active window is updated).
+ *
+ * eigenvectors(): the whole matrix is balanced, reduced to Hessenberg form
+ * with the reflections accumulated, brought to real Schur form by the same
+ * double-shift QR with full updates (hqr2), and the eigenvectors of the
+ * quasi-triangular form are found by back substitution and transformed back.
+ * Left eigenvectors are the rows of the inverse of the (complex) right
+ * eigenvector matrix: if A V = V Λ then V⁻¹ A = Λ V⁻¹, so row k of V⁻¹ is
+ * w_kᴴ with w_kᴴ A = λ_k w_kᴴ and w_kᴴ v_k = 1 by construction. For a defective
+ * (or nearly defective) matrix V is (nearly) singular and the left vectors are
+ * correspondingly inaccurate; when V is exactly singular they are NaN.
+ */
+import { complexSolve, DenseMatrix } from './dense';
+
+export interface EigenResult {
+  re: Float64Array;
+  im: Float64Array;
+  /** false when the QR iteration did not converge for some eigenvalue (those are NaN). */
+  converged: boolean;
+}
+
+export interface EigenVectorsResult extends EigenResult {
+  /** Right eigenvectors: column k (real part / imaginary part) belongs to eigenvalue k; unit 2-norm, largest component real positive. */
+  vrRe: DenseMatrix;
+  vrIm: DenseMatrix;
+  /** Left eigenvectors w_k (column k), w_kᴴ A = λ_k w_kᴴ, normalised so that w_kᴴ v_k = 1. */
+  vlRe: DenseMatrix;
+  vlIm: DenseMatrix;
+}
+
+const EPS = 2.220446049250313e-16;
+/** QR iterations allowed per deflation before giving up. */
+const MAX_ITER = 120;
+
+function checkSquare(a: DenseMatrix, who: string): void {
+  if (a.rows !== a.cols) throw new RangeError(`${who}: matrix must be square, got ${a.rows}x${a.cols}`);
+  if (a.data.length !== a.rows * a.cols) throw new RangeError(`${who}: data length does not match the size`);
+}
+
+function allFinite(d: Float64Array): boolean {
+  for (let i = 0; i < d.length; i++) if (!Number.isFinite(d[i])) return false;
+  return true;
+}
+
+// ---------------------------------------------------------------- structure
+
+/** Strongly connected components of the graph i → j (a_ij ≠ 0, i ≠ j); members sorted ascending. */
+function stronglyConnected(a: Float64Array, n: number): Int32Array[] {
+  const index = new Int32Array(n).fill(-1);
+  const low = new Int32Array(n);
+  const onStack = new Uint8Array(n);
+  const stack = new Int32Array(n);
+  let sp = 0;
+  const call = new Int32Array(n);
+  const nextJ = new Int32Array(n);
+  let cp = 0;
+  let counter = 0;
+  const comps: Int32Array[] = [];
+  for (let root = 0; root < n; root++) {
+    if (index[root] >= 0) continue;
+    index[root] = low[root] = counter++;
+    stack[sp++] = root;
+    onStack[root] = 1;
+    call[cp++] = root;
+    nextJ[root] = 0;
+    while (cp > 0) {
+      const v = call[cp - 1];
+      let j = nextJ[v];
+      const row = v * n;
+      while (j < n && (j === v || a[row + j] === 0)) j++;
+      if (j < n) {
+        nextJ[v] = j + 1;
+        if (index[j] < 0) {
+          index[j] = low[j] = counter++;
+          stack[sp++] = j;
+          onStack[j] = 1;
+          call[cp++] = j;
+          nextJ[j] = 0;
+        } else if (onStack[j] && index[j] < low[v]) {
+          low[v] = index[j];
+        }
+      } else {
+        cp--;
+        if (low[v] === index[v]) {
+          let start = sp - 1;
+          while (stack[start] !== v) start--;
+          const comp = stack.slice(start, sp);
+          for (let t = start; t < sp; t++) onStack[stack[t]] = 0;
+          sp = start;
+          comp.sort();
+          comps.push(comp);
+        }
+        if (cp > 0) {
+          const parent = call[cp - 1];
+          if (low[v] < low[parent]) low[parent] = low[v];
+        }
+      }
+    }
+  }
+  return comps;
+}
+
+// ------------------------------------------------------- symmetric tridiagonal
+
+/**
+ * If the m×m block b is tridiagonal with b[k][k+1]·b[k+1][k] > 0 for all k,
+ * returns the diagonal and off-diagonal of the similar symmetric tridiagonal
+ * matrix; otherwise null.
+ */
+function symmetrizableTridiagonal(b: Float64Array, m: number): { d: Float64Array; e: Float64Array } | null {
+  for (let i = 0; i < m; i++) {
+    const row = i * m;
+    for (let j = 0; j < i - 1; j++) if (b[row + j] !== 0) return null;
+    for (let j = i + 2; j < m; j++) if (b[row + j] !== 0) return null;
+  }
+  const d = new Float64Array(m);
+  const e = new Float64Array(m);
+  for (let k = 0; k < m; k++) d[k] = b[k * m + k];
+  for (let k = 0; k + 1 < m; k++) {
+    const up = b[k * m + k + 1];
+    const lo = b[(k + 1) * m + k];
+    if (!(up * lo > 0) && !(Math.sign(up) === Math.sign(lo) && up !== 0)) return null;
+    e[k] = Math.sqrt(Math.abs(up)) * Math.sqrt(Math.abs(lo));
+  }
+  return { d, e };
+}
+
+function hypot2(a: number, b: number): number {
+  const x = Math.abs(a), y = Math.abs(b);
+  if (x > y) {
+    const r = y / x;
+    return x * Math.sqrt(1 + r * r);
+  }
+  if (y === 0) return 0;
+  const r = x / y;
+  return y * Math.sqrt(1 + r * r);
+}
+
+/**
+ * Eigenvalues of the symmetric tridiagonal matrix (diagonal d, off-diagonal
+ * e[k] between k and k+1) by the implicit QL method with Wilkinson-type shift.
+ * d is overwritten by the eigenvalues; returns false if an eigenvalue did not converge.
+ */
+function tql1(d: Float64Array, e: Float64Array, n: number): boolean {
+  if (n > 0) e[n - 1] = 0;
+  let f = 0;
+  let tst1 = 0;
+  for (let l = 0; l < n; l++) {
+    tst1 = Math.max(tst1, Math.abs(d[l]) + Math.abs(e[l]));
+    let m = l;
+    while (m < n) {
+      if (Math.abs(e[m]) <= EPS * tst1) break;
+      m++;
+    }
+    if (m === n) m = n - 1;
+    if (m > l) {
+      let iter = 0;
+      do {
+        if (++iter > MAX_ITER) return false;
+        let g = d[l];
+        let p = (d[l + 1] - g) / (2 * e[l]);
+        let r = hypot2(p, 1);
+        if (p < 0) r = -r;
+        d[l] = e[l] / (p + r);
+        d[l + 1] = e[l] * (p + r);
+        const dl1 = d[l + 1];
+        let h = g - d[l];
+        for (let i = l + 2; i < n; i++) d[i] -= h;
+        f += h;
+        p = d[m];
+        let c = 1, c2 = 1, c3 = 1;
+        const el1 = e[l + 1];
+        let s = 0, s2 = 0;
+        for (let i = m - 1; i >= l; i--) {
+          c3 = c2;
+          c2 = c;
+          s2 = s;
+          g = c * e[i];
+          h = c * p;
+          r = hypot2(p, e[i]);
+          e[i + 1] = s * r;
+          s = e[i] / r;
+          c = p / r;
+          p = c * d[i] - s * g;
+          d[i + 1] = h + s * (c * g + s * d[i]);
+        }
+        p = (-s * s2 * c3 * el1 * e[l]) / dl1;
+        e[l] = s * p;
+        d[l] = c * p;
+      } while (Math.abs(e[l]) > EPS * tst1);
+    }
+    d[l] = d[l] + f;
+    e[l] = 0;
+  }
+  return true;
+}
+
+// ------------------------------------------------------------ general blocks
+
+/** Balances h in place (D⁻¹ h D with power-of-two D); returns D's diagonal. Scaling only, no permutations. */
+function balance(h: Float64Array, n: number): Float64Array {
+  const scale = new Float64Array(n).fill(1);
+  const RADIX = 2;
+  const SQRDX = RADIX * RADIX;
+  let noconv = true;
+  let sweeps = 0;
+  while (noconv && sweeps++ < 200) {
+    noconv = false;
+    for (let i = 0; i < n; i++) {
+      let c = 0, r = 0;
+      const row = i * n;
+      for (let j = 0; j < n; j++) {
+        if (j === i) continue;
+        c += Math.abs(h[j * n + i]);
+        r += Math.abs(h[row + j]);
+      }
+      if (c !== 0 && r !== 0) {
+        let g = r / RADIX;
+        let f = 1;
+        const s = c + r;
+        let guard = 0;
+        while (c < g && guard++ < 2100) {
+          f *= RADIX;
+          c *= SQRDX;
+        }
+        g = r * RADIX;
+        guard = 0;
+        while (c > g && guard++ < 2100) {
+          f /= RADIX;
+          c /= SQRDX;
+        }
+        if ((c + r) / f < 0.95 * s) {
+          noconv = true;
+          g = 1 / f;
+          scale[i] *= f;
+          for (let j = 0; j < n; j++) h[row + j] *= g;
+          for (let j = 0; j < n; j++) h[j * n + i] *= f;
+        }
+      }
+    }
+  }
+  return scale;
+}
+
+/**
+ * Householder reduction to upper Hessenberg form (in place). The Householder
+ * vectors stay below the subdiagonal of h (column m−1, rows > m) with their
+ * leading element in ort[m]; applied[m] marks the reflections actually used
+ * (columns already in Hessenberg shape are skipped).
+ */
+function orthes(h: Float64Array, n: number, ort: Float64Array, applied: Uint8Array): void {
+  const high = n - 1;
+  const f = new Float64Array(n);
+  for (let m = 1; m <= high - 1; m++) {
+    let below = 0;
+    for (let i = m + 1; i <= high; i++) below += Math.abs(h[i * n + m - 1]);
+    if (below === 0) continue;
+    applied[m] = 1;
+    const scale = below + Math.abs(h[m * n + m - 1]);
+    let hh = 0;
+    for (let i = high; i >= m; i--) {
+      ort[i] = h[i * n + m - 1] / scale;
+      hh += ort[i] * ort[i];
+    }
+    let g = Math.sqrt(hh);
+    if (ort[m] > 0) g = -g;
+    hh -= ort[m] * g;
+    ort[m] -= g;
+    // left: rows m..high, columns m..n-1
+    for (let j = m; j < n; j++) f[j] = 0;
+    for (let i = m; i <= high; i++) {
+      const oi = ort[i];
+      if (oi === 0) continue;
+      const row = i * n;
+      for (let j = m; j < n; j++) f[j] += oi * h[row + j];
+    }
+    for (let j = m; j < n; j++) f[j] /= hh;
+    for (let i = m; i <= high; i++) {
+      const oi = ort[i];
+      if (oi === 0) continue;
+      const row = i * n;
+      for (let j = m; j < n; j++) h[row + j] -= f[j] * oi;
+    }
+    // right: rows 0..high, columns m..high
+    for (let i = 0; i <= high; i++) {
+      const row = i * n;
+      let s = 0;
+      for (let j = m; j <= high; j++) s += ort[j] * h[row + j];
+      s /= hh;
+      if (s === 0) continue;
+      for (let j = m; j <= high; j++) h[row + j] -= s * ort[j];
+    }
+    ort[m] = scale * ort[m];
+    h[m * n + m - 1] = scale * g;
+  }
+}
+
+/** Accumulates the reflections of orthes into an orthogonal matrix (row-major). */
+function ortran(h: Float64Array, n: number, ort: Float64Array, applied: Uint8Array): Float64Array {
+  const v = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) v[i * n + i] = 1;
+  const high = n - 1;
+  const g = new Float64Array(n);
+  for (let m = high - 1; m >= 1; m--) {
+    if (!applied[m]) continue;
+    const hm = h[m * n + m - 1];
+    if (hm === 0) continue;
+    for (let i = m + 1; i <= high; i++) ort[i] = h[i * n + m - 1];
+    for (let j = m; j <= high; j++) g[j] = 0;
+    for (let i = m; i <= high; i++) {
+      const oi = ort[i];
+      if (oi === 0) continue;
+      const row = i * n;
+      for (let j = m; j <= high; j++) g[j] += oi * v[row + j];
+    }
+    for (let j = m; j <= high; j++) g[j] = g[j] / ort[m] / hm;
+    for (let i = m; i <= high; i++) {
+      const oi = ort[i];
+      if (oi === 0) continue;
+      const row = i * n;
+      for (let j = m; j <= high; j++) v[row + j] += g[j] * oi;
+    }
+  }
+  return v;
+}
+
+function zeroBelowSubdiagonal(h: Float64Array, n: number): void {
+  for (let i = 2; i < n; i++) {
+    const row = i * n;
+    for (let j = 0; j < i - 1; j++) h[row + j] = 0;
+  }
+}
+
+/**
+ * Eigenvalues of the upper Hessenberg matrix h (n×n, destroyed) by the
+ * Francis double-shift QR iteration; only the active window is updated.
+ * Results go to wr/wi at offset off. Returns false if some eigenvalue did not
+ * converge (those entries are set to NaN).
+ */
+function hqr(h: Float64Array, nn: number, wr: Float64Array, wi: Float64Array, off: number): boolean {
+  let norm = 0;
+  for (let i = 0; i < nn; i++) {
+    for (let j = Math.max(i - 1, 0); j < nn; j++) norm += Math.abs(h[i * nn + j]);
+  }
+  let en = nn - 1;
+  let iter = 0;
+  let exshift = 0;
+  let p = 0, q = 0, r = 0, s = 0, z = 0, w = 0, x = 0, y = 0;
+  while (en >= 0) {
+    // look for a single small subdiagonal element
+    let l = en;
+    while (l > 0) {
+      s = Math.abs(h[(l - 1) * nn + l - 1]) + Math.abs(h[l * nn + l]);
+      if (s === 0) s = norm;
+      if (Math.abs(h[l * nn + l - 1]) < EPS * s) break;
+      l--;
+    }
+    if (l === en) {
+      // one root
+      wr[off + en] = h[en * nn + en] + exshift;
+      wi[off + en] = 0;
+      en--;
+      iter = 0;
+    } else if (l === en - 1) {
+      // two roots
+      w = h[en * nn + en - 1] * h[(en - 1) * nn + en];
+      p = (h[(en - 1) * nn + en - 1] - h[en * nn + en]) / 2;
+      q = p * p + w;
+      z = Math.sqrt(Math.abs(q));
+      x = h[en * nn + en] + exshift;
+      if (q >= 0) {
+        z = p >= 0 ? p + z : p - z;
+        wr[off + en - 1] = x + z;
+        wr[off + en] = z !== 0 ? x - w / z : x + z;
+        wi[off + en - 1] = 0;
+        wi[off + en] = 0;
+      } else {
+        wr[off + en - 1] = x + p;
+        wr[off + en] = x + p;
+        wi[off + en - 1] = z;
+        wi[off + en] = -z;
+      }
+      en -= 2;
+      iter = 0;
+    } else {
+      // form shift
+      x = h[en * nn + en];
+      y = h[(en - 1) * nn + en - 1];
+      w = h[en * nn + en - 1] * h[(en - 1) * nn + en];
+      if (iter > 0 && iter % 10 === 0) {
+        if (iter % 30 !== 0) {
+          // Wilkinson's ad hoc exceptional shift
+          exshift += x;
+          for (let i = 0; i <= en; i++) h[i * nn + i] -= x;
+          s = Math.abs(h[en * nn + en - 1]) + Math.abs(h[(en - 1) * nn + en - 2]);
+          x = y = 0.75 * s;
+          w = -0.4375 * s * s;
+        } else {
+          // a second kind of exceptional shift (root of the trailing 2×2 nearest x)
+          s = (y - x) / 2;
+          s = s * s + w;
+          if (s > 0) {
+            s = Math.sqrt(s);
+            if (y < x) s = -s;
+            s = x - w / ((y - x) / 2 + s);
+            for (let i = 0; i <= en; i++) h[i * nn + i] -= s;
+            exshift += s;
+            x = y = w = 0.964;
+          }
+        }
+      }
+      iter++;
+      if (iter > MAX_ITER) {
+        for (let i = 0; i <= en; i++) {
+          wr[off + i] = NaN;
+          wi[off + i] = NaN;
+        }
+        return false;
+      }
+      // look for two consecutive small subdiagonal elements
+      let m = en - 2;
+      while (m >= l) {
+        z = h[m * nn + m];
+        r = x - z;
+        s = y - z;
+        p = (r * s - w) / h[(m + 1) * nn + m] + h[m * nn + m + 1];
+        q = h[(m + 1) * nn + m + 1] - z - r - s;
+        r = h[(m + 2) * nn + m + 1];
+        s = Math.abs(p) + Math.abs(q) + Math.abs(r);
+        p /= s;
+        q /= s;
+        r /= s;
+        if (m === l) break;
+        if (
+          Math.abs(h[m * nn + m - 1]) * (Math.abs(q) + Math.abs(r)) <
+          EPS * (Math.abs(p) * (Math.abs(h[(m - 1) * nn + m - 1]) + Math.abs(z) + Math.abs(h[(m + 1) * nn + m + 1])))
+        ) {
+          break;
+        }
+        m--;
+      }
+      for (let i = m + 2; i <= en; i++) {
+        h[i * nn + i - 2] = 0;
+        if (i > m + 2) h[i * nn + i - 3] = 0;
+      }
+      // double QR step on rows l..en and columns m..en
+      for (let k = m; k <= en - 1; k++) {
+        const notlast = k !== en - 1;
+        if (k !== m) {
+          p = h[k * nn + k - 1];
+          q = h[(k + 1) * nn + k - 1];
+          r = notlast ? h[(k + 2) * nn + k - 1] : 0;
+          x = Math.abs(p) + Math.abs(q) + Math.abs(r);
+          if (x === 0) continue;
+          p /= x;
+          q /= x;
+          r /= x;
+        }
+        s = Math.sqrt(p * p + q * q + r * r);
+        if (p < 0) s = -s;
+        if (s === 0) continue;
+        if (k !== m) h[k * nn + k - 1] = -s * x;
+        else if (l !== m) h[k * nn + k - 1] = -h[k * nn + k - 1];
+        p += s;
+        x = p / s;
+        y = q / s;
+        z = r / s;
+        q /= p;
+        r /= p;
+        const r0 = k * nn, r1 = r0 + nn, r2 = r1 + nn;
+        // row modification (columns k..en)
+        if (notlast) {
+          for (let j = k; j <= en; j++) {
+            const t = h[r0 + j] + q * h[r1 + j] + r * h[r2 + j];
+            h[r0 + j] -= t * x;
+            h[r1 + j] -= t * y;
+            h[r2 + j] -= t * z;
+          }
+        } else {
+          for (let j = k; j <= en; j++) {
+            const t = h[r0 + j] + q * h[r1 + j];
+            h[r0 + j] -= t * x;
+            h[r1 + j] -= t * y;
+          }
+        }
+        // column modification (rows l..min(en, k+3))
+        const iend = Math.min(en, k + 3);
+        if (notlast) {
+          for (let i = l, o = l * nn + k; i <= iend; i++, o += nn) {
+            const t = x * h[o] + y * h[o + 1] + z * h[o + 2];
+            h[o] -= t;
+            h[o + 1] -= t * q;
+            h[o + 2] -= t * r;
+          }
+        } else {
+          for (let i = l, o = l * nn + k; i <= iend; i++, o += nn) {
+            const t = x * h[o] + y * h[o + 1];
+            h[o] -= t;
+            h[o + 1] -= t * q;
+          }
+        }
+      }
+    }
+  }
+  return true;
+}
+
+/** Eigenvalues of a general m×m block (destroyed), written at offset off. */
+function generalBlock(b: Float64Array, m: number, wr: Float64Array, wi: Float64Array, off: number): boolean {
+  balance(b, m);
+  const ort = new Float64Array(m);
+  const applied = new Uint8Array(m);
+  orthes(b, m, ort, applied);
+  zeroBelowSubdiagonal(b, m);
+  return hqr(b, m, wr, wi, off);
+}
+
+/** Eigenvalues of the square matrix a (not modified). Complex pairs are adjacent, positive imaginary part first. */
+export function eigenvalues(a: DenseMatrix): EigenResult {
+  checkSquare(a, 'eigenvalues');
+  const n = a.rows;
+  const re = new Float64Array(n);
+  const im = new Float64Array(n);
+  if (n === 0) return { re, im, converged: true };
+  if (!allFinite(a.data)) {
+    re.fill(NaN);
+    im.fill(NaN);
+    return { re, im, converged: false };
+  }
+  const comps = stronglyConnected(a.data, n);
+  let pos = 0;
+  let converged = true;
+  for (const comp of comps) {
+    const m = comp.length;
+    if (m === 1) {
+      re[pos] = a.data[comp[0] * n + comp[0]];
+      im[pos] = 0;
+      pos++;
+      continue;
+    }
+    const b = new Float64Array(m * m);
+    for (let r = 0; r < m; r++) {
+      const src = comp[r] * n;
+      for (let c = 0; c < m; c++) b[r * m + c] = a.data[src + comp[c]];
+    }
+    const tri = symmetrizableTridiagonal(b, m);
+    if (tri && tql1(tri.d, tri.e, m)) {
+      for (let k = 0; k < m; k++) {
+        re[pos + k] = tri.d[k];
+        im[pos + k] = 0;
+      }
+    } else if (!generalBlock(b, m, re, im, pos)) {
+      converged = false;
+    }
+    pos += m;
+  }
+  return { re, im, converged };
+}
+
+// ---------------------------------------------------------------- vectors
+
+/**
+ * Real Schur form of the Hessenberg matrix h (full updates) with the
+ * transformations accumulated into v, then eigenvectors by back substitution;
+ * on return v holds the real eigenvector storage (complex pair: columns k and
+ * k+1 hold the real and imaginary parts of the vector of wr[k] + i·wi[k],
+ * wi[k] > 0). Returns false if the iteration did not converge.
+ */
+function hqr2(h: Float64Array, nn: number, v: Float64Array, d: Float64Array, e: Float64Array): boolean {
+  let norm = 0;
+  for (let i = 0; i < nn; i++) {
+    for (let j = Math.max(i - 1, 0); j < nn; j++) norm += Math.abs(h[i * nn + j]);
+  }
+  let n = nn - 1;
+  let iter = 0;
+  let exshift = 0;
+  let p = 0, q = 0, r = 0, s = 0, z = 0, t = 0, w = 0, x = 0, y = 0;
+  const H = (i: number, j: number): number => h[i * nn + j];
+  while (n >= 0) {
+    let l = n;
+    while (l > 0) {
+      s = Math.abs(H(l - 1, l - 1)) + Math.abs(H(l, l));
+      if (s === 0) s = norm;
+      if (Math.abs(H(l, l - 1)) < EPS * s) break;
+      l--;
+    }
+    if (l === n) {
+      h[n * nn + n] += exshift;
+      d[n] = h[n * nn + n];
+      e[n] = 0;
+      n--;
+      iter = 0;
+    } else if (l === n - 1) {
+      w = H(n, n - 1) * H(n - 1, n);
+      p = (H(n - 1, n - 1) - H(n, n)) / 2;
+      q = p * p + w;
+      z = Math.sqrt(Math.abs(q));
+      h[n * nn + n] += exshift;
+      h[(n - 1) * nn + n - 1] += exshift;
+      x = H(n, n);
+      if (q >= 0) {
+        z = p >= 0 ? p + z : p - z;
+        d[n - 1] = x + z;
+        d[n] = d[n - 1];
+        if (z !== 0) d[n] = x - w / z;
+        e[n - 1] = 0;
+        e[n] = 0;
+        x = H(n, n - 1);
+        s = Math.abs(x) + Math.abs(z);
+        p = x / s;
+        q = z / s;
+        r = Math.sqrt(p * p + q * q);
+        p /= r;
+        q /= r;
+        // row modification
+        const a0 = (n - 1) * nn, a1 = n * nn;
+        for (let j = n - 1; j < nn; j++) {
+          z = h[a0 + j];
+          h[a0 + j] = q * z + p * h[a1 + j];
+          h[a1 + j] = q * h[a1 + j] - p * z;
+        }
+        // column modification
+        for (let i = 0; i <= n; i++) {
+          const o = i * nn;
+          z = h[o + n - 1];
+          h[o + n - 1] = q * z + p * h[o + n];
+          h[o + n] = q * h[o + n] - p * z;
+        }
+        // accumulate
+        for (let i = 0; i < nn; i++) {
+          const o = i * nn;
+          z = v[o + n - 1];
+          v[o + n - 1] = q * z + p * v[o + n];
+          v[o + n] = q * v[o + n] - p * z;
+        }
+      } else {
+        d[n - 1] = x + p;
+        d[n] = x + p;
+        e[n - 1] = z;
+        e[n] = -z;
+      }
+      n -= 2;
+      iter = 0;
+    } else {
+      x = H(n, n);
+      y = H(n - 1, n - 1);
+      w = H(n, n - 1) * H(n - 1, n);
+      if (iter > 0 && iter % 10 === 0) {
+        if (iter % 30 !== 0) {
+          exshift += x;
+          for (let i = 0; i <= n; i++) h[i * nn + i] -= x;
+          s = Math.abs(H(n, n - 1)) + Math.abs(H(n - 1, n - 2));
+          x = y = 0.75 * s;
+          w = -0.4375 * s * s;
+        } else {
+          s = (y - x) / 2;
+          s = s * s + w;
+          if (s > 0) {
+            s = Math.sqrt(s);
+            if (y < x) s = -s;
+            s = x - w / ((y - x) / 2 + s);
+            for (let i = 0; i <= n; i++) h[i * nn + i] -= s;
+            exshift += s;
+            x = y = w = 0.964;
+          }
+        }
+      }
+      iter++;
+      if (iter > MAX_ITER) return false;
+      let m = n - 2;
+      while (m >= l) {
+        z = H(m, m);
+        r = x - z;
+        s = y - z;
+        p = (r * s - w) / H(m + 1, m) + H(m, m + 1);
+        q = H(m + 1, m + 1) - z - r - s;
+        r = H(m + 2, m + 1);
+        s = Math.abs(p) + Math.abs(q) + Math.abs(r);
+        p /= s;
+        q /= s;
+        r /= s;
+        if (m === l) break;
+        if (
+          Math.abs(H(m, m - 1)) * (Math.abs(q) + Math.abs(r)) <
+          EPS * (Math.abs(p) * (Math.abs(H(m - 1, m - 1)) + Math.abs(z) + Math.abs(H(m + 1, m + 1))))
+        ) {
+          break;
+        }
+        m--;
+      }
+      for (let i = m + 2; i <= n; i++) {
+        h[i * nn + i - 2] = 0;
+        if (i > m + 2) h[i * nn + i - 3] = 0;
+      }
+      for (let k = m; k <= n - 1; k++) {
+        const notlast = k !== n - 1;
+        if (k !== m) {
+          p = H(k, k - 1);
+          q = H(k + 1, k - 1);
+          r = notlast ? H(k + 2, k - 1) : 0;
+          x = Math.abs(p) + Math.abs(q) + Math.abs(r);
+          if (x === 0) continue;
+          p /= x;
+          q /= x;
+          r /= x;
+        }
+        s = Math.sqrt(p * p + q * q + r * r);
+        if (p < 0) s = -s;
+        if (s === 0) continue;
+        if (k !== m) h[k * nn + k - 1] = -s * x;
+        else if (l !== m) h[k * nn + k - 1] = -H(k, k - 1);
+        p += s;
+        x = p / s;
+        y = q / s;
+        z = r / s;
+        q /= p;
+        r /= p;
+        const r0 = k * nn, r1 = r0 + nn, r2 = r1 + nn;
+        for (let j = k; j < nn; j++) {
+          let tt = h[r0 + j] + q * h[r1 + j];
+          if (notlast) {
+            tt += r * h[r2 + j];
+            h[r2 + j] -= tt * z;
+          }
+          h[r0 + j] -= tt * x;
+          h[r1 + j] -= tt * y;
+        }
+        const iend = Math.min(n, k + 3);
+        for (let i = 0, o = k; i <= iend; i++, o += nn) {
+          let tt = x * h[o] + y * h[o + 1];
+          if (notlast) {
+            tt += z * h[o + 2];
+            h[o + 2] -= tt * r;
+          }
+          h[o] -= tt;
+          h[o + 1] -= tt * q;
+        }
+        for (let i = 0, o = k; i < nn; i++, o += nn) {
+          let tt = x * v[o] + y * v[o + 1];
+          if (notlast) {
+            tt += z * v[o + 2];
+            v[o + 2] -= tt * r;
+          }
+          v[o] -= tt;
+          v[o + 1] -= tt * q;
+        }
+      }
+    }
+  }
+
+  // back substitution: eigenvectors of the quasi-triangular form
+  if (norm === 0) return true;
+  let cdivr = 0, cdivi = 0;
+  const cdiv = (xr: number, xi: number, yr: number, yi: number): void => {
+    let rr: number, dd: number;
+    if (Math.abs(yr) > Math.abs(yi)) {
+      rr = yi / yr;
+      dd = yr + rr * yi;
+      cdivr = (xr + rr * xi) / dd;
+      cdivi = (xi - rr * xr) / dd;
+    } else {
+      rr = yr / yi;
+      dd = yi + rr * yr;
+      cdivr = (rr * xr + xi) / dd;
+      cdivi = (rr * xi - xr) / dd;
+    }
+  };
+  for (n = nn - 1; n >= 0; n--) {
+    p = d[n];
+    q = e[n];
+    if (q === 0) {
+      // real vector
+      let l = n;
+      h[n * nn + n] = 1;
+      for (let i = n - 1; i >= 0; i--) {
+        w = H(i, i) - p;
+        r = 0;
+        for (let j = l; j <= n; j++) r += H(i, j) * H(j, n);
+        if (e[i] < 0) {
+          z = w;
+          s = r;
+        } else {
+          l = i;
+          if (e[i] === 0) {
+            h[i * nn + n] = w !== 0 ? -r / w : -r / (EPS * norm);
+          } else {
+            x = H(i, i + 1);
+            y = H(i + 1, i);
+            q = (d[i] - p) * (d[i] - p) + e[i] * e[i];
+            t = (x * s - z * r) / q;
+            h[i * nn + n] = t;
+            h[(i + 1) * nn + n] = Math.abs(x) > Math.abs(z) ? (-r - w * t) / x : (-s - y * t) / z;
+          }
+          t = Math.abs(H(i, n));
+          if (EPS * t * t > 1) {
+            for (let j = i; j <= n; j++) h[j * nn + n] /= t;
+          }
+        }
+      }
+    } else if (q < 0) {
+      // complex vector (columns n-1: real part, n: imaginary part)
+      let l = n - 1;
+      if (Math.abs(H(n, n - 1)) > Math.abs(H(n - 1, n))) {
+        h[(n - 1) * nn + n - 1] = q / H(n, n - 1);
+        h[(n - 1) * nn + n] = -(H(n, n) - p) / H(n, n - 1);
+      } else {
+        cdiv(0, -H(n - 1, n), H(n - 1, n - 1) - p, q);
+        h[(n - 1) * nn + n - 1] = cdivr;
+        h[(n - 1) * nn + n] = cdivi;
+      }
+      h[n * nn + n - 1] = 0;
+      h[n * nn + n] = 1;
+      for (let i = n - 2; i >= 0; i--) {
+        let ra = 0, sa = 0;
+        for (let j = l; j <= n; j++) {
+          ra += H(i, j) * H(j, n - 1);
+          sa += H(i, j) * H(j, n);
+        }
+        w = H(i, i) - p;
+        if (e[i] < 0) {
+          z = w;
+          r = ra;
+          s = sa;
+        } else {
+          l = i;
+          if (e[i] === 0) {
+            cdiv(-ra, -sa, w, q);
+            h[i * nn + n - 1] = cdivr;
+            h[i * nn + n] = cdivi;
+          } else {
+            x = H(i, i + 1);
+            y = H(i + 1, i);
+            let vr = (d[i] - p) * (d[i] - p) + e[i] * e[i] - q * q;
+            const vi = (d[i] - p) * 2 * q;
+            if (vr === 0 && vi === 0) {
+              vr = EPS * norm * (Math.abs(w) + Math.abs(q) + Math.abs(x) + Math.abs(y) + Math.abs(z));
+            }
+            cdiv(x * r - z * ra + q * sa, x * s - z * sa - q * ra, vr, vi);
+            h[i * nn + n - 1] = cdivr;
+            h[i * nn + n] = cdivi;
+            if (Math.abs(x) > Math.abs(z) + Math.abs(q)) {
+              h[(i + 1) * nn + n - 1] = (-ra - w * H(i, n - 1) + q * H(i, n)) / x;
+              h[(i + 1) * nn + n] = (-sa - w * H(i, n) - q * H(i, n - 1)) / x;
+            } else {
+              cdiv(-r - y * H(i, n - 1), -s - y * H(i, n), z, q);
+              h[(i + 1) * nn + n - 1] = cdivr;
+              h[(i + 1) * nn + n] = cdivi;
+            }
+          }
+          t = Math.max(Math.abs(H(i, n - 1)), Math.abs(H(i, n)));
+          if (EPS * t * t > 1) {
+            for (let j = i; j <= n; j++) {
+              h[j * nn + n - 1] /= t;
+              h[j * nn + n] /= t;
+            }
+          }
+        }
+      }
+    }
+  }
+  // back transformation: v := v · (upper triangle of h)
+  const tmp = new Float64Array(nn);
+  for (let i = 0; i < nn; i++) {
+    const vo = i * nn;
+    tmp.fill(0);
+    for (let k = 0; k < nn; k++) {
+      const vik = v[vo + k];
+      if (vik === 0) continue;
+      const ho = k * nn;
+      for (let j = k; j < nn; j++) tmp[j] += vik * h[ho + j];
+    }
+    v.set(tmp, vo);
+  }
+  return true;
+}
+
+/** Eigenvalues with right and left eigenvectors of the square matrix a (not modified). */
+export function eigenvectors(a: DenseMatrix): EigenVectorsResult {
+  checkSquare(a, 'eigenvectors');
+  const n = a.rows;
+  const re = new Float64Array(n);
+  const im = new Float64Array(n);
+  const mk = (): DenseMatrix => ({ rows: n, cols: n, data: new Float64Array(n * n) });
+  const vrRe = mk(), vrIm = mk(), vlRe = mk(), vlIm = mk();
+  const fail = (): EigenVectorsResult => {
+    re.fill(NaN);
+    im.fill(NaN);
+    vrRe.data.fill(NaN);
+    vrIm.data.fill(NaN);
+    vlRe.data.fill(NaN);
+    vlIm.data.fill(NaN);
+    return { re, im, converged: false, vrRe, vrIm, vlRe, vlIm };
+  };
+  if (n === 0) return { re, im, converged: true, vrRe, vrIm, vlRe, vlIm };
+  if (!allFinite(a.data)) return fail();
+  const h = new Float64Array(a.data);
+  const scale = balance(h, n);
+  const ort = new Float64Array(n);
+  const applied = new Uint8Array(n);
+  orthes(h, n, ort, applied);
+  const v = ortran(h, n, ort, applied);
+  zeroBelowSubdiagonal(h, n);
+  if (!hqr2(h, n, v, re, im)) return fail();
+  // undo balancing: eigenvectors of A are D · (eigenvectors of D⁻¹AD)
+  for (let i = 0; i < n; i++) {
+    const si = scale[i];
+    if (si === 1) continue;
+    for (let j = 0; j < n; j++) v[i * n + j] *= si;
+  }
+  // complex right eigenvectors, column k for eigenvalue k
+  const R = vrRe.data, I = vrIm.data;
+  for (let k = 0; k < n; k++) {
+    if (im[k] === 0) {
+      for (let i = 0; i < n; i++) R[i * n + k] = v[i * n + k];
+    } else if (im[k] > 0 && k + 1 < n) {
+      for (let i = 0; i < n; i++) {
+        const xr = v[i * n + k], xi = v[i * n + k + 1];
+        R[i * n + k] = xr;
+        I[i * n + k] = xi;
+        R[i * n + k + 1] = xr;
+        I[i * n + k + 1] = -xi;
+      }
+      k++;
+    }
+  }
+  // normalise: unit 2-norm, largest component real positive
+  for (let k = 0; k < n; k++) {
+    let nrm2 = 0, best = -1, bi = 0;
+    for (let i = 0; i < n; i++) {
+      const xr = R[i * n + k], xi = I[i * n + k];
+      const m2 = xr * xr + xi * xi;
+      nrm2 += m2;
+      if (m2 > best * (1 + 1e-12)) {
+        best = m2;
+        bi = i;
+      }
+    }
+    const nrm = Math.sqrt(nrm2);
+    if (!(nrm > 0)) continue;
+    const pr = R[bi * n + k], pi = I[bi * n + k];
+    const pm = Math.hypot(pr, pi);
+    // multiply by conj(p)/(|p|·nrm)
+    const cr = pr / (pm * nrm), ci = -pi / (pm * nrm);
+    for (let i = 0; i < n; i++) {
+      const xr = R[i * n + k], xi = I[i * n + k];
+      R[i * n + k] = xr * cr - xi * ci;
+      I[i * n + k] = xr * ci + xi * cr;
+    }
+    I[bi * n + k] = 0;
+  }
+  // left eigenvectors from V⁻¹
+  const eye: DenseMatrix = mk();
+  for (let i = 0; i < n; i++) eye.data[i * n + i] = 1;
+  try {
+    const inv = complexSolve(vrRe, vrIm, eye, mk());
+    for (let k = 0; k < n; k++) {
+      for (let i = 0; i < n; i++) {
+        vlRe.data[i * n + k] = inv.re.data[k * n + i];
+        vlIm.data[i * n + k] = -inv.im.data[k * n + i];
+      }
+    }
+  } catch {
+    vlRe.data.fill(NaN);
+    vlIm.data.fill(NaN);
+  }
+  return { re, im, converged: true, vrRe, vrIm, vlRe, vlIm };
+}
+
+/** Eigenvalues as {re, im} pairs sorted by real part, then imaginary part, ascending. */
+export function sortEigen(re: Float64Array, im: Float64Array): { re: number; im: number }[] {
+  const out: { re: number; im: number }[] = [];
+  for (let i = 0; i < re.length; i++) out.push({ re: re[i], im: im[i] });
+  out.sort((p, q) => (p.re !== q.re ? p.re - q.re : p.im - q.im));
+  return out;
+}

@@ -1,0 +1,932 @@
+/**
+ * Sparse LU factorisation of a square matrix.
+ *
+ * Method (right-looking, Markowitz ordering with threshold pivoting):
+ *  1. The triplets are assembled (duplicates summed, exact zeros dropped) and
+ *     the matrix is equilibrated with power-of-two row and column scales so
+ *     that every row and column has largest magnitude about 1.
+ *  2. At each step a pivot (i, j) is chosen among the entries of the active
+ *     submatrix that pass the row-wise threshold test
+ *     |a_ij| >= u · max_k |a_ik| (u = pivotTolerance, default 0.1) with the
+ *     smallest Markowitz cost (r_i − 1)(c_j − 1); the search scans rows and
+ *     columns by increasing count and stops after a few candidates (Zlatev's
+ *     limited search) or as soon as no cheaper pivot can exist.
+ *  3. When the active submatrix becomes dense (more than DENSE_SWITCH of its
+ *     entries non-zero) the rest is factorised as a dense block with partial
+ *     pivoting; its factors are kept in the same sparse step format.
+ *
+ * Numerical singularity: an entry is negligible when its magnitude is at most
+ * singularTolerance (default 1e-12) times the magnitude history of its row in
+ * the equilibrated matrix (the largest value the row has held or has had
+ * subtracted from it). A row or column of the active submatrix whose entries
+ * are all negligible (or that has no entries) cannot be pivoted; it is removed
+ * and reported, and the factorisation goes on with the rest, so that every
+ * row and column that could not be pivoted is listed.
+ */
+
+/** One matrix entry; duplicates (same row and col) are summed. */
+export interface SparseEntry {
+  row: number;
+  col: number;
+  val: number;
+}
+
+/** Triplet (coordinate) form: the first nnz entries of rows/cols/vals are used. */
+export interface SparseTriplets {
+  rows: Int32Array;
+  cols: Int32Array;
+  vals: Float64Array;
+  nnz: number;
+}
+
+export interface SparseLUOptions {
+  /** Threshold u of the row-wise pivot test (0 < u ≤ 1, default 0.1). */
+  pivotTolerance?: number;
+  /** Relative magnitude below which an entry counts as numerically zero (default 1e-12). */
+  singularTolerance?: number;
+}
+
+export interface SparseLUResult {
+  /** false when numerically singular. */
+  ok: boolean;
+  n: number;
+  /** Numerical rank found (number of pivots). */
+  rank: number;
+  /** Columns (unknowns) that got no acceptable pivot (empty when ok), ascending. */
+  singularCols: number[];
+  /** Rows (equations) left without a pivot (empty when ok), ascending. */
+  singularRows: number[];
+  /** Returns x with A x = b (only when ok, throws otherwise); does not modify b. */
+  solve(b: Float64Array): Float64Array;
+  /** Returns x with Aᵀ x = b (only when ok, throws otherwise); does not modify b. */
+  solveTranspose(b: Float64Array): Float64Array;
+  /** Estimate of the 1-norm condition number ‖A‖₁‖A⁻¹‖₁ (Hager/Higham estimator); Infinity when not ok. */
+  conditionEstimate(): number;
+  /** Number of stored entries of L and U (multipliers + upper entries + pivots). */
+  readonly factorNnz: number;
+}
+
+/** Fraction of non-zeros in the active submatrix above which the dense kernel takes over. */
+const DENSE_SWITCH = 0.3;
+/** Number of rows/columns examined once a candidate pivot is known (Zlatev). */
+const SEARCH_LIMIT = 4;
+
+class I32Buf {
+  a: Int32Array;
+  n = 0;
+  constructor(cap: number) {
+    this.a = new Int32Array(Math.max(cap, 16));
+  }
+  push(v: number): void {
+    if (this.n === this.a.length) {
+      const b = new Int32Array(this.a.length * 2);
+      b.set(this.a);
+      this.a = b;
+    }
+    this.a[this.n++] = v;
+  }
+  trim(): Int32Array {
+    return this.a.slice(0, this.n);
+  }
+}
+
+class F64Buf {
+  a: Float64Array;
+  n = 0;
+  constructor(cap: number) {
+    this.a = new Float64Array(Math.max(cap, 16));
+  }
+  push(v: number): void {
+    if (this.n === this.a.length) {
+      const b = new Float64Array(this.a.length * 2);
+      b.set(this.a);
+      this.a = b;
+    }
+    this.a[this.n++] = v;
+  }
+  trim(): Float64Array {
+    return this.a.slice(0, this.n);
+  }
+}
+
+function pow2Inverse(x: number): number {
+  if (!(x > 0) || !Number.isFinite(x)) return 1;
+  return Math.pow(2, -Math.round(Math.log2(x)));
+}
+
+function isTriplets(e: SparseEntry[] | SparseTriplets): e is SparseTriplets {
+  return !Array.isArray(e);
+}
+
+/** Factorises the n×n matrix given by its entries. */
+export function sparseLU(
+  n: number,
+  entries: SparseEntry[] | SparseTriplets,
+  opts?: SparseLUOptions,
+): SparseLUResult {
+  if (!Number.isInteger(n) || n < 0) throw new RangeError(`sparseLU: invalid size ${n}`);
+  let u = opts?.pivotTolerance ?? 0.1;
+  if (!(u > 0)) u = 1e-6;
+  if (u > 1) u = 1;
+  const singTol = opts?.singularTolerance ?? 1e-12;
+
+  // ---------------------------------------------------------------- assemble
+  let nzIn: number;
+  let tr: Int32Array, tc: Int32Array, tv: Float64Array;
+  if (isTriplets(entries)) {
+    nzIn = entries.nnz;
+    tr = entries.rows;
+    tc = entries.cols;
+    tv = entries.vals;
+    if (tr.length < nzIn || tc.length < nzIn || tv.length < nzIn) throw new RangeError('sparseLU: nnz exceeds array lengths');
+  } else {
+    nzIn = entries.length;
+    tr = new Int32Array(nzIn);
+    tc = new Int32Array(nzIn);
+    tv = new Float64Array(nzIn);
+    for (let k = 0; k < nzIn; k++) {
+      const e = entries[k];
+      tr[k] = e.row;
+      tc[k] = e.col;
+      tv[k] = e.val;
+      if (e.row !== tr[k] || e.col !== tc[k]) throw new RangeError(`sparseLU: bad index (${e.row}, ${e.col})`);
+    }
+  }
+  const rowCount = new Int32Array(n + 1);
+  for (let k = 0; k < nzIn; k++) {
+    const i = tr[k], j = tc[k];
+    if (i < 0 || i >= n || j < 0 || j >= n) throw new RangeError(`sparseLU: entry (${i}, ${j}) outside ${n}x${n}`);
+    rowCount[i + 1]++;
+  }
+  for (let i = 0; i < n; i++) rowCount[i + 1] += rowCount[i];
+  const csrCol = new Int32Array(nzIn);
+  const csrVal = new Float64Array(nzIn);
+  {
+    const fillPos = rowCount.slice(0, n);
+    for (let k = 0; k < nzIn; k++) {
+      const p = fillPos[tr[k]]++;
+      csrCol[p] = tc[k];
+      csrVal[p] = tv[k];
+    }
+  }
+  // sum duplicates, drop zeros, flag non-finite rows/cols
+  const rowPtr = new Int32Array(n + 1);
+  const badRow = new Uint8Array(n);
+  const badCol = new Uint8Array(n);
+  let anyBad = false;
+  {
+    const where = new Int32Array(n).fill(-1);
+    let w = 0;
+    for (let i = 0; i < n; i++) {
+      const start = w;
+      for (let p = rowCount[i]; p < rowCount[i + 1]; p++) {
+        const j = csrCol[p];
+        if (where[j] >= start) csrVal[where[j]] += csrVal[p];
+        else {
+          where[j] = w;
+          csrCol[w] = j;
+          csrVal[w] = csrVal[p];
+          w++;
+        }
+      }
+      // compact away zeros, detect non-finite
+      let w2 = start;
+      for (let p = start; p < w; p++) {
+        const v = csrVal[p];
+        if (!Number.isFinite(v)) {
+          badRow[i] = 1;
+          badCol[csrCol[p]] = 1;
+          anyBad = true;
+        }
+        if (v !== 0) {
+          csrCol[w2] = csrCol[p];
+          csrVal[w2] = v;
+          w2++;
+        }
+      }
+      w = w2;
+      rowPtr[i + 1] = w;
+    }
+  }
+  // original 1-norm (for the condition estimate)
+  const colAbsSum = new Float64Array(n);
+  for (let p = 0; p < rowPtr[n]; p++) colAbsSum[csrCol[p]] += Math.abs(csrVal[p]);
+  let normA1 = 0;
+  for (let j = 0; j < n; j++) if (colAbsSum[j] > normA1) normA1 = colAbsSum[j];
+
+  // ----------------------------------------------------------- equilibrate
+  const rs = new Float64Array(n).fill(1);
+  const cs = new Float64Array(n).fill(1);
+  {
+    for (let i = 0; i < n; i++) {
+      if (badRow[i]) continue;
+      let mx = 0;
+      for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
+        if (badCol[csrCol[p]]) continue;
+        const v = Math.abs(csrVal[p]);
+        if (v > mx) mx = v;
+      }
+      rs[i] = pow2Inverse(mx);
+    }
+    const cmax = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      if (badRow[i]) continue;
+      for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
+        const j = csrCol[p];
+        if (badCol[j]) continue;
+        const v = Math.abs(csrVal[p]) * rs[i];
+        if (v > cmax[j]) cmax[j] = v;
+      }
+    }
+    for (let j = 0; j < n; j++) cs[j] = pow2Inverse(cmax[j]);
+  }
+
+  // ------------------------------------------------------- active structure
+  const rowActive = new Uint8Array(n);
+  const colActive = new Uint8Array(n);
+  const rStart = new Int32Array(n);
+  const rLen = new Int32Array(n);
+  const rCap = new Int32Array(n);
+  const cStart = new Int32Array(n);
+  const cLen = new Int32Array(n);
+  const cCap = new Int32Array(n);
+  const rowMax = new Float64Array(n);
+  const hist = new Float64Array(n);
+
+  const singularRows: number[] = [];
+  const singularCols: number[] = [];
+
+  // column counts first
+  const colCnt = new Int32Array(n);
+  let nnz0 = 0;
+  for (let i = 0; i < n; i++) {
+    if (badRow[i]) continue;
+    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
+      const j = csrCol[p];
+      if (badCol[j]) continue;
+      colCnt[j]++;
+      nnz0++;
+    }
+  }
+  let rIdx = new Int32Array(Math.max(16, 2 * nnz0 + 4 * n));
+  let rVal = new Float64Array(rIdx.length);
+  let rTop = 0;
+  let cIdx = new Int32Array(Math.max(16, 2 * nnz0 + 4 * n));
+  let cTop = 0;
+  for (let j = 0; j < n; j++) {
+    if (badCol[j]) continue;
+    const cap = colCnt[j] + 2 + (colCnt[j] >> 1);
+    cStart[j] = cTop;
+    cCap[j] = cap;
+    cTop += cap;
+    colActive[j] = 1;
+  }
+  let activeNnz = 0;
+  for (let i = 0; i < n; i++) {
+    if (badRow[i]) continue;
+    rowActive[i] = 1;
+    let len = 0;
+    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) if (!badCol[csrCol[p]]) len++;
+    const cap = len + 2 + (len >> 1);
+    rStart[i] = rTop;
+    rCap[i] = cap;
+    let mx = 0;
+    let t = rTop;
+    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
+      const j = csrCol[p];
+      if (badCol[j]) continue;
+      const v = csrVal[p] * rs[i] * cs[j];
+      rIdx[t] = j;
+      rVal[t] = v;
+      t++;
+      const av = Math.abs(v);
+      if (av > mx) mx = av;
+      cIdx[cStart[j] + cLen[j]++] = i;
+    }
+    rLen[i] = len;
+    rTop += cap;
+    rowMax[i] = mx;
+    hist[i] = mx;
+    activeNnz += len;
+  }
+  let nAR = 0, nAC = 0;
+  for (let i = 0; i < n; i++) {
+    if (badRow[i]) singularRows.push(i);
+    else nAR++;
+    if (badCol[i]) singularCols.push(i);
+    else nAC++;
+  }
+
+  // count buckets (doubly linked lists)
+  const rHead = new Int32Array(n + 2).fill(-1);
+  const rNext = new Int32Array(n);
+  const rPrev = new Int32Array(n);
+  const rBucket = new Int32Array(n).fill(-1);
+  const cHead = new Int32Array(n + 2).fill(-1);
+  const cNext = new Int32Array(n);
+  const cPrev = new Int32Array(n);
+  const cBucket = new Int32Array(n).fill(-1);
+
+  const unlinkRow = (i: number): void => {
+    const b = rBucket[i];
+    if (b < 0) return;
+    const pv = rPrev[i], nx = rNext[i];
+    if (pv >= 0) rNext[pv] = nx;
+    else rHead[b] = nx;
+    if (nx >= 0) rPrev[nx] = pv;
+    rBucket[i] = -1;
+  };
+  const linkRow = (i: number): void => {
+    const b = rLen[i];
+    if (rBucket[i] === b) return;
+    if (rBucket[i] >= 0) unlinkRow(i);
+    const h = rHead[b];
+    rNext[i] = h;
+    rPrev[i] = -1;
+    if (h >= 0) rPrev[h] = i;
+    rHead[b] = i;
+    rBucket[i] = b;
+  };
+  const unlinkCol = (j: number): void => {
+    const b = cBucket[j];
+    if (b < 0) return;
+    const pv = cPrev[j], nx = cNext[j];
+    if (pv >= 0) cNext[pv] = nx;
+    else cHead[b] = nx;
+    if (nx >= 0) cPrev[nx] = pv;
+    cBucket[j] = -1;
+  };
+  const linkCol = (j: number): void => {
+    const b = cLen[j];
+    if (cBucket[j] === b) return;
+    if (cBucket[j] >= 0) unlinkCol(j);
+    const h = cHead[b];
+    cNext[j] = h;
+    cPrev[j] = -1;
+    if (h >= 0) cPrev[h] = j;
+    cHead[b] = j;
+    cBucket[j] = b;
+  };
+  for (let j = n - 1; j >= 0; j--) if (colActive[j]) linkCol(j);
+  for (let i = n - 1; i >= 0; i--) if (rowActive[i]) linkRow(i);
+
+  // pool management -------------------------------------------------------
+  const compactRows = (extra: number): void => {
+    let live = extra;
+    for (let i = 0; i < n; i++) if (rowActive[i]) live += rCap[i];
+    const size = Math.max(rIdx.length, 2 * live + 16);
+    const ni = new Int32Array(size);
+    const nv = new Float64Array(size);
+    let top = 0;
+    for (let i = 0; i < n; i++) {
+      if (!rowActive[i]) continue;
+      const s = rStart[i], l = rLen[i];
+      ni.set(rIdx.subarray(s, s + l), top);
+      nv.set(rVal.subarray(s, s + l), top);
+      rStart[i] = top;
+      top += rCap[i];
+    }
+    rIdx = ni;
+    rVal = nv;
+    rTop = top;
+  };
+  const growRow = (i: number, need: number): void => {
+    const want = rLen[i] + need;
+    if (want <= rCap[i]) return;
+    const cap = Math.max(want + (want >> 1), 2 * rCap[i], 4);
+    if (rTop + cap > rIdx.length) compactRows(cap);
+    const s = rStart[i], l = rLen[i];
+    rIdx.copyWithin(rTop, s, s + l);
+    rVal.copyWithin(rTop, s, s + l);
+    rStart[i] = rTop;
+    rCap[i] = cap;
+    rTop += cap;
+  };
+  const compactCols = (extra: number): void => {
+    let live = extra;
+    for (let j = 0; j < n; j++) if (colActive[j]) live += cCap[j];
+    const size = Math.max(cIdx.length, 2 * live + 16);
+    const ni = new Int32Array(size);
+    let top = 0;
+    for (let j = 0; j < n; j++) {
+      if (!colActive[j]) continue;
+      const s = cStart[j], l = cLen[j];
+      ni.set(cIdx.subarray(s, s + l), top);
+      cStart[j] = top;
+      top += cCap[j];
+    }
+    cIdx = ni;
+    cTop = top;
+  };
+  const colAppend = (j: number, i: number): void => {
+    if (cLen[j] === cCap[j]) {
+      const cap = Math.max(2 * cCap[j], 4);
+      if (cTop + cap > cIdx.length) compactCols(cap);
+      const s = cStart[j], l = cLen[j];
+      cIdx.copyWithin(cTop, s, s + l);
+      cStart[j] = cTop;
+      cCap[j] = cap;
+      cTop += cap;
+    }
+    cIdx[cStart[j] + cLen[j]++] = i;
+  };
+  const colRemove = (j: number, i: number): void => {
+    const s = cStart[j];
+    const e = s + cLen[j] - 1;
+    for (let t = s; t <= e; t++) {
+      if (cIdx[t] === i) {
+        cIdx[t] = cIdx[e];
+        cLen[j]--;
+        return;
+      }
+    }
+  };
+  /** Removes entry j from row i (if present) and returns its value (0 if absent). */
+  const rowRemove = (i: number, j: number): number => {
+    const s = rStart[i];
+    const e = s + rLen[i] - 1;
+    for (let t = s; t <= e; t++) {
+      if (rIdx[t] === j) {
+        const v = rVal[t];
+        rIdx[t] = rIdx[e];
+        rVal[t] = rVal[e];
+        rLen[i]--;
+        activeNnz--;
+        return v;
+      }
+    }
+    return 0;
+  };
+  const recomputeRowMax = (i: number): void => {
+    let mx = 0;
+    const s = rStart[i], e = s + rLen[i];
+    for (let t = s; t < e; t++) {
+      const av = Math.abs(rVal[t]);
+      if (av > mx) mx = av;
+    }
+    rowMax[i] = mx;
+  };
+
+  const dropRow = (i: number): void => {
+    // row i cannot be pivoted: remove it from the active submatrix
+    const s = rStart[i], e = s + rLen[i];
+    for (let t = s; t < e; t++) {
+      const j = rIdx[t];
+      colRemove(j, i);
+      linkCol(j);
+    }
+    activeNnz -= rLen[i];
+    rLen[i] = 0;
+    unlinkRow(i);
+    rowActive[i] = 0;
+    nAR--;
+    singularRows.push(i);
+  };
+  const dropCol = (j: number): void => {
+    const s = cStart[j], e = s + cLen[j];
+    for (let t = s; t < e; t++) {
+      const i = cIdx[t];
+      rowRemove(i, j);
+      recomputeRowMax(i);
+      linkRow(i);
+    }
+    cLen[j] = 0;
+    unlinkCol(j);
+    colActive[j] = 0;
+    nAC--;
+    singularCols.push(j);
+  };
+
+  // factors ---------------------------------------------------------------
+  const pivRowB = new I32Buf(n);
+  const pivColB = new I32Buf(n);
+  const pivValB = new F64Buf(n);
+  const Lptr = new I32Buf(n + 1);
+  const Li = new I32Buf(2 * nnz0 + 16);
+  const Lv = new F64Buf(2 * nnz0 + 16);
+  const Uptr = new I32Buf(n + 1);
+  const Ui = new I32Buf(2 * nnz0 + 16);
+  const Uv = new F64Buf(2 * nnz0 + 16);
+  Lptr.push(0);
+  Uptr.push(0);
+
+  // work arrays
+  const pivPos = new Int32Array(n).fill(-1);
+  const seen = new Int32Array(n);
+  let stamp = 0;
+  const pCols = new Int32Array(n);
+  const pVals = new Float64Array(n);
+  const fillBuf = new Int32Array(n);
+  const colRowsTmp = new Int32Array(n);
+  const pendRows: number[] = [];
+  const pendCols: number[] = [];
+
+  let P = -1, Q = -1;
+
+  /** Finds a pivot; returns false when no acceptable pivot remains. */
+  const findPivot = (): boolean => {
+    for (;;) {
+      while (rHead[0] >= 0) dropRow(rHead[0]);
+      while (cHead[0] >= 0) dropCol(cHead[0]);
+      if (nAR === 0 || nAC === 0) return false;
+      let bestP = -1, bestQ = -1, bestCost = Infinity, bestRatio = 0;
+      let searched = 0;
+      pendRows.length = 0;
+      pendCols.length = 0;
+      outer: for (let k = 1; k <= n; k++) {
+        const km1 = k - 1;
+        for (let j = cHead[k]; j >= 0; j = cNext[j]) {
+          let any = false;
+          const cs0 = cStart[j], ce = cs0 + cLen[j];
+          for (let t = cs0; t < ce; t++) {
+            const i = cIdx[t];
+            // value of (i, j)
+            const s = rStart[i], e = s + rLen[i];
+            let v = 0;
+            for (let q = s; q < e; q++) {
+              if (rIdx[q] === j) {
+                v = rVal[q];
+                break;
+              }
+            }
+            const av = Math.abs(v);
+            if (!(av > singTol * hist[i])) continue;
+            any = true;
+            if (av >= u * rowMax[i]) {
+              const cost = (rLen[i] - 1) * km1;
+              const ratio = av / rowMax[i];
+              if (cost < bestCost || (cost === bestCost && ratio > bestRatio)) {
+                bestCost = cost;
+                bestRatio = ratio;
+                bestP = i;
+                bestQ = j;
+              }
+            }
+          }
+          if (!any) pendCols.push(j);
+          searched++;
+          if (bestP >= 0 && (bestCost <= km1 * km1 || searched >= SEARCH_LIMIT)) break outer;
+        }
+        for (let i = rHead[k]; i >= 0; i = rNext[i]) {
+          const rm = rowMax[i];
+          const negl = singTol * hist[i];
+          if (!(rm > negl)) {
+            pendRows.push(i);
+            continue;
+          }
+          const thr = Math.max(u * rm, negl);
+          const s = rStart[i], e = s + rLen[i];
+          for (let q = s; q < e; q++) {
+            const av = Math.abs(rVal[q]);
+            if (av >= thr && av > negl) {
+              const cost = km1 * (cLen[rIdx[q]] - 1);
+              const ratio = av / rm;
+              if (cost < bestCost || (cost === bestCost && ratio > bestRatio)) {
+                bestCost = cost;
+                bestRatio = ratio;
+                bestP = i;
+                bestQ = rIdx[q];
+              }
+            }
+          }
+          searched++;
+          if (bestP >= 0 && (bestCost <= km1 * km1 || searched >= SEARCH_LIMIT)) break outer;
+        }
+      }
+      if (pendRows.length > 0 || pendCols.length > 0) {
+        for (const i of pendRows) if (rowActive[i]) dropRow(i);
+        for (const j of pendCols) {
+          if (!colActive[j]) continue;
+          // re-check: dropping rows may have changed nothing numerically, but column may now be empty
+          dropCol(j);
+        }
+        continue;
+      }
+      if (bestP < 0) return false;
+      P = bestP;
+      Q = bestQ;
+      return true;
+    }
+  };
+
+  const eliminate = (p: number, q: number): void => {
+    // pivot row: record U entries, scatter
+    const ps = rStart[p], pe = ps + rLen[p];
+    let piv = 0;
+    let np = 0;
+    for (let t = ps; t < pe; t++) {
+      const j = rIdx[t];
+      const v = rVal[t];
+      if (j === q) piv = v;
+      else {
+        pCols[np] = j;
+        pVals[np] = v;
+        pivPos[j] = np;
+        np++;
+        Ui.push(j);
+        Uv.push(v);
+      }
+      colRemove(j, p);
+    }
+    pivRowB.push(p);
+    pivColB.push(q);
+    pivValB.push(piv);
+    Uptr.push(Ui.n);
+    activeNnz -= rLen[p];
+    rLen[p] = 0;
+    unlinkRow(p);
+    rowActive[p] = 0;
+    nAR--;
+    const histP = hist[p];
+    // rows to update
+    const nq = cLen[q];
+    colRowsTmp.set(cIdx.subarray(cStart[q], cStart[q] + nq));
+    cLen[q] = 0;
+    unlinkCol(q);
+    colActive[q] = 0;
+    nAC--;
+    for (let r = 0; r < nq; r++) {
+      const i = colRowsTmp[r];
+      const aiq = rowRemove(i, q);
+      const l = aiq / piv;
+      Li.push(i);
+      Lv.push(l);
+      stamp++;
+      let s = rStart[i];
+      let len = rLen[i];
+      let mx = 0;
+      for (let t = s; t < s + len; t++) {
+        const m = pivPos[rIdx[t]];
+        let v = rVal[t];
+        if (m >= 0) {
+          v -= l * pVals[m];
+          rVal[t] = v;
+          seen[m] = stamp;
+        }
+        const av = Math.abs(v);
+        if (av > mx) mx = av;
+      }
+      let nf = 0;
+      for (let m = 0; m < np; m++) if (seen[m] !== stamp) fillBuf[nf++] = m;
+      if (nf > 0) {
+        growRow(i, nf);
+        s = rStart[i];
+        for (let f = 0; f < nf; f++) {
+          const m = fillBuf[f];
+          const j = pCols[m];
+          const v = -l * pVals[m];
+          rIdx[s + len] = j;
+          rVal[s + len] = v;
+          len++;
+          const av = Math.abs(v);
+          if (av > mx) mx = av;
+          colAppend(j, i);
+        }
+        rLen[i] = len;
+        activeNnz += nf;
+      }
+      rowMax[i] = mx;
+      let h = hist[i];
+      if (mx > h) h = mx;
+      const g = Math.abs(l) * histP;
+      if (g > h) h = g;
+      hist[i] = h;
+      linkRow(i);
+    }
+    Lptr.push(Li.n);
+    for (let m = 0; m < np; m++) {
+      const j = pCols[m];
+      pivPos[j] = -1;
+      linkCol(j);
+    }
+  };
+
+  const densePhase = (): void => {
+    const R: number[] = [];
+    const C: number[] = [];
+    for (let i = 0; i < n; i++) if (rowActive[i]) R.push(i);
+    for (let j = 0; j < n; j++) if (colActive[j]) C.push(j);
+    const nr = R.length, nc = C.length;
+    const loc = pivPos; // reuse as column -> local index map
+    for (let c = 0; c < nc; c++) loc[C[c]] = c;
+    const M = new Float64Array(nr * nc);
+    const h = new Float64Array(nr);
+    for (let r = 0; r < nr; r++) {
+      const i = R[r];
+      const s = rStart[i], e = s + rLen[i];
+      for (let t = s; t < e; t++) M[r * nc + loc[rIdx[t]]] = rVal[t];
+      h[r] = hist[i];
+    }
+    for (let c = 0; c < nc; c++) loc[C[c]] = -1;
+    const live = new Int32Array(nr);
+    for (let r = 0; r < nr; r++) live[r] = r;
+    let nLive = nr;
+    const nzIdx = new Int32Array(nc);
+    for (let c = 0; c < nc; c++) {
+      if (nLive === 0) {
+        singularCols.push(C[c]);
+        continue;
+      }
+      let best = -1;
+      let bmax = 0;
+      for (let t = 0; t < nLive; t++) {
+        const r = live[t];
+        const av = Math.abs(M[r * nc + c]);
+        if (av > singTol * h[r] && av > bmax) {
+          bmax = av;
+          best = t;
+        }
+      }
+      if (best < 0) {
+        singularCols.push(C[c]);
+        continue;
+      }
+      const p = live[best];
+      live[best] = live[--nLive];
+      const po = p * nc;
+      const piv = M[po + c];
+      pivRowB.push(R[p]);
+      pivColB.push(C[c]);
+      pivValB.push(piv);
+      let nz = 0;
+      for (let c2 = c + 1; c2 < nc; c2++) {
+        const v = M[po + c2];
+        if (v !== 0) {
+          nzIdx[nz++] = c2;
+          Ui.push(C[c2]);
+          Uv.push(v);
+        }
+      }
+      Uptr.push(Ui.n);
+      const denseRow = 2 * nz > nc - c - 1;
+      const hp = h[p];
+      for (let t = 0; t < nLive; t++) {
+        const r = live[t];
+        const ro = r * nc;
+        const x = M[ro + c];
+        if (x === 0) continue;
+        const l = x / piv;
+        Li.push(R[r]);
+        Lv.push(l);
+        if (denseRow) {
+          for (let c2 = c + 1; c2 < nc; c2++) M[ro + c2] -= l * M[po + c2];
+        } else {
+          for (let s = 0; s < nz; s++) {
+            const c2 = nzIdx[s];
+            M[ro + c2] -= l * M[po + c2];
+          }
+        }
+        const g = Math.abs(l) * hp;
+        if (g > h[r]) h[r] = g;
+      }
+      Lptr.push(Li.n);
+    }
+    for (let t = 0; t < nLive; t++) singularRows.push(R[live[t]]);
+    for (let r = 0; r < nr; r++) rowActive[R[r]] = 0;
+    for (let c = 0; c < nc; c++) colActive[C[c]] = 0;
+    nAR = 0;
+    nAC = 0;
+  };
+
+  // ------------------------------------------------------------ main loop
+  for (;;) {
+    if (nAR === 0 || nAC === 0) break;
+    if (activeNnz > DENSE_SWITCH * nAR * nAC) {
+      densePhase();
+      break;
+    }
+    if (!findPivot()) break;
+    eliminate(P, Q);
+  }
+  for (let i = 0; i < n; i++) if (rowActive[i]) singularRows.push(i);
+  for (let j = 0; j < n; j++) if (colActive[j]) singularCols.push(j);
+  singularRows.sort((x, y) => x - y);
+  singularCols.sort((x, y) => x - y);
+
+  const pivRow = pivRowB.trim();
+  const pivCol = pivColB.trim();
+  const pivVal = pivValB.trim();
+  const lp = Lptr.trim();
+  const li = Li.trim();
+  const lv = Lv.trim();
+  const up = Uptr.trim();
+  const ui = Ui.trim();
+  const uv = Uv.trim();
+  const rank = pivRow.length;
+  const ok = rank === n && !anyBad;
+
+  const notOk = (): never => {
+    throw new Error('sparseLU: matrix is singular; solve is unavailable');
+  };
+
+  const solveInto = (b: Float64Array, y: Float64Array, x: Float64Array): void => {
+    for (let i = 0; i < n; i++) y[i] = b[i] * rs[i];
+    for (let k = 0; k < rank; k++) {
+      const yp = y[pivRow[k]];
+      if (yp === 0) continue;
+      for (let t = lp[k], e = lp[k + 1]; t < e; t++) y[li[t]] -= lv[t] * yp;
+    }
+    for (let k = rank - 1; k >= 0; k--) {
+      let s = y[pivRow[k]];
+      for (let t = up[k], e = up[k + 1]; t < e; t++) s -= uv[t] * x[ui[t]];
+      x[pivCol[k]] = s / pivVal[k];
+    }
+    for (let j = 0; j < n; j++) x[j] *= cs[j];
+  };
+  const solve = (b: Float64Array): Float64Array => {
+    if (!ok) notOk();
+    if (b.length !== n) throw new RangeError(`sparseLU.solve: expected ${n} values, got ${b.length}`);
+    const y = new Float64Array(n);
+    const x = new Float64Array(n);
+    solveInto(b, y, x);
+    return x;
+  };
+  const solveTranspose = (b: Float64Array): Float64Array => {
+    if (!ok) notOk();
+    if (b.length !== n) throw new RangeError(`sparseLU.solveTranspose: expected ${n} values, got ${b.length}`);
+    // Aᵀ z = b  ⇔  Ãᵀ w = Dc b with z = Dr w
+    const c = new Float64Array(n);
+    for (let j = 0; j < n; j++) c[j] = b[j] * cs[j];
+    const tk = new Float64Array(rank);
+    for (let k = 0; k < rank; k++) {
+      const t0 = c[pivCol[k]] / pivVal[k];
+      tk[k] = t0;
+      if (t0 === 0) continue;
+      for (let t = up[k], e = up[k + 1]; t < e; t++) c[ui[t]] -= uv[t] * t0;
+    }
+    const w = new Float64Array(n);
+    for (let k = rank - 1; k >= 0; k--) {
+      let s = tk[k];
+      for (let t = lp[k], e = lp[k + 1]; t < e; t++) s -= lv[t] * w[li[t]];
+      w[pivRow[k]] = s;
+    }
+    for (let i = 0; i < n; i++) w[i] *= rs[i];
+    return w;
+  };
+
+  let condCache = -1;
+  const conditionEstimate = (): number => {
+    if (!ok) return Infinity;
+    if (n === 0) return 0;
+    if (condCache >= 0) return condCache;
+    // Hager's method with Higham's refinements (1-norm of A⁻¹)
+    let x = new Float64Array(n).fill(1 / n);
+    let est = 0;
+    let lastJ = -1;
+    for (let iter = 0; iter < 5; iter++) {
+      const y = solve(x);
+      let ny = 0;
+      for (let i = 0; i < n; i++) ny += Math.abs(y[i]);
+      if (iter > 0 && ny <= est) {
+        est = Math.max(est, ny);
+        break;
+      }
+      est = ny;
+      const xi = new Float64Array(n);
+      for (let i = 0; i < n; i++) xi[i] = y[i] >= 0 ? 1 : -1;
+      const z = solveTranspose(xi);
+      let jm = 0, zm = -1, zx = 0;
+      for (let i = 0; i < n; i++) {
+        const az = Math.abs(z[i]);
+        if (az > zm) {
+          zm = az;
+          jm = i;
+        }
+        zx += z[i] * x[i];
+      }
+      if (zm <= zx || jm === lastJ) break;
+      lastJ = jm;
+      x = new Float64Array(n);
+      x[jm] = 1;
+    }
+    // Higham's alternative vector guards against underestimation
+    const alt = new Float64Array(n);
+    for (let i = 0; i < n; i++) alt[i] = (i % 2 === 0 ? 1 : -1) * (1 + i / Math.max(1, n - 1));
+    const ya = solve(alt);
+    let na = 0;
+    for (let i = 0; i < n; i++) na += Math.abs(ya[i]);
+    const altEst = (2 * na) / (3 * n);
+    if (altEst > est) est = altEst;
+    condCache = normA1 * est;
+    return condCache;
+  };
+
+  return {
+    ok,
+    n,
+    rank,
+    singularCols,
+    singularRows,
+    solve,
+    solveTranspose,
+    conditionEstimate,
+    factorNnz: li.length + ui.length + rank,
+  };
+}
+
+/** Solves A x = b for each right-hand side after one factorisation. */
+export function solveMany(lu: SparseLUResult, rhsColumns: Float64Array[]): Float64Array[] {
+  const out: Float64Array[] = new Array(rhsColumns.length);
+  for (let k = 0; k < rhsColumns.length; k++) out[k] = lu.solve(rhsColumns[k]);
+  return out;
+}

@@ -1,0 +1,446 @@
+/**
+ * Point solver: the steady state (every derivative zero) of a point block. Unknowns are the states,
+ * inputs, vars and outputs not fixed with "="; equations are the model equations and output definitions.
+ * Newton's method with the analytic sparse Jacobian, scaled by each unknown's magnitude, a backtracking
+ * line search and a Levenberg–Marquardt fallback; deterministic, with an iteration cap.
+ */
+import type * as A from './ast';
+import type { BoundModel } from './binder';
+import { diag, type Diagnostic } from './diagnostics';
+import * as E from './expr';
+import { compileModel, type CompiledModel } from './jacobian';
+import { constExprValue, type LoweredModel } from './model';
+import { sparseLU } from './numeric/sparseLU';
+import { leftovers, listNames, maximumMatching } from './structure';
+import type { Span } from './text';
+
+export interface PointSolution {
+  name: string;
+  block: A.PointBlock;
+  ok: boolean;
+  /** SI values of every slot at the point (constants included, derivatives zero). */
+  values: Float64Array;
+  /** The starting values (guesses), SI. */
+  guesses: Float64Array;
+  /** Slot ids that were unknown at this point. */
+  unknowns: number[];
+  fixed: Set<number>;
+  iterations: number;
+  /** Largest scaled residual at the end. */
+  residual: number;
+  diagnostics: Diagnostic[];
+}
+
+export interface SolveOptions {
+  maxIterations?: number;
+  tolerance?: number;
+  /** Override values (SI) for slots, e.g. a sweep's varied value; they count as fixed. */
+  overrides?: Map<number, number>;
+  /** Starting values (SI) for unknown slots, e.g. the previous sweep point. */
+  start?: Float64Array;
+}
+
+/** Values (SI) the point fixes, the guesses, and the constants as the point sees them. */
+export function pointSetup(m: BoundModel, lm: LoweredModel, block: A.PointBlock, overrides?: Map<number, number>) {
+  const values = Float64Array.from(lm.baseValues);
+  const fixed = new Set<number>();
+  const guessed = new Set<number>();
+  const lineOf = new Map<number, A.PointLine>();
+  // constants: overrides from the point, then re-evaluate dependants in order
+  const constOverride = new Map<number, A.PointLine>();
+  for (const l of block.lines) {
+    const s = m.symbols.get(l.name.name);
+    if (s && s.kind === 'const' && l.mode === 'fixed') constOverride.set(lm.slotOf(s), l);
+  }
+  for (const s of m.consts) {
+    const id = lm.slotOf(s);
+    const ov = overrides?.get(id);
+    if (ov !== undefined) values[id] = ov;
+    else {
+      const l = constOverride.get(id);
+      const expr = l ? l.value : (s.decl as A.ConstDecl).value;
+      values[id] = l ? pointValue(l.value, id) : constExprValue(expr, m, lm, values);
+    }
+  }
+  function pointValue(e: A.Expr, id: number): number {
+    const v = constExprValue(e, m, lm, values);
+    const slot = lm.slots[id];
+    // a bare number is in the declared unit of the variable
+    return hasUnit(e) ? v : v * slot.scale + slot.offset;
+  }
+  for (const l of block.lines) {
+    const s = m.symbols.get(l.name.name);
+    if (!s || s.kind === 'const' || l.primes) continue;
+    const id = lm.slotOf(s);
+    if (id < 0) continue;
+    values[id] = pointValue(l.value, id);
+    lineOf.set(id, l);
+    if (l.mode === 'fixed') fixed.add(id);
+    else guessed.add(id);
+  }
+  const candidates: number[] = [];
+  for (const sl of lm.slots) {
+    if (sl.kind === 'const') continue;
+    if ((sl.kind === 'state' && sl.order > 0) || sl.kind === 'deriv') {
+      values[sl.id] = 0;
+      continue;
+    }
+    if (overrides?.has(sl.id)) {
+      values[sl.id] = overrides.get(sl.id)!;
+      fixed.add(sl.id);
+      guessed.delete(sl.id);
+      continue;
+    }
+    if (!fixed.has(sl.id) && !guessed.has(sl.id)) values[sl.id] = sl.scale * 1 + sl.offset; // default guess: 1 in its unit
+    if (!fixed.has(sl.id)) candidates.push(sl.id);
+  }
+  return { values, fixed, unknowns: candidates, lineOf };
+}
+
+function hasUnit(e: A.Expr): boolean {
+  switch (e.kind) {
+    case 'number': return !!e.unit;
+    case 'unary': return hasUnit(e.arg);
+    case 'binary': return hasUnit(e.left) || hasUnit(e.right);
+    case 'call': return e.args.some(hasUnit);
+    default: return false;
+  }
+}
+
+export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock, opts: SolveOptions = {}): PointSolution {
+  const name = block.name.name;
+  const diagnostics: Diagnostic[] = [];
+  const setup = pointSetup(m, lm, block, opts.overrides);
+  const { values, fixed, unknowns } = setup;
+  if (opts.start) for (const id of unknowns) if (Number.isFinite(opts.start[id])) values[id] = opts.start[id];
+  const guesses = Float64Array.from(values);
+  const cm = compileModel(lm);
+  const result: PointSolution = { name, block, ok: false, values, guesses, unknowns, fixed, iterations: 0, residual: NaN, diagnostics };
+
+  const colOf = new Map<number, number>();
+  unknowns.forEach((s, i) => colOf.set(s, i));
+  // equations with unknowns vs consistency checks
+  const active: number[] = [];
+  const checks: number[] = [];
+  for (let r = 0; r < cm.nEq; r++) {
+    let has = false;
+    for (const k of cm.rowEntries[r]) if (colOf.has(cm.cols[k])) has = true;
+    if (!has) {
+      // structural incidence (derivative pattern may drop e.g. sign()) — use the residual's slots
+      for (const s of E.slots(lm.equations[r].residual)) if (colOf.has(s)) has = true;
+    }
+    (has ? active : checks).push(r);
+  }
+  const adj = active.map((r) => {
+    const out: number[] = [];
+    for (const s of E.slots(lm.equations[r].residual)) {
+      const c = colOf.get(s);
+      if (c !== undefined) out.push(c);
+    }
+    return out;
+  });
+  const nR = active.length;
+  const nC = unknowns.length;
+  const mt = maximumMatching(nR, nC, adj);
+  const F = new Float64Array(cm.nEq);
+
+  const pointSpan = block.name.span;
+  if (mt.size < nR || mt.size < nC) {
+    const lo = leftovers(nR, nC, adj, mt);
+    const freeCols = lo.underCols.filter((c) => mt.colMatch[c] < 0).map((c) => lm.slots[unknowns[c]].name);
+    const extraRows = lo.overRows.filter((r) => mt.rowMatch[r] < 0).map((r) => active[r]);
+    let advice: string;
+    if (nC > nR || (nC === nR && freeCols.length)) {
+      advice = `Fix ${Math.max(1, nC - nR)} more value(s) with "=", e.g. ${listNames(freeCols)}.`;
+    } else {
+      // which fixed values appear in the left-over equations: candidates to free
+      const cand = new Set<string>();
+      for (const r of extraRows) for (const s of E.slots(lm.equations[r].residual)) if (fixed.has(s)) cand.add(lm.slots[s].name);
+      advice = `Free ${Math.max(1, nR - nC)} fixed value(s) (write "~" instead of "=")${cand.size ? `, e.g. ${listNames([...cand])}` : ''}; left over: ${extraRows.map((r) => `"${lm.equations[r].label}"`).join(', ')}.`;
+    }
+    diagnostics.push(diag('P501', pointSpan, { point: name, equations: nR, unknowns: nC, advice }, { data: { point: name, missing: freeCols } }));
+    return result;
+  }
+
+  // scaling
+  const nU = nC;
+  const xs = new Float64Array(nU);
+  for (let j = 0; j < nU; j++) {
+    const sl = lm.slots[unknowns[j]];
+    xs[j] = Math.max(Math.abs(values[unknowns[j]]), Math.abs(sl.scale), 1e-300);
+  }
+  const J = new Float64Array(cm.nodes.length);
+  const rowScale = new Float64Array(nR).fill(1);
+
+  const evalF = (): number => {
+    cm.residual(values, F);
+    let worst = 0;
+    for (let i = 0; i < nR; i++) {
+      const f = F[active[i]] * rowScale[i];
+      if (!Number.isFinite(f)) return NaN;
+      worst = Math.max(worst, Math.abs(f));
+    }
+    return worst;
+  };
+  const phi = (): number => {
+    let s = 0;
+    for (let i = 0; i < nR; i++) {
+      const f = F[active[i]] * rowScale[i];
+      s += f * f;
+    }
+    return 0.5 * s;
+  };
+  const activeIdx = new Int32Array(cm.nEq).fill(-1);
+  active.forEach((r, i) => (activeIdx[r] = i));
+  /** Scaled Jacobian entries (row i active, col j unknown). */
+  const entries = (): { rows: Int32Array; cols: Int32Array; vals: Float64Array; nnz: number } => {
+    cm.jacobian(values, J);
+    const rows = new Int32Array(J.length);
+    const cols = new Int32Array(J.length);
+    const vals = new Float64Array(J.length);
+    let nnz = 0;
+    for (let k = 0; k < J.length; k++) {
+      const i = activeIdx[cm.rows[k]];
+      const j = colOf.get(cm.cols[k]);
+      if (i < 0 || j === undefined) continue;
+      rows[nnz] = i;
+      cols[nnz] = j;
+      vals[nnz] = J[k] * rowScale[i] * xs[j];
+      nnz++;
+    }
+    return { rows, cols, vals, nnz };
+  };
+
+  const tol = opts.tolerance ?? 1e-10;
+  const maxIt = opts.maxIterations ?? 100;
+  let fmax = evalF();
+  if (Number.isNaN(fmax)) {
+    diagnostics.push(domainDiagnostic(lm, values, name, active.map((r) => r), pointSpan, 'at the starting guesses'));
+    return result;
+  }
+  // row scaling from the first Jacobian: each equation divided by its largest scaled sensitivity
+  {
+    const e = entries();
+    const mx = new Float64Array(nR);
+    for (let k = 0; k < e.nnz; k++) mx[e.rows[k]] = Math.max(mx[e.rows[k]], Math.abs(e.vals[k]));
+    for (let i = 0; i < nR; i++) {
+      const f = Math.abs(F[active[i]]);
+      rowScale[i] = mx[i] > 0 ? 1 / mx[i] : f > 0 ? 1 / f : 1;
+    }
+    fmax = evalF();
+  }
+  const x0 = new Float64Array(nU);
+  const step = new Float64Array(nU);
+  let it = 0;
+  let lambda = 0;
+  let converged = false;
+  let lastStep = Infinity;
+  for (; it < maxIt; it++) {
+    if (fmax <= tol && lastStep <= 1e-6) {
+      converged = true;
+      break;
+    }
+    const e = entries();
+    const rhs = new Float64Array(nR);
+    for (let i = 0; i < nR; i++) rhs[i] = -F[active[i]] * rowScale[i];
+    let dy: Float64Array | null = null;
+    if (lambda === 0 && nR === nU) {
+      const lu = sparseLU(nU, e);
+      if (lu.ok) dy = lu.solve(rhs);
+    }
+    if (!dy) {
+      // Levenberg–Marquardt: (JᵀJ + λ·diag(JᵀJ)) dy = Jᵀ rhs
+      lambda = lambda === 0 ? 1e-3 : lambda;
+      dy = lmStep(nR, nU, e, rhs, lambda);
+    }
+    if (!dy) break;
+    for (let j = 0; j < nU; j++) x0[j] = values[unknowns[j]];
+    const phi0 = phi();
+    let alpha = 1;
+    let accepted = false;
+    for (let ls = 0; ls < 40; ls++) {
+      for (let j = 0; j < nU; j++) values[unknowns[j]] = x0[j] + alpha * dy[j] * xs[j];
+      const f = evalF();
+      if (!Number.isNaN(f) && phi() <= (1 - 1e-4 * alpha) * phi0 + 1e-300) {
+        fmax = f;
+        accepted = true;
+        break;
+      }
+      alpha *= 0.5;
+    }
+    if (!accepted) {
+      for (let j = 0; j < nU; j++) values[unknowns[j]] = x0[j];
+      fmax = evalF();
+      if (lambda > 1e8) break;
+      lambda = lambda === 0 ? 1e-3 : lambda * 10;
+      continue;
+    }
+    let st = 0;
+    for (let j = 0; j < nU; j++) {
+      step[j] = alpha * dy[j];
+      st = Math.max(st, Math.abs(step[j]) * xs[j] / Math.max(Math.abs(values[unknowns[j]]), Math.abs(lm.slots[unknowns[j]].scale) * 1e-12, 1e-300));
+    }
+    lastStep = st;
+    if (lambda > 0) lambda = alpha === 1 ? lambda / 10 : lambda;
+    if (lambda < 1e-9) lambda = 0;
+  }
+  result.iterations = it;
+  result.residual = fmax;
+  if (!converged && fmax <= tol * 10) converged = true;
+
+  if (!converged) {
+    // worst equation
+    let worst = -1;
+    let wv = -1;
+    for (let i = 0; i < nR; i++) {
+      const f = Math.abs(F[active[i]] * rowScale[i]);
+      if (f > wv) {
+        wv = f;
+        worst = active[i];
+      }
+    }
+    if (Number.isNaN(fmax) || wv < 0) {
+      diagnostics.push(domainDiagnostic(lm, values, name, active, pointSpan, 'while solving'));
+    } else {
+      const eq = lm.equations[worst];
+      const d = diag('P502', eq.span, { point: name, iterations: it, residual: wv.toExponential(2) }, { related: [{ span: pointSpan, message: `point ${name}` }] });
+      if (lambda > 0) {
+        diagnostics.push(diag('P503', pointSpan, { point: name, detail: `the least-squares minimum leaves a residual of ${wv.toExponential(2)} in "${eq.label}"; the equations may have no real steady state for these fixed values.` }, { related: [{ span: eq.span, message: 'largest residual here' }] }));
+      } else diagnostics.push(d);
+    }
+    return result;
+  }
+
+  // consistency checks
+  cm.residual(values, F);
+  for (const r of checks) {
+    const f = F[r];
+    const scale = equationScale(lm, r, values);
+    if (!(Math.abs(f) <= 1e-8 * scale)) {
+      diagnostics.push(diag('P508', lm.equations[r].span, { point: name, residual: Number.isFinite(f) ? f.toExponential(3) : String(f) }, { related: [{ span: pointSpan, message: `point ${name}` }] }));
+    }
+  }
+  // isolated? Jacobian at the solution must be nonsingular
+  if (nR === nU && nU > 0) {
+    const e = entries();
+    const lu = sparseLU(nU, e);
+    if (!lu.ok) {
+      const names = lu.singularCols.map((c) => lm.slots[unknowns[c]].name);
+      diagnostics.push(diag('P506', pointSpan, { point: name, names: listNames(names) }, { data: { point: name, names } }));
+    }
+  }
+  diagnostics.push(...pointChecks(lm, values, name, pointSpan));
+  result.ok = !diagnostics.some((d) => d.severity === 'error');
+  return result;
+}
+
+function equationScale(lm: LoweredModel, r: number, values: Float64Array): number {
+  // magnitude of the terms: evaluate |terms| of the top-level sum
+  const n = lm.equations[r].residual;
+  const terms = n.t === 'add' ? n.args : [n];
+  let s = 0;
+  for (const t of terms) s = Math.max(s, Math.abs(E.evaluate(t, values)));
+  return Math.max(s, 1e-300);
+}
+
+function lmStep(nR: number, nU: number, e: { rows: Int32Array; cols: Int32Array; vals: Float64Array; nnz: number }, rhs: Float64Array, lambda: number): Float64Array | null {
+  // JᵀJ sparse via row lists
+  const byRow: { c: number; v: number }[][] = Array.from({ length: nR }, () => []);
+  for (let k = 0; k < e.nnz; k++) byRow[e.rows[k]].push({ c: e.cols[k], v: e.vals[k] });
+  const acc = new Map<number, number>();
+  const g = new Float64Array(nU);
+  for (let i = 0; i < nR; i++) {
+    const row = byRow[i];
+    for (const a of row) {
+      g[a.c] += a.v * rhs[i];
+      for (const b of row) {
+        const key = a.c * nU + b.c;
+        acc.set(key, (acc.get(key) ?? 0) + a.v * b.v);
+      }
+    }
+  }
+  const diagv = new Float64Array(nU);
+  for (const [key, v] of acc) {
+    const r = Math.floor(key / nU);
+    if (r === key % nU) diagv[r] = v;
+  }
+  const entries: { row: number; col: number; val: number }[] = [];
+  for (const [key, v] of acc) entries.push({ row: Math.floor(key / nU), col: key % nU, val: v });
+  for (let j = 0; j < nU; j++) entries.push({ row: j, col: j, val: lambda * Math.max(diagv[j], 1e-12) });
+  const lu = sparseLU(nU, entries);
+  if (!lu.ok) return null;
+  return lu.solve(g);
+}
+
+/** Domain and differentiability checks of every equation at the point, pointing at the subexpression. */
+export function pointChecks(lm: LoweredModel, values: Float64Array, point: string, pointSpan: Span): Diagnostic[] {
+  const out: Diagnostic[] = [];
+  const seen = new Set<string>();
+  const rel = [{ span: pointSpan, message: `point ${point}` }];
+  const report = (code: 'P504' | 'P505', src: Span | undefined, detail: string, fallback: Span) => {
+    const sp = src ?? fallback;
+    const k = `${code}:${sp.start}:${sp.end}`;
+    if (seen.has(k)) return;
+    seen.add(k);
+    out.push(diag(code, sp, { point, detail }, { related: rel }));
+  };
+  const fmt = (v: number) => (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e6 ? v.toExponential(3) : v.toPrecision(4));
+  for (const eq of lm.equations) {
+    const walk = (n: E.Node): void => {
+      if (n.t === 'num' || n.t === 'sym') return;
+      if (n.t === 'pow') {
+        walk(n.base);
+        walk(n.exp);
+        const b = E.evaluate(n.base, values);
+        const ex = E.evaluate(n.exp, values);
+        if (b < 0 && !Number.isInteger(ex)) report('P504', n.src, `negative base ${fmt(b)} raised to the non-integer power ${fmt(ex)}`, eq.span);
+        else if (b === 0 && ex < 0) report('P504', n.src, 'division by zero', eq.span);
+        else if (b === 0 && ex > 0 && ex < 1) report('P505', n.src, `power ${fmt(ex)} of zero`, eq.span);
+        return;
+      }
+      for (const a of n.args) walk(a);
+      if (n.t !== 'fn') return;
+      const a = E.evaluate(n.args[0], values);
+      const b = n.args.length > 1 ? E.evaluate(n.args[1], values) : NaN;
+      switch (n.fn) {
+        case 'sqrt':
+          if (a < 0) report('P504', n.src, `square root of a negative value (${fmt(a)})`, eq.span);
+          else if (a === 0) report('P505', n.src, 'square root at zero (infinite slope)', eq.span);
+          break;
+        case 'log':
+        case 'log10':
+          if (a <= 0) report('P504', n.src, `logarithm of ${fmt(a)} (must be > 0)`, eq.span);
+          break;
+        case 'asin':
+        case 'acos':
+          if (Math.abs(a) > 1) report('P504', n.src, `${n.fn} of ${fmt(a)} (must be within -1…1)`, eq.span);
+          break;
+        case 'abs':
+        case 'sign':
+          if (a === 0) report('P505', n.src, `${n.fn} at zero`, eq.span);
+          break;
+        case 'min':
+        case 'max':
+          if (a === b) report('P505', n.src, `${n.fn} with both arguments equal (${fmt(a)})`, eq.span);
+          break;
+      }
+    };
+    walk(eq.residual);
+    if (eq.residual.t === 'num' && Number.isNaN(eq.residual.v)) continue;
+    // division by zero anywhere shows up as a non-finite value
+    const v = E.evaluate(eq.residual, values);
+    if (!Number.isFinite(v) && !out.some((d) => d.span.start >= eq.span.start && d.span.end <= eq.span.end)) {
+      report('P504', eq.span, 'the equation evaluates to a non-finite value (division by zero?)', eq.span);
+    }
+  }
+  return out;
+}
+
+function domainDiagnostic(lm: LoweredModel, values: Float64Array, point: string, rows: number[], pointSpan: Span, when: string): Diagnostic {
+  const checks = pointChecks(lm, values, point, pointSpan).filter((d) => d.code === 'P504');
+  if (checks.length) {
+    const d = checks[0];
+    return diag('P503', pointSpan, { point, detail: `${when} ${d.message.replace(/^Domain error at point "[^"]*": /, '').replace(/\.$/, '')}; give guesses ("~") inside the model's domain.` }, { related: [{ span: d.span, message: 'here' }] });
+  }
+  return diag('P503', pointSpan, { point, detail: `${when} the equations evaluate to non-finite values${rows.length ? '' : ''}; give guesses ("~") inside the model's domain.` });
+}

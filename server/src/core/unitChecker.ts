@@ -1,0 +1,284 @@
+/**
+ * Unit checker: infers the dimension of every expression from the declared units, checks that both
+ * sides of each equation agree, that function arguments are dimensionless where they must be, and that
+ * every unit text is known. Also evaluates the constants (in SI), since that needs the same unit facts.
+ * A file without any unit bracket is nondimensional: nothing is checked and time is dimensionless.
+ */
+import type * as A from './ast';
+import type { BoundModel, ModelSymbol } from './binder';
+import { BUILTIN_CONSTANTS } from './binder';
+import { diag, type Diagnostic } from './diagnostics';
+import {
+  DIMENSIONLESS, ONE_UNIT, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit,
+  type Dims, type UnitInfo,
+} from './units';
+
+export interface UnitFacts {
+  /** Whether units are checked (false for a nondimensional file). */
+  checked: boolean;
+  /** Declared unit of each input, state, var and output; for constants, the unit they were written in. */
+  units: Map<ModelSymbol, UnitInfo>;
+  /** Constants' values in SI (NaN when they could not be evaluated). */
+  constValues: Map<ModelSymbol, number>;
+  /** Dimension of each constant (inferred from its expression). */
+  constDims: Map<ModelSymbol, Dims>;
+  /** The model's unit of time (seconds per model time unit in `scale`). */
+  time: UnitInfo;
+  diagnostics: Diagnostic[];
+}
+
+const TIME_DIMS: Dims = [0, 0, 1, 0, 0, 0, 0, 0];
+const DIMLESS_FNS = new Set(['exp', 'log', 'log10', 'sin', 'cos', 'tan', 'asin', 'acos', 'atan', 'sinh', 'cosh', 'tanh']);
+
+/** Converts a literal `number [unit]` to SI, reporting an unknown unit. */
+export function literalSI(e: A.NumberExpr, diagnostics?: Diagnostic[]): { value: number; unit: UnitInfo | undefined } {
+  if (!e.unit) return { value: e.value, unit: undefined };
+  const u = parseUnit(e.unit.text);
+  if (typeof u === 'string') {
+    diagnostics?.push(diag('P301', e.unit.span, { unit: e.unit.text, detail: u }));
+    return { value: NaN, unit: undefined };
+  }
+  return { value: e.value * u.scale + u.offset, unit: u };
+}
+
+export function checkUnits(m: BoundModel): UnitFacts {
+  const diagnostics: Diagnostic[] = [];
+  const units = new Map<ModelSymbol, UnitInfo>();
+  const constValues = new Map<ModelSymbol, number>();
+  const constDims = new Map<ModelSymbol, Dims>();
+  const checked = m.hasUnits;
+
+  // time unit
+  let time: UnitInfo = { text: 's', dims: TIME_DIMS, scale: 1, offset: 0 };
+  if (!checked) time = { text: '', dims: DIMENSIONLESS, scale: 1, offset: 0 };
+  if (m.time) {
+    if (!m.time.unit) time = { text: '', dims: DIMENSIONLESS, scale: 1, offset: 0 };
+    else {
+      const u = parseUnit(m.time.unit.text);
+      if (typeof u === 'string') diagnostics.push(diag('P301', m.time.unit.span, { unit: m.time.unit.text, detail: u }));
+      else if (!dimsEqual(u.dims, TIME_DIMS)) diagnostics.push(diag('P310', m.time.unit.span, { unit: m.time.unit.text }));
+      else time = u;
+    }
+  }
+
+  // declared units
+  for (const s of [...m.inputs, ...m.states, ...m.vars, ...m.outputs]) {
+    if (!s.unit) {
+      units.set(s, ONE_UNIT);
+      continue;
+    }
+    const u = parseUnit(s.unit.text);
+    if (typeof u === 'string') {
+      diagnostics.push(diag('P301', s.unit.span, { unit: s.unit.text, detail: u }));
+      units.set(s, { ...ONE_UNIT, text: s.unit.text });
+    } else units.set(s, u);
+  }
+
+  const derivDims = (d: Dims, k: number): Dims => (k ? dimsDiv(d, dimsPow(time.dims, k)) : d);
+
+  /** Dimension of a name reference (null: unknown). */
+  const nameDims = (e: A.NameExpr): Dims | null => {
+    if (e.name in BUILTIN_CONSTANTS && !m.symbols.has(e.name)) return DIMENSIONLESS;
+    const s = m.symbols.get(e.name);
+    if (!s) return null;
+    if (s.kind === 'const') return constDims.get(s) ?? null;
+    const u = units.get(s);
+    return u ? derivDims(u.dims, e.primes) : null;
+  };
+
+  /** Numeric value of a constant expression in SI (NaN if not constant). */
+  const constValue = (e: A.Expr): number => {
+    switch (e.kind) {
+      case 'number': return literalSI(e).value;
+      case 'name': {
+        if (e.primes) return NaN;
+        if (e.name in BUILTIN_CONSTANTS && !m.symbols.has(e.name)) return BUILTIN_CONSTANTS[e.name];
+        const s = m.symbols.get(e.name);
+        return s && s.kind === 'const' ? constValues.get(s) ?? NaN : NaN;
+      }
+      case 'unary': return e.op === '-' ? -constValue(e.arg) : constValue(e.arg);
+      case 'binary': {
+        const a = constValue(e.left);
+        const b = constValue(e.right);
+        switch (e.op) {
+          case '+': return a + b;
+          case '-': return a - b;
+          case '*': return a * b;
+          case '/': return a / b;
+          case '^': return Math.pow(a, b);
+        }
+        return NaN;
+      }
+      case 'call': {
+        const args = e.args.map(constValue);
+        const f = (Math as unknown as Record<string, (...x: number[]) => number>)[e.fn];
+        return typeof f === 'function' ? f(...args) : NaN;
+      }
+      default: return NaN;
+    }
+  };
+
+  const report = (d: Diagnostic) => {
+    if (checked) diagnostics.push(d);
+  };
+
+  /** Infers dims; null means unknown (after an error) or a bare 0 that fits anything. */
+  const infer = (e: A.Expr): Dims | null => {
+    switch (e.kind) {
+      case 'number': {
+        if (!e.unit) return e.value === 0 ? null : DIMENSIONLESS;
+        const u = parseUnit(e.unit.text);
+        if (typeof u === 'string') {
+          diagnostics.push(diag('P301', e.unit.span, { unit: e.unit.text, detail: u }));
+          return null;
+        }
+        return u.dims;
+      }
+      case 'name': return nameDims(e);
+      case 'error': return null;
+      case 'unary': return infer(e.arg);
+      case 'binary': {
+        const a = infer(e.left);
+        const b = infer(e.right);
+        switch (e.op) {
+          case '+':
+          case '-':
+            if (a && b && !dimsEqual(a, b)) {
+              report(diag('P304', e.span, { left: formatDims(a), right: formatDims(b) }));
+              return null;
+            }
+            return a ?? b;
+          case '*': return a && b ? dimsMul(a, b) : a && isZeroLit(e.right) ? a : null;
+          case '/': return a && b ? dimsDiv(a, b) : null;
+          case '^': {
+            if (b && !isDimensionless(b)) report(diag('P306', e.right.span, { unit: formatDims(b) }));
+            if (!a) return null;
+            if (isDimensionless(a)) return DIMENSIONLESS;
+            const p = constValue(e.right);
+            if (!Number.isFinite(p)) {
+              report(diag('P305', e.span));
+              return null;
+            }
+            return dimsPow(a, p);
+          }
+        }
+        return null;
+      }
+      case 'call': {
+        const args = e.args.map(infer);
+        const [a, b] = args;
+        if (DIMLESS_FNS.has(e.fn)) {
+          if (a && !isDimensionless(a)) report(diag('P303', e.args[0].span, { fn: e.fn, unit: formatDims(a) }));
+          return DIMENSIONLESS;
+        }
+        switch (e.fn) {
+          case 'sqrt': return a ? dimsPow(a, 0.5) : null;
+          case 'abs': return a;
+          case 'sign': return DIMENSIONLESS;
+          case 'min':
+          case 'max':
+          case 'hypot':
+          case 'atan2':
+            if (a && b && !dimsEqual(a, b)) report(diag('P307', e.span, { fn: e.fn, left: formatDims(a), right: formatDims(b) }));
+            return e.fn === 'atan2' ? DIMENSIONLESS : a ?? b;
+        }
+        return null;
+      }
+    }
+  };
+
+  // constants in order
+  for (const s of m.consts) {
+    const d = s.decl as A.ConstDecl;
+    const dims = infer(d.value) ?? DIMENSIONLESS;
+    constDims.set(s, dims);
+    const v = constValue(d.value);
+    constValues.set(s, v);
+    if (!Number.isFinite(v) && !hasError(d.value)) {
+      diagnostics.push(diag('P510', d.value.span, { name: s.name, detail: Number.isNaN(v) ? 'the value is not a number (check for √ or log of a negative, or an unknown unit)' : 'the value is infinite (division by zero?)' }));
+    }
+    // the unit the constant was written in (for display): a single literal keeps its unit text
+    const lit = d.value.kind === 'number' && d.value.unit ? parseUnit(d.value.unit.text) : undefined;
+    if (lit && typeof lit !== 'string') units.set(s, lit);
+    else units.set(s, { text: isDimensionless(dims) ? '1' : formatDims(dims), dims, scale: 1, offset: 0 });
+  }
+
+  // equations
+  for (const eq of m.equations) {
+    const a = infer(eq.lhs);
+    const b = infer(eq.rhs);
+    if (a && b && !dimsEqual(a, b)) {
+      report(diag('P302', eq.span, { left: formatDims(a), right: formatDims(b) }, { related: relatedDecls(m, eq) }));
+    }
+  }
+  // outputs
+  for (const s of m.outputs) {
+    const d = s.decl as A.OutputDecl;
+    const a = infer(d.value);
+    const u = units.get(s)!;
+    if (a && !dimsEqual(a, u.dims)) report(diag('P309', d.value.span, { name: s.name, declared: formatDims(u.dims), actual: formatDims(a) }));
+  }
+  // point values
+  for (const p of m.points) {
+    for (const l of p.lines) {
+      const s = m.symbols.get(l.name.name);
+      const a = infer(l.value);
+      if (!s || !a) continue;
+      const target = s.kind === 'const' ? constDims.get(s) : units.get(s)?.dims;
+      if (!target) continue;
+      // a bare number is in the variable's declared unit
+      if (isDimensionless(a) && !hasUnitLiteral(l.value)) continue;
+      if (!dimsEqual(a, target)) report(diag('P308', l.value.span, { name: s.name, given: formatDims(a), declared: formatDims(target) }));
+    }
+  }
+  // sweep bounds
+  for (const sw of m.sweeps) {
+    if (!sw.vary) continue;
+    const s = m.symbols.get(sw.vary.name.name);
+    if (!s) continue;
+    const target = s.kind === 'const' ? constDims.get(s) : units.get(s)?.dims;
+    for (const e of [sw.vary.from, sw.vary.to]) {
+      const a = infer(e);
+      if (!a || !target || (isDimensionless(a) && !hasUnitLiteral(e))) continue;
+      if (!dimsEqual(a, target)) report(diag('P308', e.span, { name: s.name, given: formatDims(a), declared: formatDims(target) }));
+    }
+  }
+  return { checked, units, constValues, constDims, time, diagnostics };
+}
+
+function isZeroLit(e: A.Expr): boolean {
+  return e.kind === 'number' && e.value === 0 && !e.unit;
+}
+
+export function hasUnitLiteral(e: A.Expr): boolean {
+  switch (e.kind) {
+    case 'number': return !!e.unit;
+    case 'unary': return hasUnitLiteral(e.arg);
+    case 'binary': return hasUnitLiteral(e.left) || hasUnitLiteral(e.right);
+    case 'call': return e.args.some(hasUnitLiteral);
+    default: return false;
+  }
+}
+
+function hasError(e: A.Expr): boolean {
+  switch (e.kind) {
+    case 'error': return true;
+    case 'unary': return hasError(e.arg);
+    case 'binary': return hasError(e.left) || hasError(e.right);
+    case 'call': return e.args.some(hasError);
+    default: return false;
+  }
+}
+
+function relatedDecls(m: BoundModel, eq: A.EquationStmt) {
+  const out: { span: { start: number; end: number }; message: string }[] = [];
+  const seen = new Set<string>();
+  for (const r of m.references) {
+    if (r.span.start >= eq.span.start && r.span.end <= eq.span.end && !seen.has(r.symbol.name)) {
+      seen.add(r.symbol.name);
+      const u = r.symbol.unit ? `[${r.symbol.unit.text}]` : r.symbol.kind === 'const' ? 'constant' : 'dimensionless';
+      out.push({ span: r.symbol.span, message: `${r.symbol.name} ${u}` });
+    }
+  }
+  return out;
+}
