@@ -1,0 +1,119 @@
+/**
+ * npm run bench — per-stage timings on generated models of growing size, and the same job in SymPy
+ * where Python with SymPy is present (measured in the same run). Prints a table; asserts nothing.
+ */
+import { execFileSync } from 'child_process';
+import * as fs from 'fs';
+import * as os from 'os';
+import * as path from 'path';
+import { Analysis } from '../server/src/core/analysis';
+import { eigenvalues } from '../server/src/core/numeric/eigen';
+import { tankChain, tankChainSympy } from './models';
+
+function ms(t0: bigint): number {
+  return Number(process.hrtime.bigint() - t0) / 1e6;
+}
+
+function median(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.floor(s.length / 2)];
+}
+
+interface Row { n: number; parse: number; check: number; solve: number; linearize: number; eig: number; total: number; a00: number }
+
+function runOnce(text: string, withEig: boolean): Row {
+  const t0 = process.hrtime.bigint();
+  const a = new Analysis(text); // parse, bind, units, lower, structure
+  const tCheck = ms(t0);
+  const t1 = process.hrtime.bigint();
+  const sol = a.point('nominal');
+  const tSolve = ms(t1);
+  if (!sol || !sol.ok) throw new Error('point did not solve: ' + JSON.stringify(sol?.diagnostics.map((d) => d.message)));
+  const t2 = process.hrtime.bigint();
+  const lin = a.linear('nominal')!;
+  const tLin = ms(t2);
+  if (!lin.ok) throw new Error('linearization failed');
+  const total = ms(t0);
+  let tEig = NaN;
+  if (withEig) {
+    const t3 = process.hrtime.bigint();
+    eigenvalues({ rows: lin.n, cols: lin.n, data: lin.A });
+    tEig = ms(t3);
+  }
+  // parse alone
+  const tp = process.hrtime.bigint();
+  // eslint-disable-next-line @typescript-eslint/no-require-imports
+  require('../server/src/core/parser').parse(text);
+  const tParse = ms(tp);
+  return { n: lin.n, parse: tParse, check: tCheck, solve: tSolve, linearize: tLin, eig: tEig, total, a00: lin.A[0] };
+}
+
+function sympyTime(n: number): number | undefined {
+  const py = ['/usr/bin/python3', 'python3'].find((p) => {
+    try {
+      execFileSync(p, ['-c', 'import sympy, numpy'], { stdio: 'ignore' });
+      return true;
+    } catch {
+      return false;
+    }
+  });
+  if (!py) return undefined;
+  const file = path.join(os.tmpdir(), `poise-bench-sympy-${n}.py`);
+  fs.writeFileSync(file, tankChainSympy(n));
+  const t0 = process.hrtime.bigint();
+  execFileSync(py, [file], { encoding: 'utf8', timeout: 600_000 });
+  return ms(t0); // whole process, as a user would run it
+}
+
+function main() {
+  const sizes = (process.env.POISE_BENCH_SIZES ?? '10,100,1000,3000').split(',').map(Number);
+  const reps = Number(process.env.POISE_BENCH_REPS ?? 5);
+  console.log(`Poise bench — chains of N tanks with turbulent links (2N unknowns); median of ${reps} warm runs, ms`);
+  console.log('N      states  parse   check(all static)  solve   linearize  text→ABCD   eig(A)');
+  for (const n of sizes) {
+    const text = tankChain(n);
+    runOnce(text, false); // warm-up
+    const rows: Row[] = [];
+    for (let r = 0; r < reps; r++) rows.push(runOnce(text, n <= 1000 && r === 0));
+    const med = (k: keyof Row) => median(rows.map((x) => x[k] as number).filter((v) => !Number.isNaN(v)));
+    const eig = rows[0].eig;
+    console.log(
+      `${String(n).padEnd(6)} ${String(rows[0].n).padEnd(7)} ${med('parse').toFixed(1).padStart(6)}  ${med('check').toFixed(1).padStart(17)}  ${med('solve').toFixed(1).padStart(6)}  ${med('linearize').toFixed(1).padStart(9)}  ${med('total').toFixed(1).padStart(9)}  ${Number.isNaN(eig) ? '     -' : eig.toFixed(1).padStart(7)}`,
+    );
+  }
+  // eigenvalues of a dense 500-state matrix
+  const N = 500;
+  const A = new Float64Array(N * N);
+  let seed = 12345;
+  const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648) - 0.5;
+  for (let i = 0; i < N * N; i++) A[i] = rnd();
+  const te = [];
+  for (let r = 0; r < 3; r++) {
+    const t0 = process.hrtime.bigint();
+    eigenvalues({ rows: N, cols: N, data: A });
+    te.push(ms(t0));
+  }
+  console.log(`eigenvalues of a random dense 500×500 A: ${median(te).toFixed(0)} ms (median of 3)`);
+
+  // whole-process comparison with SymPy, same job, same run
+  for (const n of (process.env.POISE_BENCH_SYMPY ?? '10,100').split(',').map(Number).filter((x) => x > 0)) {
+    const tPy = sympyTime(n);
+    if (tPy === undefined) {
+      console.log('SymPy: not present (install Debian python3-sympy for the comparison)');
+      break;
+    }
+    const t0 = process.hrtime.bigint();
+    const out = execFileSync(process.execPath, [path.join(__dirname, '..', '..', 'bin', 'poise.js'), 'linearize', writeTmp(n), '--format', 'json'], { encoding: 'utf8' });
+    const tPoise = ms(t0);
+    const a00 = (JSON.parse(out) as { A: number[][] }).A[0][0];
+    console.log(`N=${n}: whole process, text to A,B,C,D — Poise CLI ${tPoise.toFixed(0)} ms, SymPy ${tPy.toFixed(0)} ms: ${(tPy / tPoise).toFixed(1)}× (A[0][0] = ${a00.toPrecision(6)})`);
+  }
+}
+
+function writeTmp(n: number): string {
+  const f = path.join(os.tmpdir(), `poise-bench-chain-${n}.poise`);
+  fs.writeFileSync(f, tankChain(n));
+  return f;
+}
+
+main();

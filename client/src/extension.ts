@@ -1,0 +1,285 @@
+// The Poise extension: starts the bundled language server (dist/server.js) for `poise` documents and adds
+// the client-side commands (reports, sweeps, export). Solve and Linearize run on the server: the server
+// declares `poise.server.solvePoint` / `poise.server.linearizePoint` as executeCommand commands, the
+// language client registers them, and the palette commands here only find the point at the cursor first.
+import * as path from 'path';
+import * as vscode from 'vscode';
+import {
+  LanguageClient,
+  type LanguageClientOptions,
+  type ServerOptions,
+  TransportKind,
+} from 'vscode-languageclient/node';
+import { PanelManager, type PageResult } from './panels';
+import { defaultRange, scanDeclarations, type Declared } from './scan';
+
+const LANGUAGE = 'poise';
+
+interface PointAtResult {
+  point: string | null;
+}
+interface ExportResult {
+  text: string;
+}
+type ExportFormat = 'json' | 'csv' | 'markdown' | 'latex' | 'numpy';
+
+let client: LanguageClient | undefined;
+let starting: Promise<void> | undefined;
+
+function errorMessage(e: unknown): string {
+  return e instanceof Error ? e.message : String(e);
+}
+
+/** Wraps a command handler so that every failure is shown to the user instead of being lost. */
+function guarded<A extends unknown[]>(name: string, fn: (...args: A) => Promise<unknown>) {
+  return async (...args: A): Promise<void> => {
+    try {
+      await fn(...args);
+    } catch (e) {
+      client?.outputChannel.appendLine(`${name}: ${errorMessage(e)}`);
+      void vscode.window.showErrorMessage(`Poise: ${errorMessage(e)}`);
+    }
+  };
+}
+
+async function runningClient(): Promise<LanguageClient> {
+  if (!client) throw new Error('the Poise language server is not available');
+  await starting;
+  if (!client.isRunning()) throw new Error('the Poise language server is not running (see the "Poise" output)');
+  return client;
+}
+
+function toUri(value: unknown): vscode.Uri | undefined {
+  if (value instanceof vscode.Uri) return value;
+  if (typeof value === 'string' && value) return vscode.Uri.parse(value);
+  return undefined;
+}
+
+/**
+ * The document and point a command applies to: the arguments given by a code lens `[uri, point]`, or else the
+ * active `poise` editor and the point block at (or nearest above) its cursor, as found by the server.
+ */
+async function target(args: unknown[]): Promise<{ uri: vscode.Uri; point: string }> {
+  const uri = toUri(args[0]);
+  if (uri && typeof args[1] === 'string' && args[1]) return { uri, point: args[1] };
+  const editor = vscode.window.activeTextEditor;
+  if (!editor || editor.document.languageId !== LANGUAGE) {
+    throw new Error('open a .poise model and put the cursor inside a point block');
+  }
+  const c = await runningClient();
+  const result = await c.sendRequest<PointAtResult>('poise/pointAt', {
+    uri: c.code2ProtocolConverter.asUri(editor.document.uri),
+    position: c.code2ProtocolConverter.asPosition(editor.selection.active),
+  });
+  if (!result || !result.point) throw new Error('there is no point block at or above the cursor');
+  return { uri: editor.document.uri, point: result.point };
+}
+
+async function protocolUri(uri: vscode.Uri): Promise<string> {
+  const c = await runningClient();
+  return c.code2ProtocolConverter.asUri(uri);
+}
+
+async function serverCommand(command: string, args: unknown[]): Promise<void> {
+  const { uri, point } = await target(args);
+  await vscode.commands.executeCommand(command, await protocolUri(uri), point);
+}
+
+async function openReport(panels: PanelManager, args: unknown[]): Promise<void> {
+  const { uri, point } = await target(args);
+  const wire = await protocolUri(uri);
+  await panels.show({
+    key: `report|${uri.toString()}|${point}`,
+    uri,
+    viewType: 'poise.report',
+    title: `Report: ${point}`,
+    fetch: async () => (await runningClient()).sendRequest<PageResult>('poise/report', { uri: wire, point }),
+  });
+}
+
+function parseNumber(text: string): number {
+  return Number(text.trim());
+}
+
+function numberValidator(text: string): string | undefined {
+  return text.trim() !== '' && Number.isFinite(parseNumber(text)) ? undefined : 'enter a number, e.g. 0.02 or 2e-3';
+}
+
+async function askVary(document: vscode.TextDocument, point: string): Promise<Declared | { name: string; unit: string }> {
+  const declared = scanDeclarations(document.getText(), point).filter((d) => d.kind !== 'output');
+  const order: Record<string, number> = { input: 0, const: 1, state: 2, var: 3 };
+  declared.sort((a, b) => order[a.kind] - order[b.kind]);
+  type Item = vscode.QuickPickItem & { declared?: Declared };
+  const items: Item[] = declared.map((d) => ({
+    label: d.name,
+    description: `${d.kind}${d.unit ? ` [${d.unit}]` : ''}`,
+    detail: d.value !== undefined ? `now ${d.value}${d.unit ? ` [${d.unit}]` : ''}` : undefined,
+    declared: d,
+  }));
+  items.push({ label: 'Another name…', alwaysShow: true });
+  const picked = await vscode.window.showQuickPick(items, {
+    title: `Sweep from point '${point}'`,
+    placeHolder: 'What to vary',
+    matchOnDescription: true,
+  });
+  if (!picked) throw new Cancelled();
+  if (picked.declared) return picked.declared;
+  const name = await vscode.window.showInputBox({
+    title: `Sweep from point '${point}'`,
+    prompt: 'Name of the quantity to vary',
+    validateInput: (t) => (/^[\p{L}_][\p{L}\p{N}_]*$/u.test(t.trim()) ? undefined : 'enter a name'),
+  });
+  if (name === undefined) throw new Cancelled();
+  return { name: name.trim(), unit: '' };
+}
+
+/** Thrown when the user dismisses a dialog: the command ends quietly. */
+class Cancelled extends Error {
+  constructor() {
+    super('cancelled');
+  }
+}
+
+async function sweep(panels: PanelManager, args: unknown[]): Promise<void> {
+  try {
+    const { uri, point } = await target(args);
+    const document = await vscode.workspace.openTextDocument(uri);
+    const vary = await askVary(document, point);
+    const unit = vary.unit ? ` [${vary.unit}]` : '';
+    const range = defaultRange('value' in vary ? vary.value : undefined);
+    const ask = async (prompt: string, value: string, validate: (t: string) => string | undefined) => {
+      const answer = await vscode.window.showInputBox({
+        title: `Sweep ${vary.name} from point '${point}'`,
+        prompt,
+        value,
+        validateInput: validate,
+      });
+      if (answer === undefined) throw new Cancelled();
+      return answer;
+    };
+    const from = parseNumber(await ask(`Start value of ${vary.name}${unit}`, String(range.from), numberValidator));
+    const to = parseNumber(
+      await ask(`End value of ${vary.name}${unit}`, String(range.to), (t) =>
+        numberValidator(t) ?? (parseNumber(t) === from ? 'the end must differ from the start' : undefined),
+      ),
+    );
+    const steps = parseNumber(
+      await ask('Number of steps', '40', (t) =>
+        /^\s*\d+\s*$/.test(t) && parseNumber(t) >= 1 && parseNumber(t) <= 10000 ? undefined : 'a whole number from 1 to 10000',
+      ),
+    );
+    let log = false;
+    if (from > 0 && to > 0) {
+      const spacing = await vscode.window.showQuickPick(
+        [
+          { label: 'Linear spacing', log: false },
+          { label: 'Logarithmic spacing', log: true },
+        ],
+        { title: `Sweep ${vary.name} from ${from} to ${to}${unit}`, placeHolder: 'Spacing of the steps' },
+      );
+      if (!spacing) throw new Cancelled();
+      log = spacing.log;
+    }
+    const wire = await protocolUri(uri);
+    const params = { uri: wire, point, vary: vary.name, from, to, steps, log };
+    await panels.show({
+      key: `sweep|${uri.toString()}|${point}|${vary.name}`,
+      uri,
+      viewType: 'poise.sweep',
+      title: `Sweep: ${vary.name} (${point})`,
+      fetch: async () => (await runningClient()).sendRequest<PageResult>('poise/sweep', params),
+    });
+  } catch (e) {
+    if (!(e instanceof Cancelled)) throw e;
+  }
+}
+
+const FORMATS: { format: ExportFormat; label: string; description: string; extension: string; language: string }[] = [
+  { format: 'json', label: 'JSON', description: 'matrices A, B, C, D with names and units', extension: 'json', language: 'json' },
+  { format: 'csv', label: 'CSV', description: 'one table per matrix', extension: 'csv', language: 'plaintext' },
+  { format: 'markdown', label: 'Markdown', description: 'tables for notes and reports', extension: 'md', language: 'markdown' },
+  { format: 'latex', label: 'LaTeX', description: 'matrices for a document', extension: 'tex', language: 'latex' },
+  { format: 'numpy', label: 'NumPy', description: 'Python source defining arrays', extension: 'py', language: 'python' },
+];
+
+async function exportLinear(args: unknown[]): Promise<void> {
+  const { uri, point } = await target(args);
+  const choice = await vscode.window.showQuickPick(FORMATS, {
+    title: `Export the linear model at point '${point}'`,
+    placeHolder: 'Format',
+  });
+  if (!choice) return;
+  const c = await runningClient();
+  const result = await c.sendRequest<ExportResult>('poise/export', {
+    uri: await protocolUri(uri),
+    point,
+    format: choice.format,
+  });
+  const action = await vscode.window.showQuickPick(
+    [
+      { label: 'Copy to clipboard', id: 'copy' },
+      { label: 'Save to file…', id: 'save' },
+      { label: 'Open in an editor', id: 'open' },
+    ],
+    { title: `${choice.label} export of point '${point}'`, placeHolder: 'What to do with it' },
+  );
+  if (!action) return;
+  if (action.id === 'copy') {
+    await vscode.env.clipboard.writeText(result.text);
+    void vscode.window.showInformationMessage(`Poise: the ${choice.label} export of '${point}' is on the clipboard.`);
+  } else if (action.id === 'save') {
+    const base = path.basename(uri.path).replace(/\.poise$/i, '');
+    const destination = await vscode.window.showSaveDialog({
+      defaultUri: vscode.Uri.joinPath(uri, '..', `${base}-${point}.${choice.extension}`),
+      filters: { [choice.label]: [choice.extension] },
+      title: `Save the ${choice.label} export of '${point}'`,
+    });
+    if (!destination) return;
+    await vscode.workspace.fs.writeFile(destination, Buffer.from(result.text, 'utf8'));
+    void vscode.window.showInformationMessage(`Poise: saved ${vscode.workspace.asRelativePath(destination)}.`);
+  } else {
+    const doc = await vscode.workspace.openTextDocument({ content: result.text, language: choice.language });
+    await vscode.window.showTextDocument(doc, { preview: false, viewColumn: vscode.ViewColumn.Beside });
+  }
+}
+
+export async function activate(context: vscode.ExtensionContext): Promise<void> {
+  const serverModule = context.asAbsolutePath(path.join('dist', 'server.js'));
+  const serverOptions: ServerOptions = {
+    run: { module: serverModule, transport: TransportKind.ipc },
+    debug: { module: serverModule, transport: TransportKind.ipc, options: { execArgv: ['--nolazy', '--inspect=6011'] } },
+  };
+  const clientOptions: LanguageClientOptions = {
+    documentSelector: [{ language: LANGUAGE }],
+    // pushes `poise.*` settings on change; the server may also pull them with workspace/configuration
+    synchronize: { configurationSection: LANGUAGE },
+  };
+  // the id 'poise' makes the client read the trace level from the setting `poise.trace.server`
+  const c = new LanguageClient(LANGUAGE, 'Poise', serverOptions, clientOptions);
+  client = c;
+  const panels = new PanelManager((line) => c.outputChannel.appendLine(line));
+  context.subscriptions.push(
+    panels,
+    vscode.commands.registerCommand(
+      'poise.solvePoint',
+      guarded('poise.solvePoint', (...args: unknown[]) => serverCommand('poise.server.solvePoint', args)),
+    ),
+    vscode.commands.registerCommand(
+      'poise.linearizePoint',
+      guarded('poise.linearizePoint', (...args: unknown[]) => serverCommand('poise.server.linearizePoint', args)),
+    ),
+    vscode.commands.registerCommand('poise.openReport', guarded('poise.openReport', (...args: unknown[]) => openReport(panels, args))),
+    vscode.commands.registerCommand('poise.sweep', guarded('poise.sweep', (...args: unknown[]) => sweep(panels, args))),
+    vscode.commands.registerCommand('poise.exportLinear', guarded('poise.exportLinear', (...args: unknown[]) => exportLinear(args))),
+  );
+  starting = c.start().catch((e: unknown) => {
+    void vscode.window.showErrorMessage(`Poise: the language server did not start: ${errorMessage(e)}`);
+  });
+  await starting;
+}
+
+export async function deactivate(): Promise<void> {
+  const c = client;
+  client = undefined;
+  if (c) await c.stop();
+}

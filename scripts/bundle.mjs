@@ -1,0 +1,49 @@
+// Bundles the extension for packaging with esbuild:
+//   client/src/extension.ts -> dist/extension.js   (CommonJS, node, `vscode` left external)
+//   server/src/lsp/main.ts  -> dist/server.js      (CommonJS, node; started by the client over node IPC)
+// Environment: POISE_SERVER_ENTRY overrides the server entry (for trying the bundle before the server
+// exists), POISE_SOURCEMAP=1 adds linked source maps, POISE_MINIFY=1 minifies.
+import { build } from 'esbuild';
+import { existsSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
+const clientEntry = resolve(root, 'client/src/extension.ts');
+const serverEntry = resolve(root, process.env.POISE_SERVER_ENTRY || 'server/src/lsp/main.ts');
+
+const common = {
+  bundle: true,
+  platform: 'node',
+  target: 'node20',
+  format: 'cjs',
+  sourcemap: process.env.POISE_SOURCEMAP === '1' ? 'linked' : false,
+  minify: process.env.POISE_MINIFY === '1',
+  logLevel: 'warning',
+  absWorkingDir: root,
+  // lets an entry outside the repository (POISE_SERVER_ENTRY) use the project's packages
+  nodePaths: [resolve(root, 'node_modules')],
+};
+
+async function bundle(name, entry, outfile, external) {
+  const started = Date.now();
+  const result = await build({ ...common, entryPoints: [entry], outfile: resolve(root, outfile), external, metafile: true });
+  const bytes = Object.values(result.metafile.outputs).reduce((n, o) => n + o.bytes, 0);
+  console.log(`bundle: ${name} -> ${outfile} (${(bytes / 1024).toFixed(0)} KB, ${Date.now() - started} ms)`);
+}
+
+try {
+  await bundle('client', clientEntry, 'dist/extension.js', ['vscode']);
+  if (!existsSync(serverEntry)) {
+    console.error(
+      `bundle: the language server entry ${serverEntry} does not exist (yet).\n` +
+        '        It is written separately; until then set POISE_SERVER_ENTRY=path/to/entry.ts to bundle another file.',
+    );
+    process.exit(1);
+  }
+  await bundle('server', serverEntry, 'dist/server.js', []);
+} catch (e) {
+  // esbuild has already printed the errors with their locations
+  console.error(`bundle: failed: ${e instanceof Error ? e.message.split('\n')[0] : e}`);
+  process.exit(1);
+}
