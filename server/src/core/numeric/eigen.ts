@@ -11,7 +11,10 @@
  *  2. A block that is tridiagonal with positive products b_k·c_k of its
  *     off-diagonal pairs (two-way chains) is similar, by a diagonal scaling,
  *     to a symmetric tridiagonal matrix with off-diagonal sqrt(b_k·c_k); its
- *     eigenvalues come from the implicit QL method in O(m²).
+ *     eigenvalues come from the implicit QL method in O(m²). A tridiagonal
+ *     block with some negative products is first scaled the same way (each
+ *     off-diagonal pair then has equal magnitudes) and goes to step 3; this
+ *     removes the strong non-normality of chains with unequal couplings.
  *  3. Any other block is balanced (power-of-two diagonal similarity), reduced
  *     to upper Hessenberg form by Householder reflections, and its
  *     eigenvalues found by Francis' implicit double-shift QR iteration with
@@ -121,11 +124,16 @@ function stronglyConnected(a: Float64Array, n: number): Int32Array[] {
 // ------------------------------------------------------- symmetric tridiagonal
 
 /**
- * If the m×m block b is tridiagonal with b[k][k+1]·b[k+1][k] > 0 for all k,
- * returns the diagonal and off-diagonal of the similar symmetric tridiagonal
- * matrix; otherwise null.
+ * If the m×m block b is tridiagonal with non-zero off-diagonal pairs, returns
+ * its diagonal d, the magnitudes e[k] = sqrt(|b[k][k+1]·b[k+1][k]|) and the
+ * product signs. A diagonal similarity takes b to the tridiagonal matrix with
+ * off-diagonals sign(b[k][k+1])·e[k] and sign(b[k+1][k])·e[k]; when every
+ * product is positive that matrix is symmetric. Returns null otherwise.
  */
-function symmetrizableTridiagonal(b: Float64Array, m: number): { d: Float64Array; e: Float64Array } | null {
+function tridiagonalParts(
+  b: Float64Array,
+  m: number,
+): { d: Float64Array; e: Float64Array; up: Int8Array; lo: Int8Array; symmetric: boolean } | null {
   for (let i = 0; i < m; i++) {
     const row = i * m;
     for (let j = 0; j < i - 1; j++) if (b[row + j] !== 0) return null;
@@ -133,14 +141,20 @@ function symmetrizableTridiagonal(b: Float64Array, m: number): { d: Float64Array
   }
   const d = new Float64Array(m);
   const e = new Float64Array(m);
+  const up = new Int8Array(m);
+  const lo = new Int8Array(m);
+  let symmetric = true;
   for (let k = 0; k < m; k++) d[k] = b[k * m + k];
   for (let k = 0; k + 1 < m; k++) {
-    const up = b[k * m + k + 1];
-    const lo = b[(k + 1) * m + k];
-    if (!(up * lo > 0) && !(Math.sign(up) === Math.sign(lo) && up !== 0)) return null;
-    e[k] = Math.sqrt(Math.abs(up)) * Math.sqrt(Math.abs(lo));
+    const u = b[k * m + k + 1];
+    const l = b[(k + 1) * m + k];
+    if (u === 0 || l === 0) return null;
+    up[k] = u > 0 ? 1 : -1;
+    lo[k] = l > 0 ? 1 : -1;
+    if (up[k] !== lo[k]) symmetric = false;
+    e[k] = Math.sqrt(Math.abs(u)) * Math.sqrt(Math.abs(l));
   }
-  return { d, e };
+  return { d, e, up, lo, symmetric };
 }
 
 function hypot2(a: number, b: number): number {
@@ -370,7 +384,7 @@ function hqr(h: Float64Array, nn: number, wr: Float64Array, wi: Float64Array, of
     while (l > 0) {
       s = Math.abs(h[(l - 1) * nn + l - 1]) + Math.abs(h[l * nn + l]);
       if (s === 0) s = norm;
-      if (Math.abs(h[l * nn + l - 1]) < EPS * s) break;
+      if (Math.abs(h[l * nn + l - 1]) <= EPS * s) break;
       l--;
     }
     if (l === en) {
@@ -561,15 +575,33 @@ export function eigenvalues(a: DenseMatrix): EigenResult {
       const src = comp[r] * n;
       for (let c = 0; c < m; c++) b[r * m + c] = a.data[src + comp[c]];
     }
-    const tri = symmetrizableTridiagonal(b, m);
-    if (tri && tql1(tri.d, tri.e, m)) {
-      for (let k = 0; k < m; k++) {
-        re[pos + k] = tri.d[k];
-        im[pos + k] = 0;
+    const tri = tridiagonalParts(b, m);
+    let done = false;
+    if (tri && tri.symmetric) {
+      // two-way chain: symmetric tridiagonal QL on a copy
+      const d = Float64Array.from(tri.d);
+      const e = Float64Array.from(tri.e);
+      if (tql1(d, e, m)) {
+        for (let k = 0; k < m; k++) {
+          re[pos + k] = d[k];
+          im[pos + k] = 0;
+        }
+        done = true;
       }
-    } else if (!generalBlock(b, m, re, im, pos)) {
-      converged = false;
     }
+    if (!done && tri) {
+      // equalise the magnitudes of each off-diagonal pair (exact diagonal similarity):
+      // removes the non-normality that a chain with unequal couplings carries
+      b.fill(0);
+      for (let k = 0; k < m; k++) {
+        b[k * m + k] = tri.d[k];
+        if (k + 1 < m) {
+          b[k * m + k + 1] = tri.up[k] * tri.e[k];
+          b[(k + 1) * m + k] = tri.lo[k] * tri.e[k];
+        }
+      }
+    }
+    if (!done && !generalBlock(b, m, re, im, pos)) converged = false;
     pos += m;
   }
   return { re, im, converged };
@@ -599,7 +631,7 @@ function hqr2(h: Float64Array, nn: number, v: Float64Array, d: Float64Array, e: 
     while (l > 0) {
       s = Math.abs(H(l - 1, l - 1)) + Math.abs(H(l, l));
       if (s === 0) s = norm;
-      if (Math.abs(H(l, l - 1)) < EPS * s) break;
+      if (Math.abs(H(l, l - 1)) <= EPS * s) break;
       l--;
     }
     if (l === n) {

@@ -595,11 +595,9 @@ export function sparseLU(
       }
       if (pendRows.length > 0 || pendCols.length > 0) {
         for (const i of pendRows) if (rowActive[i]) dropRow(i);
-        for (const j of pendCols) {
-          if (!colActive[j]) continue;
-          // re-check: dropping rows may have changed nothing numerically, but column may now be empty
-          dropCol(j);
-        }
+        // a column whose entries are all negligible stays so (later updates only subtract
+        // bounded multiples of negligible pivot-row entries): it cannot be pivoted
+        for (const j of pendCols) if (colActive[j]) dropCol(j);
         continue;
       }
       if (bestP < 0) return false;
@@ -718,70 +716,38 @@ export function sparseLU(
       h[r] = hist[i];
     }
     for (let c = 0; c < nc; c++) loc[C[c]] = -1;
-    const live = new Int32Array(nr);
-    for (let r = 0; r < nr; r++) live[r] = r;
-    let nLive = nr;
-    const nzIdx = new Int32Array(nc);
-    for (let c = 0; c < nc; c++) {
-      if (nLive === 0) {
-        singularCols.push(C[c]);
-        continue;
-      }
-      let best = -1;
-      let bmax = 0;
-      for (let t = 0; t < nLive; t++) {
-        const r = live[t];
-        const av = Math.abs(M[r * nc + c]);
-        if (av > singTol * h[r] && av > bmax) {
-          bmax = av;
-          best = t;
-        }
-      }
-      if (best < 0) {
-        singularCols.push(C[c]);
-        continue;
-      }
-      const p = live[best];
-      live[best] = live[--nLive];
+    const res = denseBlockLU(M, nr, nc, h, singTol);
+    // record the steps in the common sparse format
+    const k = res.pr.length;
+    for (let s = 0; s < k; s++) {
+      const p = res.pr[s], c = res.pc[s];
       const po = p * nc;
-      const piv = M[po + c];
       pivRowB.push(R[p]);
       pivColB.push(C[c]);
-      pivValB.push(piv);
-      let nz = 0;
+      pivValB.push(M[po + c]);
       for (let c2 = c + 1; c2 < nc; c2++) {
         const v = M[po + c2];
         if (v !== 0) {
-          nzIdx[nz++] = c2;
           Ui.push(C[c2]);
           Uv.push(v);
         }
       }
       Uptr.push(Ui.n);
-      const denseRow = 2 * nz > nc - c - 1;
-      const hp = h[p];
-      for (let t = 0; t < nLive; t++) {
-        const r = live[t];
-        const ro = r * nc;
-        const x = M[ro + c];
-        if (x === 0) continue;
-        const l = x / piv;
-        Li.push(R[r]);
-        Lv.push(l);
-        if (denseRow) {
-          for (let c2 = c + 1; c2 < nc; c2++) M[ro + c2] -= l * M[po + c2];
-        } else {
-          for (let s = 0; s < nz; s++) {
-            const c2 = nzIdx[s];
-            M[ro + c2] -= l * M[po + c2];
+      // rows live at step s: rows pivoted later, and rows never pivoted
+      for (let r = 0; r < nr; r++) {
+        const st = res.rowStep[r];
+        if (st > s || st === -1) {
+          const l = M[r * nc + c];
+          if (l !== 0) {
+            Li.push(R[r]);
+            Lv.push(l);
           }
         }
-        const g = Math.abs(l) * hp;
-        if (g > h[r]) h[r] = g;
       }
       Lptr.push(Li.n);
     }
-    for (let t = 0; t < nLive; t++) singularRows.push(R[live[t]]);
+    for (let c = 0; c < nc; c++) if (res.colStep[c] < 0) singularCols.push(C[c]);
+    for (let r = 0; r < nr; r++) if (res.rowStep[r] < 0) singularRows.push(R[r]);
     for (let r = 0; r < nr; r++) rowActive[R[r]] = 0;
     for (let c = 0; c < nc; c++) colActive[C[c]] = 0;
     nAR = 0;
@@ -922,6 +888,112 @@ export function sparseLU(
     conditionEstimate,
     factorNnz: li.length + ui.length + rank,
   };
+}
+
+/** Panel width of the blocked dense LU. */
+const PANEL = 32;
+
+/**
+ * Blocked right-looking LU with partial (row) pivoting of the nr×nc
+ * row-major block M, in place: after return, for pivot step s (row pr[s],
+ * column pc[s]) M[pr[s], pc[s]] is the pivot, M[pr[s], c] for later columns
+ * the U entries, and M[r, pc[s]] the multiplier of every row r pivoted after
+ * step s (or never pivoted). Columns whose live entries are all negligible
+ * (≤ tol · h[r]) are skipped (colStep = −1); rowStep[r] = −1 for rows never
+ * pivoted. h is the per-row magnitude history, updated here.
+ */
+function denseBlockLU(
+  M: Float64Array,
+  nr: number,
+  nc: number,
+  h: Float64Array,
+  tol: number,
+): { pr: number[]; pc: number[]; rowStep: Int32Array; colStep: Int32Array } {
+  const pr: number[] = [];
+  const pc: number[] = [];
+  const rowStep = new Int32Array(nr).fill(-1);
+  const colStep = new Int32Array(nc).fill(-1);
+  const live = new Int32Array(nr);
+  for (let r = 0; r < nr; r++) live[r] = r;
+  let nLive = nr;
+  const poff = new Int32Array(PANEL); // row offsets of the panel's pivot rows
+  const pcol = new Int32Array(PANEL); // their pivot columns
+  for (let c0 = 0; c0 < nc && nLive > 0; c0 += PANEL) {
+    const c1 = Math.min(nc, c0 + PANEL);
+    let k = 0;
+    // factor the panel (updates restricted to panel columns)
+    for (let c = c0; c < c1; c++) {
+      if (nLive === 0) break;
+      let best = -1;
+      let bmax = 0;
+      for (let t = 0; t < nLive; t++) {
+        const r = live[t];
+        const av = Math.abs(M[r * nc + c]);
+        if (av > tol * h[r] && av > bmax) {
+          bmax = av;
+          best = t;
+        }
+      }
+      if (best < 0) continue;
+      const p = live[best];
+      live[best] = live[--nLive];
+      rowStep[p] = pr.length;
+      colStep[c] = pr.length;
+      pr.push(p);
+      pc.push(c);
+      const po = p * nc;
+      poff[k] = po;
+      pcol[k] = c;
+      k++;
+      const piv = M[po + c];
+      const hp = h[p];
+      for (let t = 0; t < nLive; t++) {
+        const r = live[t];
+        const ro = r * nc;
+        const x = M[ro + c];
+        if (x === 0) continue;
+        const l = x / piv;
+        M[ro + c] = l;
+        for (let c2 = c + 1; c2 < c1; c2++) M[ro + c2] -= l * M[po + c2];
+        const g = Math.abs(l) * hp;
+        if (g > h[r]) h[r] = g;
+      }
+    }
+    if (c1 >= nc || k === 0) continue;
+    // U12: pivot rows of this panel, trailing columns (forward substitution in pivot order)
+    for (let t = 1; t < k; t++) rankUpdate(M, poff[t], poff, pcol, t, c1, nc);
+    // trailing update of the live rows
+    for (let t = 0; t < nLive; t++) rankUpdate(M, live[t] * nc, poff, pcol, k, c1, nc);
+  }
+  // columns never reached or skipped stay at −1; mark skipped ones distinctly is unnecessary
+  return { pr, pc, rowStep, colStep };
+}
+
+/** M[ro + c1..nc) −= Σ_{s<k} M[ro + pcol[s]] · M[poff[s] + c1..nc), four terms at a time. */
+function rankUpdate(
+  M: Float64Array,
+  ro: number,
+  poff: Int32Array,
+  pcol: Int32Array,
+  k: number,
+  c1: number,
+  nc: number,
+): void {
+  let s = 0;
+  for (; s + 4 <= k; s += 4) {
+    const l0 = M[ro + pcol[s]], l1 = M[ro + pcol[s + 1]], l2 = M[ro + pcol[s + 2]], l3 = M[ro + pcol[s + 3]];
+    if (l0 === 0 && l1 === 0 && l2 === 0 && l3 === 0) continue;
+    const a0 = poff[s], a1 = poff[s + 1], a2 = poff[s + 2], a3 = poff[s + 3];
+    for (let j = c1; j < nc; j++) {
+      M[ro + j] -= l0 * M[a0 + j] + l1 * M[a1 + j] + l2 * M[a2 + j] + l3 * M[a3 + j];
+    }
+  }
+  for (; s < k; s++) {
+    const l0 = M[ro + pcol[s]];
+    if (l0 === 0) continue;
+    const a0 = poff[s];
+    for (let j = c1; j < nc; j++) M[ro + j] -= l0 * M[a0 + j];
+  }
 }
 
 /** Solves A x = b for each right-hand side after one factorisation. */
