@@ -47,9 +47,12 @@ for it in range(50):
     if np.max(np.abs(F)) < 1e-12: break
     x = x - np.linalg.solve(np.array(fj(x, qin), dtype=float), F)
 W = list(dh) + list(q)
-Fw = sp.Matrix(eqs).jacobian(W); Fx = sp.Matrix(eqs).jacobian(list(h)); Fu = sp.Matrix(eqs).jacobian([u])
-sub = dict(zip(unk, x)); sub.update({d: 0 for d in dh}); sub[u] = qin
-Mw = np.array(Fw.subs(sub), dtype=float); Mx = np.array(Fx.subs(sub), dtype=float); Mu = np.array(Fu.subs(sub), dtype=float)
+allv = list(dh) + unk + [u]
+fw = sp.lambdify([allv], sp.Matrix(eqs).jacobian(W), 'numpy')
+fx = sp.lambdify([allv], sp.Matrix(eqs).jacobian(list(h)), 'numpy')
+fu = sp.lambdify([allv], sp.Matrix(eqs).jacobian([u]), 'numpy')
+pt = [0.0] * n + list(x) + [qin]
+Mw = np.array(fw(pt), dtype=float); Mx = np.array(fx(pt), dtype=float); Mu = np.array(fu(pt), dtype=float)
 S = -np.linalg.solve(Mw, np.hstack([Mx, Mu]))
 A = S[:n, :n]; B = S[:n, n:]
 print('%.6f %.12g' % (time.perf_counter() - t0, A[0, 0]))
