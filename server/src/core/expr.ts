@@ -81,6 +81,13 @@ function coeffOf(n: Node): [number, Node] {
 }
 
 export function add(args: Node[], src?: Span): Node {
+  if (args.length === 2) {
+    const [a, b] = args;
+    if (a.t === 'num' && b.t === 'num') return num(a.v + b.v, src);
+    if (a.t === 'num' && a.v === 0) return withSrc(b, src);
+    if (b.t === 'num' && b.v === 0) return withSrc(a, src);
+    if (a.t === 'sym' && b.t === 'sym' && a.id !== b.id) return src ? { t: 'add', args: [a, b], src } : { t: 'add', args: [a, b] };
+  }
   const flat: Node[] = [];
   for (const a of args) {
     if (a.t === 'add') flat.push(...a.args);
@@ -125,13 +132,22 @@ function baseExp(n: Node): [Node, Node] {
 }
 
 export function mul(args: Node[], src?: Span): Node {
+  if (args.length === 2) {
+    const [a, b] = args;
+    if (a.t === 'num' && b.t === 'num') return num(a.v * b.v, src);
+    if ((a.t === 'num' && a.v === 0) || (b.t === 'num' && b.v === 0)) return withSrc(ZERO, src);
+    if (a.t === 'num' && a.v === 1) return withSrc(b, src);
+    if (b.t === 'num' && b.v === 1) return withSrc(a, src);
+    if (a.t === 'sym' && b.t === 'sym' && a.id !== b.id) return src ? { t: 'mul', args: [a, b], src } : { t: 'mul', args: [a, b] };
+    if (a.t === 'num' && b.t === 'sym') return src ? { t: 'mul', args: [a, b], src } : { t: 'mul', args: [a, b] };
+  }
   const flat: Node[] = [];
   for (const a of args) {
     if (a.t === 'mul') flat.push(...a.args);
     else flat.push(a);
   }
   let c = 1;
-  const facs = new Map<string, { base: Node; exps: Node[] }>();
+  const facs = new Map<string, { base: Node; exps: Node[]; src?: Span }>();
   const order: string[] = [];
   for (const a of flat) {
     if (a.t === 'num') {
@@ -143,7 +159,7 @@ export function mul(args: Node[], src?: Span): Node {
     const f = facs.get(kk);
     if (f) f.exps.push(e);
     else {
-      facs.set(kk, { base: b, exps: [e] });
+      facs.set(kk, { base: b, exps: [e], src: a.src });
       order.push(kk);
     }
   }
@@ -152,7 +168,8 @@ export function mul(args: Node[], src?: Span): Node {
   for (const kk of order) {
     const f = facs.get(kk)!;
     const e = f.exps.length === 1 ? f.exps[0] : add(f.exps);
-    const p = pow(f.base, e);
+    // a lone factor keeps its source span (so a division by zero points at the division)
+    const p = f.exps.length === 1 ? withSrc(pow(f.base, e), f.src) : pow(f.base, e);
     if (p.t === 'num') c *= p.v;
     else out.push(p);
   }
@@ -199,7 +216,7 @@ export function fn(name: FnName, args: Node[], src?: Span): Node {
 
 export const neg = (a: Node, src?: Span): Node => mul([num(-1), a], src);
 export const sub = (a: Node, b: Node, src?: Span): Node => add([a, neg(b)], src);
-export const div = (a: Node, b: Node, src?: Span): Node => mul([a, pow(b, num(-1))], src);
+export const div = (a: Node, b: Node, src?: Span): Node => mul([a, pow(b, num(-1), src)], src); // the divisor keeps the span (division-by-zero ranges)
 
 /** Evaluate with slot values. */
 export function evaluate(n: Node, v: ArrayLike<number>): number {
@@ -305,7 +322,7 @@ export function derivative(n: Node, id: number): Node {
           return mul([add([mul([a, da]), mul([b, db])]), pow(n, num(-1))]);
         }
         case 'min': return fn('pick', [a, b, da, derivative(b, id)]);
-        case 'max': return fn('pick', [b, a, derivative(b, id), da]);
+        case 'max': return fn('pick', [b, a, da, derivative(b, id)]); // b <= a: the max is a
         case 'pick': return fn('pick', [a, b, derivative(n.args[2], id), derivative(n.args[3], id)]);
       }
     }

@@ -131,9 +131,9 @@ export function lex(text: string): LexResult {
       push({ kind: 'number', text: t, span: { start, end: i }, value: Number.isFinite(value) ? value : 0 });
       continue;
     }
-    const cp = text.codePointAt(i)!;
-    const chs = String.fromCodePoint(cp);
-    if (chs === 'Δ' || nameStart.test(chs)) {
+    const c0 = text.charCodeAt(i);
+    const chs = c0 < 128 ? ch : String.fromCodePoint(text.codePointAt(i)!);
+    if ((c0 >= 97 && c0 <= 122) || (c0 >= 65 && c0 <= 90) || c0 === 95 || (c0 >= 128 && (chs === 'Δ' || nameStart.test(chs)))) {
       const start = i;
       let delta = false;
       if (chs === 'Δ') {
@@ -142,6 +142,13 @@ export function lex(text: string): LexResult {
       }
       const nameStartAt = i;
       while (i < n) {
+        const code = text.charCodeAt(i);
+        // ASCII fast path: letters, digits, underscore
+        if ((code >= 97 && code <= 122) || (code >= 65 && code <= 90) || (code >= 48 && code <= 57) || code === 95) {
+          i++;
+          continue;
+        }
+        if (code < 128) break;
         const c = String.fromCodePoint(text.codePointAt(i)!);
         if (c === 'Δ' || !namePart.test(c)) break;
         i += c.length;
