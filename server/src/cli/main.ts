@@ -6,7 +6,11 @@ import * as fs from 'fs';
 import * as path from 'path';
 import { analyze, located, type Analysis } from '../core/analysis';
 import type { Diagnostic } from '../core/diagnostics';
-import { formatLinearMarkdown, formatLinearText, formatValues, linearJson } from '../core/format';
+import { EXPORT_FORMATS, exportLinearModel, type ExportFormat } from '../core/exports';
+import { formatLinearText, formatValues } from '../core/format';
+import { formatSymbolic, symbolicLinear } from '../core/symbolic';
+import { sweepCommand } from './sweep';
+import { reportCommand } from './report';
 
 export interface Io {
   out(s: string): void;
@@ -23,12 +27,14 @@ export const USAGE = `Usage: poise <command> [options]
 Commands:
   check FILE...                       report problems (path:line:col: severity CODE: message); exit 1 on any error
   solve FILE [--point NAME]           solve the operating point and print every variable with its unit
-  linearize FILE [--point NAME] [--format text|json|markdown] [--digits N]
+  linearize FILE [--point NAME] [--format text|json|csv|markdown|latex|numpy] [--digits N] [--symbolic]
                                       print the deviation equations and A, B, C, D at the point
+                                      (--symbolic: coefficients as formulas in the constants and point values)
   report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE] [--format text|json]
                                       dynamics at the point: poles, gains, responses, validity range
   sweep FILE --point NAME --vary NAME=FROM:TO:N [--log] [--format text|json|csv] [--html OUT.html]
-                                      linear models across a range of operating points
+  sweep FILE --sweep NAME             linear models across a range of operating points (N steps, N+1 values;
+                                      FROM and TO in the declared unit, or with a unit: 50[mm/s])
   lsp --stdio                         run the language server over stdio (for any LSP editor)
 
 Options:
@@ -159,7 +165,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
       case 'linearize': {
         const file = oneFile(p);
         const format = opt(p, '--format') ?? 'text';
-        if (!['text', 'json', 'markdown'].includes(format)) throw new UsageError(`unknown format "${format}": use text, json or markdown`);
+        if (!['text', ...EXPORT_FORMATS].includes(format)) throw new UsageError(`unknown format "${format}": use text, ${EXPORT_FORMATS.join(', ')}`);
         const digits = Number(opt(p, '--digits') ?? (format === 'json' ? 17 : 5));
         const r = prepare(file, opt(p, '--point'), io);
         if (!r) return 1;
@@ -171,8 +177,8 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         const sol = r.a.point(r.point)!;
         const values = r.a.values(sol);
         const eqs = r.a.deviationEquations(r.point, format === 'json' ? 6 : digits)!;
-        if (format === 'json') io.out(JSON.stringify(linearJson(lin, values, eqs), null, 1));
-        else if (format === 'markdown') io.out(formatLinearMarkdown(lin, values, eqs, digits));
+        if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, opt(p, '--digits') === undefined ? undefined : digits));
+        else if (format !== 'text') io.out(exportLinearModel(lin, values, format as ExportFormat, { digits: opt(p, '--digits') === undefined ? undefined : digits }));
         else io.out(formatLinearText(r.a, lin, values, eqs, digits));
         return 0;
       }
@@ -207,6 +213,8 @@ export interface CliHelpers {
 
 /** Commands added by other modules (report, sweep): name → handler. */
 export const extraCommands: Record<string, (p: Parsed, io: Io, h: CliHelpers) => Promise<number>> = {};
+extraCommands.sweep = sweepCommand;
+extraCommands.report = reportCommand;
 
 function version(): string {
   try {

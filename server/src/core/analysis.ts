@@ -10,6 +10,7 @@ import { declaredValue, deviationEquations, linearize, type DeviationEquation, t
 import { lower, type LoweredModel } from './model';
 import { parse, type ParseResult } from './parser';
 import { solvePoint, type PointSolution } from './pointSolver';
+import { sweepDiagnostics } from './sweep';
 import { checkStructure, type StructureResult } from './structure';
 import { LineMap } from './text';
 import { checkUnits, type UnitFacts } from './unitChecker';
@@ -142,6 +143,7 @@ export class Analysis {
         if (l) out.push(...l.diagnostics);
       }
     }
+    if (this.canSolve) out.push(...sweepDiagnostics(this));
     for (const lb of this.bound.linears) {
       if (!lb.name.name || !this.pointBlock(lb.name.name)) continue;
       const want = this.digest(lb.name.name);

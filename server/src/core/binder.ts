@@ -243,6 +243,7 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean } = {}):
             diagnostics.push(diag('P212', n.nameSpan, { name: n.name, kind: kindWord[s2.kind] }));
             return false;
           }
+          used.add(s2); // a constant that gives a point its value is used (h = hmax)
           return true;
         });
       }

@@ -69,7 +69,8 @@ export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
     const base = u.units.get(s) ?? ONE_UNIT;
     const id = slots.length;
     const scale = base.scale / Math.pow(tscale, order);
-    const unitText = order === 0 ? base.text : `${base.text === '1' ? '1' : base.text}/${u.time.text || '1'}${order > 1 ? '^' + order : ''}`;
+    // dimensionless time (no unit text) leaves a derivative in the unit of its state: "1", not "1/1"
+    const unitText = order === 0 || !u.time.text ? base.text : `${base.text}/${u.time.text}${order > 1 ? '^' + order : ''}`;
     slots.push({
       id, kind, symbol: s, order, name: primeName(s.name, order), scale, offset: order === 0 ? base.offset : 0,
       unit: order === 0 ? base : { text: unitText, dims: base.dims, scale, offset: 0 },

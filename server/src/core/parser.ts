@@ -172,7 +172,7 @@ class LineParser {
     if (t.kind === 'name') {
       this.i++;
       if (this.isOp('(') && !t.delta) {
-        this.i++;
+        const open = this.toks[this.i++];
         const args: A.Expr[] = [];
         if (!this.isOp(')')) {
           for (;;) {
@@ -185,7 +185,7 @@ class LineParser {
           }
         }
         if (!this.isOp(')')) {
-          if (this.atEnd()) throw new SyntaxError_(diag('P102', this.here()));
+          if (this.atEnd()) throw new SyntaxError_(diag('P102', open.span)); // point at the unclosed "(", as for a group
           this.fail('"," or ")"');
         }
         const close = this.toks[this.i++];
@@ -248,7 +248,15 @@ export function parse(text: string): ParseResult {
       if (kw === 'point' || kw === 'linear' || kw === 'sweep') {
         const body = blockLines();
         const block = parseBlock(kw, p, line, body, diagnostics);
-        if (block.kind === 'linear' && block.digest) block.digest.text = text.slice(block.digest.span.start, block.digest.span.end);
+        if (block.kind === 'linear' && block.digest) {
+          const d = block.digest.span;
+          block.digest.text = text.slice(d.start, d.end);
+          // a hex digest such as 436e7389 lexes as a (too large) number: it is a digest, not a malformed number
+          for (let k = diagnostics.length - 1; k >= 0; k--) {
+            const x = diagnostics[k];
+            if (x.code === 'P108' && x.span.start >= d.start && x.span.end <= d.end) diagnostics.splice(k, 1);
+          }
+        }
         statements.push(block);
         continue;
       }

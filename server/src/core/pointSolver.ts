@@ -11,6 +11,7 @@ import * as E from './expr';
 import { compileModel, type CompiledModel } from './jacobian';
 import { constExprValue, type LoweredModel } from './model';
 import { sparseLU } from './numeric/sparseLU';
+import { isDimensionless } from './units';
 import { leftovers, listNames, maximumMatching } from './structure';
 import type { Span } from './text';
 
@@ -65,8 +66,15 @@ export function pointSetup(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   function pointValue(e: A.Expr, id: number): number {
     const v = constExprValue(e, m, lm, values);
     const slot = lm.slots[id];
-    // a bare number is in the declared unit of the variable
-    return hasUnit(e) ? v : v * slot.scale + slot.offset;
+    // a bare number is in the declared unit of the variable; a unit literal or a constant with a
+    // dimension (h = hmax, hmax in m, h in cm) makes the value a quantity, already in SI
+    return hasUnit(e, dimensionalConst) ? v : v * slot.scale + slot.offset;
+  }
+  function dimensionalConst(name: string): boolean {
+    const s = m.symbols.get(name);
+    if (!s || s.kind !== 'const') return false;
+    const id = lm.slotOf(s);
+    return id >= 0 && !isDimensionless(lm.slots[id].unit.dims);
   }
   for (const l of block.lines) {
     const s = m.symbols.get(l.name.name);
@@ -97,12 +105,13 @@ export function pointSetup(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   return { values, fixed, unknowns: candidates, lineOf };
 }
 
-function hasUnit(e: A.Expr): boolean {
+function hasUnit(e: A.Expr, dimensionalConst: (name: string) => boolean): boolean {
   switch (e.kind) {
     case 'number': return !!e.unit;
-    case 'unary': return hasUnit(e.arg);
-    case 'binary': return hasUnit(e.left) || hasUnit(e.right);
-    case 'call': return e.args.some(hasUnit);
+    case 'name': return dimensionalConst(e.name);
+    case 'unary': return hasUnit(e.arg, dimensionalConst);
+    case 'binary': return hasUnit(e.left, dimensionalConst) || hasUnit(e.right, dimensionalConst);
+    case 'call': return e.args.some((a) => hasUnit(a, dimensionalConst));
     default: return false;
   }
 }
@@ -150,15 +159,17 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     const freeCols = lo.underCols.filter((c) => mt.colMatch[c] < 0).map((c) => lm.slots[unknowns[c]].name);
     const extraRows = lo.overRows.filter((r) => mt.rowMatch[r] < 0).map((r) => active[r]);
     let advice: string;
+    // which fixed values appear in the left-over equations: candidates to free
+    const cand = new Set<string>();
     if (nC > nR || (nC === nR && freeCols.length)) {
       advice = `Fix ${Math.max(1, nC - nR)} more value(s) with "=", e.g. ${listNames(freeCols)}.`;
     } else {
-      // which fixed values appear in the left-over equations: candidates to free
-      const cand = new Set<string>();
-      for (const r of extraRows) for (const s of E.slots(lm.equations[r].residual)) if (fixed.has(s)) cand.add(lm.slots[s].name);
+      // every equation of the over-determined part (not only the one the matching left out) may be relieved
+      for (const r of lo.overRows) for (const s of E.slots(lm.equations[active[r]].residual)) if (fixed.has(s)) cand.add(lm.slots[s].name);
       advice = `Free ${Math.max(1, nR - nC)} fixed value(s) (write "~" instead of "=")${cand.size ? `, e.g. ${listNames([...cand])}` : ''}; left over: ${extraRows.map((r) => `"${lm.equations[r].label}"`).join(', ')}.`;
     }
-    diagnostics.push(diag('P501', pointSpan, { point: name, equations: nR, unknowns: nC, advice }, { data: { point: name, missing: freeCols } }));
+    // data for quick fixes: names that could be fixed (missing) or freed (free), and the counts
+    diagnostics.push(diag('P501', pointSpan, { point: name, equations: nR, unknowns: nC, advice }, { data: { point: name, missing: freeCols, free: [...cand], equations: nR, unknowns: nC } }));
     return result;
   }
 
@@ -229,6 +240,26 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     }
     fmax = evalF();
   }
+  /** |F_i| / max_j |∂F_i/∂x_j|·max(|x_j|, unit scale) per active equation, Jacobian at the current values. */
+  const currentRatios = (): Float64Array => {
+    cm.residual(values, F);
+    cm.jacobian(values, J);
+    const mx = new Float64Array(nR);
+    for (let k = 0; k < J.length; k++) {
+      const i = activeIdx[cm.rows[k]];
+      const j = colOf.get(cm.cols[k]);
+      if (i < 0 || j === undefined) continue;
+      const mag = Math.max(Math.abs(values[unknowns[j]]), Math.abs(lm.slots[unknowns[j]].scale));
+      mx[i] = Math.max(mx[i], Math.abs(J[k]) * mag);
+    }
+    const ratio = new Float64Array(nR);
+    for (let i = 0; i < nR; i++) {
+      const f = Math.abs(F[active[i]]);
+      ratio[i] = mx[i] > 0 ? f / mx[i] : f * rowScale[i];
+    }
+    return ratio;
+  };
+  const currentResidual = (): number => currentRatios().reduce((a, b) => (b > a || Number.isNaN(b) ? b : a), 0);
   const x0 = new Float64Array(nU);
   const step = new Float64Array(nU);
   let it = 0;
@@ -286,16 +317,21 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   }
   result.iterations = it;
   result.residual = fmax;
-  if (!converged && fmax <= tol * 10) converged = true;
+  // The row scales were taken at the guesses: a residual that is small against those sensitivities may
+  // still be large against the current ones (e.g. exp(x) far from its root). Before accepting a small
+  // scaled residual without a small step, measure each equation against its current sensitivities.
+  if (!converged && fmax <= tol * 10 && currentResidual() <= tol * 10) converged = true;
 
   if (!converged) {
-    // worst equation
+    // worst equation, measured against its current sensitivities; reported as its own residual (SI)
     let worst = -1;
     let wv = -1;
+    const ratios = currentRatios();
+    let wr = -1;
     for (let i = 0; i < nR; i++) {
-      const f = Math.abs(F[active[i]] * rowScale[i]);
-      if (f > wv) {
-        wv = f;
+      if (ratios[i] > wr) {
+        wr = ratios[i];
+        wv = Math.abs(F[active[i]]);
         worst = active[i];
       }
     }
@@ -316,15 +352,18 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   for (const r of checks) {
     const f = F[r];
     const scale = equationScale(lm, r, values);
-    if (!(Math.abs(f) <= 1e-8 * scale)) {
+    if (!Number.isFinite(f) || !(Math.abs(f) <= 1e-8 * scale)) { // an infinite term makes the scale infinite too
       diagnostics.push(diag('P508', lm.equations[r].span, { point: name, residual: Number.isFinite(f) ? f.toExponential(3) : String(f) }, { related: [{ span: pointSpan, message: `point ${name}` }] }));
     }
   }
   // isolated? Jacobian at the solution must be nonsingular
   if (nR === nU && nU > 0) {
     const e = entries();
-    const lu = sparseLU(nU, e);
-    if (!lu.ok) {
+    // an infinite slope (√ at 0) is reported by pointChecks as not differentiable, not as a free direction
+    let finite = true;
+    for (let k = 0; k < e.nnz; k++) if (!Number.isFinite(e.vals[k])) finite = false;
+    const lu = finite ? sparseLU(nU, e) : undefined;
+    if (lu && !lu.ok) {
       const names = lu.singularCols.map((c) => lm.slots[unknowns[c]].name);
       diagnostics.push(diag('P506', pointSpan, { point: name, names: listNames(names) }, { data: { point: name, names } }));
     }

@@ -192,6 +192,9 @@ export function sparseLU(
       // compact away zeros, detect non-finite
       let w2 = start;
       for (let p = start; p < w; p++) {
+        // forget this row's positions: after compaction they hold other entries (or the next row's), and a
+        // stale `where` of a dropped zero would make the next row sum into them
+        where[csrCol[p]] = -1;
         const v = csrVal[p];
         if (!Number.isFinite(v)) {
           badRow[i] = 1;

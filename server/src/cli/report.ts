@@ -1,0 +1,73 @@
+/**
+ * `poise report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE]... [--format text|json] [--tolerance PCT]`
+ *
+ * Prints the dynamics at the point (text summary or JSON) and, with --html, writes the standalone page.
+ * SIZE is in the input's declared unit, or a percentage of its operating value with a trailing "%".
+ */
+import * as fs from 'fs';
+import * as path from 'path';
+import { buildReport, formatReportText, renderReportHtml } from '../core/report';
+import type { CliHelpers, Io, Parsed } from './main';
+
+export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
+  const file = h.oneFile(p);
+  const format = h.opt(p, '--format') ?? 'text';
+  if (!['text', 'json'].includes(format)) throw new h.UsageError(`unknown format "${format}": use text or json`);
+  const tolText = h.opt(p, '--tolerance');
+  let tolerance: number | undefined;
+  if (tolText !== undefined) {
+    const v = Number(tolText.replace(/%$/, ''));
+    if (!Number.isFinite(v) || v <= 0 || v >= 100) throw new h.UsageError(`--tolerance takes a percentage between 0 and 100, not "${tolText}"`);
+    tolerance = v / 100;
+  }
+  const stepSpecs = (h.opt(p, '--step') ?? '').split(';').filter((s) => s.trim());
+  const htmlOut = h.opt(p, '--html');
+  const r = h.prepare(file, h.opt(p, '--point'), io);
+  if (!r) return 1;
+  const lin = r.a.linear(r.point);
+  if (!lin || !lin.ok) {
+    for (const d of lin?.diagnostics ?? []) io.err(`${file}: ${d.message}`);
+    if (!lin?.diagnostics.length) io.err(`${file}: the model cannot be linearised at point "${r.point}"`);
+    return 1;
+  }
+  const sol = r.a.point(r.point)!;
+  const values = new Map(r.a.values(sol).map((v) => [v.name, v]));
+  const steps: Record<string, number> = {};
+  for (const spec of stepSpecs) {
+    const eq = spec.indexOf('=');
+    if (eq <= 0) throw new h.UsageError(`--step takes INPUT=SIZE, not "${spec}"`);
+    const name = spec.slice(0, eq).trim();
+    const sizeText = spec.slice(eq + 1).trim();
+    if (!lin.inputs.includes(name)) {
+      throw new h.UsageError(`--step: "${name}" is not an input of the model${lin.inputs.length ? ` (inputs: ${lin.inputs.join(', ')})` : ''}`);
+    }
+    let size: number;
+    if (sizeText.endsWith('%')) {
+      const pct = Number(sizeText.slice(0, -1));
+      const op = values.get(name)?.value ?? 0;
+      size = (pct / 100) * (op !== 0 ? Math.abs(op) : 1);
+    } else size = Number(sizeText);
+    if (!Number.isFinite(size) || size === 0) throw new h.UsageError(`--step ${name}: "${sizeText}" is not a non-zero number (a value in the input's unit, or a percentage like 5%)`);
+    steps[name] = size;
+  }
+  const data = buildReport(r.a, r.point, { steps, tolerance, title: path.basename(file) });
+  if (!data.ok) {
+    for (const m of data.problems) io.err(`${file}: ${m}`);
+    return 1;
+  }
+  if (htmlOut) {
+    try {
+      fs.mkdirSync(path.dirname(path.resolve(htmlOut)), { recursive: true });
+      fs.writeFileSync(htmlOut, renderReportHtml(data), 'utf8');
+    } catch (e) {
+      io.err(`poise: cannot write ${htmlOut}: ${(e as Error).message}`);
+      return 1;
+    }
+  }
+  if (format === 'json') io.out(JSON.stringify(data));
+  else {
+    io.out(formatReportText(data));
+    if (htmlOut) io.out(`\nWrote ${htmlOut}`);
+  }
+  return 0;
+}

@@ -1,0 +1,91 @@
+/**
+ * `poise sweep`: linear models across a range of operating points.
+ *
+ *   poise sweep FILE --point NAME --vary NAME=FROM:TO:N [--log] [--format text|json|csv] [--html OUT.html] [--digits N]
+ *   poise sweep FILE --sweep NAME [...]        run a `sweep` block declared in the file
+ *   poise sweep FILE                           run the file's only declared sweep
+ *
+ * FROM and TO are numbers in the declared unit of the varied name, or numbers with a unit in brackets
+ * (e.g. 50[mm/s]); N is the number of steps (N + 1 values, both ends included).
+ */
+import * as fs from 'fs';
+import * as path from 'path';
+import { analyze, type Analysis } from '../core/analysis';
+import type { Diagnostic } from '../core/diagnostics';
+import { sweepHtml } from '../core/sweepReport';
+import { declaredSweeps, formatSweepText, runSweep, sweepCsv, sweepJson, sweepRequest, type SweepSpec } from '../core/sweep';
+import type { CliHelpers, Io, Parsed } from './main';
+
+function where(a: Analysis, file: string, d: Diagnostic): string {
+  const p = a.lines.position(d.span.start);
+  return `${file}:${p.line + 1}:${p.character + 1}: ${d.severity} ${d.code}: ${d.message}`;
+}
+
+export async function sweepCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
+  const file = h.oneFile(p);
+  const format = h.opt(p, '--format') ?? 'text';
+  if (!['text', 'json', 'csv'].includes(format)) throw new h.UsageError(`unknown format "${format}": use text, json or csv`);
+  const digitsOpt = h.opt(p, '--digits');
+  const digits = digitsOpt === undefined ? 5 : Number(digitsOpt);
+  if (!Number.isInteger(digits) || digits < 1 || digits > 17) throw new h.UsageError('--digits wants a whole number from 1 to 17');
+  const html = h.opt(p, '--html');
+  const vary = h.opt(p, '--vary');
+  const sweepName = h.opt(p, '--sweep');
+  if (vary !== undefined && sweepName !== undefined) throw new h.UsageError('give either --vary or --sweep, not both');
+  if (p.opts.has('--log') && vary === undefined) throw new h.UsageError('--log goes with --vary (a declared sweep says "log" itself)');
+
+  // the declared sweep to run, if any: needs the model text first
+  let point = h.opt(p, '--point');
+  let declaredSpec: SweepSpec | undefined;
+  if (vary === undefined) {
+    const a0 = analyze(h.readModel(file));
+    const all = declaredSweeps(a0).filter((d) => d.block.name.name);
+    let chosen = all[0];
+    if (sweepName !== undefined) {
+      chosen = all.find((d) => d.block.name.name === sweepName)!;
+      if (!chosen) {
+        io.err(`${file}: no sweep named "${sweepName}"${all.length ? `; the file declares ${all.map((d) => `"${d.block.name.name}"`).join(', ')}` : ''}`);
+        return 1;
+      }
+    } else if (all.length !== 1) {
+      throw new h.UsageError(all.length ? `${file} declares ${all.length} sweeps (${all.map((d) => d.block.name.name).join(', ')}); choose one with --sweep NAME` : '"poise sweep" needs --vary NAME=FROM:TO:N (or a sweep declared in the file)');
+    }
+    const errors = a0.diagnostics.filter((d) => d.severity === 'error');
+    if (errors.length) {
+      for (const d of errors) io.err(where(a0, file, d));
+      return 1;
+    }
+    if (chosen.diagnostics.length || !chosen.spec) {
+      for (const d of chosen.diagnostics) io.err(where(a0, file, d));
+      if (!chosen.diagnostics.length) io.err(`${file}: sweep "${chosen.block.name.name}" is incomplete: it needs "from POINT" and a "vary" line`);
+      return 1;
+    }
+    declaredSpec = chosen.spec;
+    if (point !== undefined && point !== chosen.spec.point) throw new h.UsageError(`sweep "${chosen.spec.name}" starts from point "${chosen.spec.point}", not "${point}"`);
+    point = chosen.spec.point;
+  }
+
+  const r = h.prepare(file, point, io);
+  if (!r) return 1;
+  let spec = declaredSpec;
+  if (!spec) {
+    const req = sweepRequest(r.a, r.point, vary!, p.opts.has('--log'));
+    if (!req.spec) throw new h.UsageError(req.error ?? 'cannot sweep');
+    spec = req.spec;
+  }
+  const result = runSweep(r.a, spec);
+  if (format === 'json') io.out(JSON.stringify(sweepJson(result), null, 1));
+  else if (format === 'csv') io.out(sweepCsv(result));
+  else io.out(formatSweepText(result, digits));
+  if (result.stop) io.err(`${file}: sweep stopped: ${result.stop.message}`);
+  if (html !== undefined) {
+    try {
+      fs.writeFileSync(html, sweepHtml(result, { title: path.basename(file), digits }));
+    } catch (e) {
+      io.err(`poise: cannot write ${html}: ${(e as Error).message}`);
+      return 1;
+    }
+    io.err(`wrote ${html}`);
+  }
+  return result.points.length ? 0 : 1;
+}

@@ -1,0 +1,499 @@
+/**
+ * The dynamics report of one operating point as plain, JSON-serialisable data: the point, the modes and
+ * stability, gains, transfer functions, controllability/observability, frequency responses, linear versus
+ * nonlinear step responses and the validity range of the linear model per input. `renderReportHtml`
+ * (reportHtml.ts) turns it into one standalone page; `formatReportText` into a readable summary. Pure.
+ */
+import type { Analysis } from './analysis';
+import {
+  analyzeDynamics, frequencyGrid, frequencyResponse,
+  type Complex, type DcGain, type FrequencyResponse, type Horizon, type Mode, type RankTest, type StabilityVerdict, type TransferFunction,
+} from './dynamics';
+import { formatNumber } from './expr';
+import { declaredValue } from './linearizer';
+import { linearStepResponse } from './numeric/expm';
+import { Simulator } from './simulate';
+
+export { renderReportHtml, type RenderOptions } from './reportHtml';
+
+export interface ReportOptions {
+  /** Step size per input (declared unit) for the step-response plots; default 10 % of the operating value (of one unit when it is 0). */
+  steps?: Record<string, number>;
+  /** Validity tolerance as a fraction of the nonlinear response's largest change (default 0.05). */
+  tolerance?: number;
+  /** Number of frequencies of the frequency responses (default 200). */
+  frequencies?: number;
+  /** Compute the validity ranges (default true; they cost about twenty nonlinear simulations per input). */
+  validity?: boolean;
+  /** Title shown on the page (e.g. the file name). */
+  title?: string;
+  /** Samples of each step response (default 241). */
+  samples?: number;
+}
+
+export interface ValueRow {
+  name: string;
+  kind: string;
+  value: number;
+  unit: string;
+  role: string;
+}
+
+export interface StepOutput {
+  name: string;
+  unit: string;
+  /** Deviations from the point, declared unit, at the times `t`. */
+  linear: number[];
+  /** Same for the nonlinear model (shorter when the integration stopped early). */
+  nonlinear: number[];
+  /** Half-width of the validity band: tolerance × largest |nonlinear change|. */
+  band: number;
+  /** Largest |linear − nonlinear| / largest |nonlinear change| (null when not available). */
+  error: number | null;
+  /** False when the linear model has no path from this input to this output. */
+  linked: boolean;
+}
+
+export interface StepReport {
+  input: string;
+  inputUnit: string;
+  operatingValue: number;
+  step: number;
+  /** Step as % of the operating value (of one unit when the value is 0). */
+  stepPercent: number;
+  percentBasis: 'operating value' | 'unit';
+  t: number[];
+  outputs: StepOutput[];
+  status: 'ok' | 'domain' | 'failed';
+  message?: string;
+  /** Worst error over the linked outputs, and whether it is within the tolerance (null when unknown). */
+  error: number | null;
+  withinTolerance: boolean | null;
+}
+
+export interface ValidityLimit {
+  /** Largest step found valid (declared unit, ≥ 0). */
+  step: number;
+  percent: number;
+  /** What ends the range. */
+  limitedBy: 'tolerance' | 'domain' | 'search limit' | 'nothing valid';
+  /** Smallest step found invalid (null when none was). */
+  firstInvalid: number | null;
+  /** Message of the smallest step that left the domain, if any. */
+  domainMessage?: string;
+}
+
+export interface ValiditySample {
+  /** Signed step, declared unit. */
+  step: number;
+  /** Error as a fraction of the nonlinear change (null when the simulation failed). */
+  error: number | null;
+  status: 'ok' | 'domain' | 'failed';
+}
+
+export interface ValidityReport {
+  input: string;
+  unit: string;
+  operatingValue: number;
+  percentBasis: 'operating value' | 'unit';
+  tolerance: number;
+  /** Outputs the criterion looks at. */
+  outputs: string[];
+  up: ValidityLimit | null;
+  down: ValidityLimit | null;
+  samples: ValiditySample[];
+  note?: string;
+}
+
+export interface ReportData {
+  format: 'poise-report/1';
+  title: string;
+  point: string;
+  timeUnit: string;
+  digest: string;
+  ok: boolean;
+  problems: string[];
+  values: ValueRow[];
+  states: string[];
+  inputs: string[];
+  outputs: string[];
+  stateUnits: string[];
+  inputUnits: string[];
+  outputUnits: string[];
+  outputsAreStates: boolean;
+  matrices: { A: number[][]; B: number[][]; C: number[][]; D: number[][] } | null;
+  stability: StabilityVerdict | null;
+  eigenvalues: Complex[];
+  modes: Mode[];
+  dcGain: DcGain | null;
+  transfer: TransferFunction[];
+  controllability: RankTest | null;
+  observability: RankTest | null;
+  frequency: FrequencyResponse | null;
+  horizon: Horizon | null;
+  tolerance: number;
+  steps: StepReport[];
+  validity: ValidityReport[] | null;
+  cautions: string[];
+  /** Wall-clock milliseconds of each stage (for information; varies run to run). */
+  timingsMs: Record<string, number>;
+}
+
+export const CAUTIONS = [
+  'A linear model describes the plant only near the operating point it was taken at. Check the validity range of each input before relying on it for larger moves.',
+  'Validate any controller designed from this model on the full nonlinear model, and then on the plant itself, before putting it into service.',
+  'Loops that protect people, equipment or the environment must follow the local codes and standards that apply and be engineered and approved under licensed professional practice; this report does not replace that.',
+];
+
+const now = (): number => (typeof performance !== 'undefined' ? performance.now() : Date.now());
+
+/** JSON-safe number (NaN and ±Infinity become null). */
+const js = (v: number): number | null => (Number.isFinite(v) ? v : null);
+
+function rows(a: Float64Array, r: number, c: number): number[][] {
+  const out: number[][] = [];
+  for (let i = 0; i < r; i++) out.push(Array.from(a.subarray(i * c, i * c + c)));
+  return out;
+}
+
+export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}): ReportData {
+  const tolerance = opts.tolerance ?? 0.05;
+  const timingsMs: Record<string, number> = {};
+  const data: ReportData = {
+    format: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: a.lowered.timeUnit || 's', digest: a.pointBlock(point) ? a.digest(point) : '',
+    ok: false, problems: [], values: [], states: [], inputs: [], outputs: [], stateUnits: [], inputUnits: [], outputUnits: [], outputsAreStates: false,
+    matrices: null, stability: null, eigenvalues: [], modes: [], dcGain: null, transfer: [], controllability: null, observability: null,
+    frequency: null, horizon: null, tolerance, steps: [], validity: null, cautions: CAUTIONS.slice(), timingsMs,
+  };
+  const t0 = now();
+  if (!a.pointBlock(point)) {
+    data.problems.push(`The model has no point named "${point}".`);
+    return data;
+  }
+  const errors = a.diagnostics.filter((d) => d.severity === 'error');
+  if (errors.length || !a.canSolve) {
+    data.problems.push(...(errors.length ? errors.map((d) => d.message) : ['The model has errors; fix them first.']));
+    return data;
+  }
+  const sol = a.point(point);
+  if (!sol || !sol.ok) {
+    data.problems.push(...(sol?.diagnostics.filter((d) => d.severity === 'error').map((d) => d.message) ?? ['The point could not be solved.']));
+    return data;
+  }
+  data.values = a.values(sol).map((v) => ({ name: v.name, kind: v.kind, value: v.value, unit: v.unit, role: v.role }));
+  const lin = a.linear(point);
+  if (!lin || !lin.ok) {
+    data.problems.push(...(lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearised at this point.']));
+    return data;
+  }
+  const dyn = analyzeDynamics(lin);
+  const sys = dyn.system;
+  timingsMs.analysis = now() - t0;
+  Object.assign(data, {
+    ok: true, states: sys.states, inputs: sys.inputs, outputs: sys.outputs, stateUnits: sys.stateUnits, inputUnits: sys.inputUnits, outputUnits: sys.outputUnits,
+    outputsAreStates: sys.outputsAreStates,
+    matrices: { A: rows(lin.A, lin.n, lin.n), B: rows(lin.B, lin.n, lin.m), C: rows(lin.C, lin.p, lin.n), D: rows(lin.D, lin.p, lin.m) },
+    stability: dyn.stability, eigenvalues: dyn.eigenvalues, modes: dyn.modes, dcGain: dyn.dcGain, transfer: dyn.transfer,
+    controllability: dyn.controllability, observability: dyn.observability, horizon: dyn.horizon,
+  });
+
+  const t1 = now();
+  data.frequency = frequencyResponse(dyn, frequencyGrid(dyn, opts.frequencies ?? 200));
+  timingsMs.frequency = now() - t1;
+
+  // step responses: linear (exact) and nonlinear from the point
+  const t2 = now();
+  const { n, m, p } = sys;
+  const T = dyn.horizon.value;
+  const samples = Math.max(11, opts.samples ?? 241);
+  const times = Array.from({ length: samples }, (_, k) => (T * k) / (samples - 1));
+  const sim = new Simulator(a.lowered, a.structure.unknowns, sol.values, point);
+  const linked = (i: number, j: number) => {
+    const tf = dyn.transfer.find((x) => x.outputIndex === i && x.inputIndex === j);
+    return !!tf && !tf.identicallyZero;
+  };
+  const unitResp = (j: number, tt: number[]) => {
+    const u = new Float64Array(m);
+    u[j] = 1;
+    return linearStepResponse(sys.A, sys.B, sys.C, sys.D, n, m, p, u, Float64Array.from(tt));
+  };
+  const opValue = (j: number) => declaredValue(a.lowered.slots[lin.inputSlots[j]], sol.values[lin.inputSlots[j]]);
+  const outputSeries = (r: ReturnType<Simulator['step']>): number[][] => (sys.outputsAreStates ? r.states : r.outputs);
+
+  for (let j = 0; j < m; j++) {
+    const op = opValue(j);
+    const basis = op !== 0 ? Math.abs(op) : 1;
+    const given = opts.steps?.[sys.inputs[j]];
+    const step = given !== undefined && Number.isFinite(given) && given !== 0 ? given : 0.1 * basis;
+    const lr = unitResp(j, times);
+    const du = new Float64Array(m);
+    du[j] = step;
+    const stateScale = maxAbsCols(lr.x, n).map((v) => v * Math.abs(step));
+    const r = sim.step({ du, horizon: T, times, stateScale });
+    const ys = outputSeries(r);
+    const outs: StepOutput[] = [];
+    let worst: number | null = null;
+    for (let i = 0; i < p; i++) {
+      const L = lr.y.map((y) => y[i] * step);
+      const N = ys[i] ?? [];
+      let mx = 0;
+      let dev = 0;
+      for (let k = 0; k < N.length; k++) {
+        mx = Math.max(mx, Math.abs(N[k]));
+        dev = Math.max(dev, Math.abs(N[k] - L[k]));
+      }
+      const ok = r.status === 'ok';
+      const err = ok && mx > 0 ? dev / mx : ok && dev === 0 ? 0 : null;
+      const lk = linked(i, j);
+      if (lk && ok) worst = Math.max(worst ?? 0, err ?? Infinity);
+      outs.push({ name: sys.outputs[i], unit: sys.outputUnits[i], linear: L, nonlinear: N, band: tolerance * mx, error: err === null ? null : js(err), linked: lk });
+    }
+    data.steps.push({
+      input: sys.inputs[j], inputUnit: sys.inputUnits[j], operatingValue: op, step, stepPercent: (100 * step) / basis, percentBasis: op !== 0 ? 'operating value' : 'unit',
+      t: times, outputs: outs, status: r.status, message: r.message, error: worst === null ? null : js(worst), withinTolerance: worst === null ? null : worst <= tolerance,
+    });
+  }
+  timingsMs.steps = now() - t2;
+
+  if (opts.validity !== false) {
+    const t3 = now();
+    const vs = Math.min(samples, 121);
+    const vtimes = Array.from({ length: vs }, (_, k) => (T * k) / (vs - 1));
+    data.validity = [];
+    for (let j = 0; j < m; j++) {
+      const op = opValue(j);
+      const basis = op !== 0 ? Math.abs(op) : 1;
+      const lr = unitResp(j, vtimes);
+      const outIdx = Array.from({ length: p }, (_, i) => i).filter((i) => linked(i, j));
+      const rep: ValidityReport = {
+        input: sys.inputs[j], unit: sys.inputUnits[j], operatingValue: op, percentBasis: op !== 0 ? 'operating value' : 'unit', tolerance,
+        outputs: outIdx.map((i) => sys.outputs[i]), up: null, down: null, samples: [],
+      };
+      if (!outIdx.length) {
+        rep.note = 'No output responds to this input in the linear model, so there is nothing to compare.';
+        data.validity.push(rep);
+        continue;
+      }
+      const xScale = maxAbsCols(lr.x, n);
+      const cache = new Map<number, ValiditySample & { message?: string }>();
+      const evaluate = (s: number) => {
+        const hit = cache.get(s);
+        if (hit) return hit;
+        const du = new Float64Array(m);
+        du[j] = s;
+        const r = sim.step({ du, horizon: T, times: vtimes, stateScale: xScale.map((v) => v * Math.abs(s)), rtol: 1e-6 });
+        let error: number | null = null;
+        if (r.status === 'ok') {
+          const ys = outputSeries(r);
+          error = 0;
+          for (const i of outIdx) {
+            let mx = 0;
+            let dev = 0;
+            const N = ys[i];
+            for (let k = 0; k < N.length; k++) {
+              mx = Math.max(mx, Math.abs(N[k]));
+              dev = Math.max(dev, Math.abs(N[k] - lr.y[k][i] * s));
+            }
+            error = Math.max(error, mx > 0 ? dev / mx : dev === 0 ? 0 : Infinity);
+          }
+        }
+        const smp = { step: s, error: error === null ? null : js(error), status: r.status, message: r.message };
+        cache.set(s, smp);
+        return smp;
+      };
+      const valid = (x: ValiditySample) => x.status === 'ok' && x.error !== null && x.error <= tolerance;
+      const given = opts.steps?.[sys.inputs[j]];
+      const s0 = given !== undefined && Number.isFinite(given) && given !== 0 ? Math.abs(given) : 0.1 * basis;
+      const cap = 10 * basis;
+      const search = (sign: 1 | -1): ValidityLimit => {
+        let lo = 0; // largest valid magnitude
+        let hi = Infinity; // smallest invalid magnitude
+        let s = s0;
+        const first = evaluate(sign * s);
+        let domainMsg: string | undefined;
+        const note = (x: ValiditySample & { message?: string }, mag: number) => {
+          if (x.status === 'domain' && (domainMsg === undefined || mag <= hi)) domainMsg = x.message;
+        };
+        // two smaller steps show how the difference falls off towards the point
+        evaluate(sign * s / 4);
+        evaluate(sign * s / 2);
+        if (valid(first)) {
+          lo = s;
+          while (s < cap) {
+            s = Math.min(cap, 2 * s);
+            const x = evaluate(sign * s);
+            if (valid(x)) lo = s;
+            else {
+              hi = s;
+              note(x, s);
+              break;
+            }
+          }
+        } else {
+          hi = s;
+          note(first, s);
+          for (let k = 0; k < 16; k++) {
+            s /= 2;
+            const x = evaluate(sign * s);
+            if (valid(x)) {
+              lo = s;
+              break;
+            }
+            hi = s;
+            note(x, s);
+          }
+        }
+        if (lo > 0 && hi < Infinity) {
+          for (let k = 0; k < 12 && hi / lo > 1.02; k++) {
+            const mid = Math.sqrt(lo * hi);
+            const x = evaluate(sign * mid);
+            if (valid(x)) lo = mid;
+            else {
+              hi = mid;
+              note(x, mid);
+            }
+          }
+        }
+        const firstInvalid = hi < Infinity ? hi : null;
+        const inv = firstInvalid !== null ? cache.get(sign * firstInvalid) : undefined;
+        let limitedBy: ValidityLimit['limitedBy'];
+        if (lo === 0) limitedBy = 'nothing valid';
+        else if (firstInvalid === null) limitedBy = 'search limit';
+        else limitedBy = inv && inv.status === 'domain' ? 'domain' : 'tolerance';
+        return { step: lo, percent: (100 * lo) / basis, limitedBy, firstInvalid, domainMessage: domainMsg };
+      };
+      rep.up = search(1);
+      rep.down = search(-1);
+      rep.samples = [...cache.values()].map(({ step, error, status }) => ({ step, error, status })).sort((x, y) => x.step - y.step);
+      data.validity.push(rep);
+    }
+    timingsMs.validity = now() - t3;
+  }
+  return data;
+}
+
+function maxAbsCols(x: Float64Array[], n: number): number[] {
+  const out = new Array<number>(n).fill(0);
+  for (const v of x) for (let i = 0; i < n; i++) out[i] = Math.max(out[i], Math.abs(v[i]));
+  return out;
+}
+
+// ------------------------------------------------------------------------------------- text
+
+const f = (v: number | null | undefined, d = 4): string => (v === null || v === undefined ? '—' : formatNumber(v, d));
+const u = (unit: string) => (unit ? ` ${unit}` : '');
+
+export function complexText(c: Complex, d = 4): string {
+  if (c.im === 0) return f(c.re, d);
+  return `${f(c.re, d)} ${c.im < 0 ? '-' : '+'} ${f(Math.abs(c.im), d)}i`;
+}
+
+/** Polynomial in s as text: "0.5 s^2 + 1.2 s + 3". */
+export function polyText(c: number[], d = 4, v = 's'): string {
+  const deg = c.length - 1;
+  const parts: string[] = [];
+  c.forEach((a, k) => {
+    if (a === 0) return;
+    const pw = deg - k;
+    const mag = Math.abs(a);
+    const coef = mag === 1 && pw > 0 ? '' : f(mag, d);
+    const term = pw === 0 ? coef : `${coef}${coef ? ' ' : ''}${v}${pw > 1 ? `^${pw}` : ''}`;
+    parts.push(`${parts.length ? (a < 0 ? ' - ' : ' + ') : a < 0 ? '-' : ''}${term}`);
+  });
+  return parts.join('') || '0';
+}
+
+/** Factored form: "0.03125 / (s + 0.0003375)". */
+export function factoredText(tf: TransferFunction, d = 4): string {
+  if (tf.identicallyZero) return '0';
+  const fac = (rs: Complex[]): string[] => {
+    const out: string[] = [];
+    for (const r of rs) {
+      if (r.im < 0) continue;
+      if (r.im > 0) out.push(`(s^2 ${-2 * r.re < 0 ? '-' : '+'} ${f(Math.abs(2 * r.re), d)} s + ${f(r.re * r.re + r.im * r.im, d)})`);
+      else if (r.re === 0) out.push('s');
+      else out.push(`(s ${r.re > 0 ? '-' : '+'} ${f(Math.abs(r.re), d)})`);
+    }
+    return out;
+  };
+  const num = fac(tf.zeros);
+  const den = fac(tf.poles);
+  const top = [f(tf.gain, d), ...num].join('·');
+  return den.length ? `${top} / ${den.length > 1 ? `[${den.join('·')}]` : den[0]}` : top;
+}
+
+export function formatReportText(r: ReportData, d = 4): string {
+  const out: string[] = [];
+  const t = r.timeUnit;
+  out.push(`${r.title} — report of point "${r.point}" (time in ${t})`);
+  if (!r.ok) {
+    out.push('', 'The report could not be made:', ...r.problems.map((p) => `  ${p}`));
+    return out.join('\n');
+  }
+  out.push('', 'Operating point:');
+  const w = Math.max(4, ...r.values.filter((v) => v.kind !== 'const').map((v) => v.name.length));
+  for (const v of r.values) if (v.kind !== 'const') out.push(`  ${v.name.padEnd(w)}  ${f(v.value, 6).padStart(12)}${u(v.unit ? `[${v.unit}]` : '')}${v.role === 'fixed' ? '  (fixed)' : ''}`);
+  out.push('', `Stability: ${r.stability!.verdict}. ${r.stability!.reason}`);
+  out.push('', `Modes (eigenvalues in 1/${t}):`);
+  for (const md of r.modes) {
+    const lam = md.multiplicity === 2 ? `${f(md.re, d)} ± ${f(md.im, d)}i` : f(md.re, d);
+    let desc = md.description;
+    if (md.kind === 'real') desc += `, τ = ${f(md.timeConstant, d)} ${t}`;
+    if (md.kind === 'oscillatory' || md.kind === 'undamped') desc += `, ωn = ${f(md.naturalFrequency, d)} rad/${t}, period ${f(md.period, d)} ${t}`;
+    const flags = [!md.controllable ? 'uncontrollable' : '', !md.observable ? 'unobservable' : ''].filter(Boolean).join(', ');
+    out.push(`  ${String(md.number).padStart(2)}. λ = ${lam}: ${desc}; lives in ${md.dominant.join(', ')}${flags ? ` [${flags}]` : ''}`);
+  }
+  if (!r.modes.length) out.push('  (none: the model has no states)');
+  const ctl = r.controllability!;
+  const obs = r.observability!;
+  out.push('', `Controllability (PBH): rank ${ctl.rank} of ${ctl.n}${ctl.failing.length ? `; uncontrollable: ${ctl.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}`);
+  out.push(`Observability (PBH): rank ${obs.rank} of ${obs.n}${obs.failing.length ? `; unobservable: ${obs.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}${r.outputsAreStates ? ' (no outputs declared: the states are the outputs)' : ''}`);
+  const g = r.dcGain!;
+  out.push('', `Steady-state gains (output change per input change${g.method === 'per-pair' ? '; A is singular, so pairs through an integrator have no steady state' : ''}):`);
+  for (let i = 0; i < r.outputs.length; i++) {
+    for (let j = 0; j < r.inputs.length; j++) {
+      const v = g.gain[i][j];
+      const integ = g.integrating.find((x) => x.input === r.inputs[j] && x.output === r.outputs[i]);
+      const val = v !== null ? `${f(v, d)}${u(g.units[i][j])}` : integ ? `integrates${integ.rate !== null ? ` at ${f(integ.rate, d)} ${integ.rateUnit}` : ` (${integ.order} integrators)`}` : '—';
+      out.push(`  Δ${r.outputs[i]} / Δ${r.inputs[j]}: ${val}`);
+    }
+  }
+  out.push('', 'Transfer functions G(s) = K·Π(s − z)/Π(s − p):');
+  for (const tf of r.transfer) {
+    out.push(`  ${tf.input} → ${tf.output}: ${factoredText(tf, d)}${tf.unit ? `   [${tf.unit}]` : ''}`);
+    if (!tf.identicallyZero && tf.order > 0) {
+      out.push(`      = (${polyText(tf.num, d)}) / (${polyText(tf.den, d)})`);
+      out.push(`      poles: ${tf.poles.map((x) => complexText(x, d)).join(', ') || 'none'}; zeros: ${tf.zeros.map((x) => complexText(x, d)).join(', ') || 'none'}${tf.cancelled ? `; ${tf.cancelled} mode(s) do not appear` : ''}`);
+    }
+  }
+  if (r.frequency) {
+    const w = r.frequency.omega;
+    out.push('', `Frequency response: ${w.length} frequencies from ${f(w[0], 3)} to ${f(w[w.length - 1], 3)} ${r.frequency.unit} (in the JSON and HTML output).`);
+  }
+  out.push('', `Step responses over ${f(r.horizon!.value, d)} ${t} (${r.horizon!.reason}):`);
+  for (const s of r.steps) {
+    out.push(`  step of ${f(s.step, d)}${u(s.inputUnit)} in ${s.input} (${f(s.stepPercent, 3)} % of the ${s.percentBasis}): ${s.status === 'ok' ? (s.error === null ? 'no linked output' : `linear vs nonlinear differ by ${f(100 * s.error, 3)} % of the change${s.withinTolerance ? ' (within tolerance)' : ' (beyond tolerance)'}`) : s.message ?? s.status}`);
+    for (const o of s.outputs) {
+      if (!o.linked) continue;
+      const L = o.linear[o.linear.length - 1];
+      const N = o.nonlinear.length === o.linear.length ? o.nonlinear[o.nonlinear.length - 1] : null;
+      out.push(`      Δ${o.name} at the end: linear ${f(L, d)}, nonlinear ${N === null ? '—' : f(N, d)}${u(o.unit)}`);
+    }
+  }
+  if (r.validity) {
+    out.push('', `Validity range (linear within ${f(100 * r.tolerance, 3)} % of the nonlinear change over the horizon):`);
+    for (const v of r.validity) {
+      if (v.note) {
+        out.push(`  ${v.input}: ${v.note}`);
+        continue;
+      }
+      const lim = (l: ValidityLimit | null, sign: string) =>
+        !l ? '—' : l.limitedBy === 'nothing valid' ? `${sign}: no step found valid` : `${sign}${f(l.step, 3)}${u(v.unit)} (${f(l.percent, 3)} %)${l.limitedBy === 'search limit' ? ' or more' : l.limitedBy === 'domain' ? ', then out of the domain' : ''}`;
+      out.push(`  ${v.input}: up to ${lim(v.up, '+')}, down to ${lim(v.down, '-')}  (of the ${v.percentBasis} ${f(v.operatingValue, 4)}${u(v.unit)})`);
+      const dm = v.up?.domainMessage ?? v.down?.domainMessage;
+      if (dm) out.push(`      ${dm}`);
+    }
+  }
+  out.push('', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`));
+  return out.join('\n');
+}

@@ -1,0 +1,96 @@
+/**
+ * Go to definition, find references and rename, for declared names (through the binder's reference list,
+ * so comments are never touched) and point names (point headers, linear blocks, sweeps). A rename keeps
+ * generated linear blocks consistent: their Δ names and `at` names are references too, and a block that
+ * was up to date gets its digest recomputed for the renamed model. Pure.
+ */
+import { analyze, type Analysis } from '../analysis';
+import { BUILTIN_CONSTANTS } from '../binder';
+import { BUILTIN_ARITY } from '../expr';
+import { KEYWORDS, RESERVED } from '../parser';
+import type { Span } from '../text';
+import { applyEdits, type TextEdit } from './edits';
+import { targetAt, type Target } from './locate';
+
+/** Where the name at `offset` is declared (a point: its header name). */
+export function definition(a: Analysis, offset: number): Span[] {
+  const t = targetAt(a, offset);
+  if (!t) return [];
+  if (t.kind === 'symbol') return [t.symbol.span];
+  if (t.kind === 'point') return t.block ? [t.block.name.span] : [];
+  if (t.kind === 'sweep') return [t.block.name.span];
+  return [];
+}
+
+/** Every occurrence of the name at `offset` (declaration first when asked for). */
+export function references(a: Analysis, offset: number, includeDeclaration = true): Span[] {
+  const t = targetAt(a, offset);
+  if (!t) return [];
+  return occurrences(a, t, includeDeclaration);
+}
+
+function occurrences(a: Analysis, t: Target, includeDeclaration: boolean): Span[] {
+  const out: Span[] = [];
+  if (t.kind === 'symbol') {
+    if (includeDeclaration) out.push(t.symbol.span);
+    for (const r of a.bound.references) if (r.symbol === t.symbol) out.push(r.span);
+  } else if (t.kind === 'point') {
+    const m = a.bound;
+    for (const p of m.points) if (p.name.name === t.name && (includeDeclaration || p !== t.block)) out.push(p.name.span);
+    for (const l of m.linears) if (l.name.name === t.name) out.push(l.name.span);
+    for (const s of m.sweeps) if (s.point?.name === t.name) out.push(s.point.span);
+  } else if (t.kind === 'sweep') {
+    if (includeDeclaration) out.push(t.block.name.span);
+  }
+  return out.sort((x, y) => x.start - y.start);
+}
+
+export interface RenameTarget {
+  span: Span;
+  placeholder: string;
+}
+
+/** What a rename at `offset` would rename, or undefined when the cursor is not on a renamable name. */
+export function prepareRename(a: Analysis, offset: number): RenameTarget | undefined {
+  const t = targetAt(a, offset);
+  if (!t) return undefined;
+  if (t.kind === 'symbol') return { span: t.span, placeholder: t.symbol.name };
+  if (t.kind === 'point' && t.block) return { span: t.span, placeholder: t.name };
+  if (t.kind === 'sweep') return { span: t.span, placeholder: t.block.name.name };
+  return undefined;
+}
+
+export type RenameResult = { ok: true; edits: TextEdit[] } | { ok: false; message: string };
+
+const NAME = /^[\p{L}_][\p{L}\p{N}_]*$/u;
+
+/** Why `name` cannot be a name, or undefined when it can. */
+export function invalidName(name: string): string | undefined {
+  if (!NAME.test(name) || name.includes('Δ')) return `"${name}" is not a name: use letters, digits and "_", starting with a letter or "_" (no "Δ").`;
+  if (RESERVED.has(name) || KEYWORDS.has(name)) return `"${name}" is a keyword of the model language.`;
+  if (name in BUILTIN_ARITY || name in BUILTIN_CONSTANTS) return `"${name}" is a built-in name.`;
+  return undefined;
+}
+
+export function rename(a: Analysis, offset: number, newName: string): RenameResult {
+  const t = targetAt(a, offset);
+  const prep = prepareRename(a, offset);
+  if (!t || !prep) return { ok: false, message: 'Put the cursor on a declared name, a point name or a sweep name to rename it.' };
+  if (newName === prep.placeholder) return { ok: true, edits: [] };
+  const bad = invalidName(newName);
+  if (bad) return { ok: false, message: bad };
+  if (t.kind === 'symbol' && a.bound.symbols.has(newName)) return { ok: false, message: `"${newName}" is already declared: choose another name.` };
+  if (t.kind === 'point' && a.pointNames.includes(newName)) return { ok: false, message: `There is already a point "${newName}".` };
+  if (t.kind === 'sweep' && a.bound.sweeps.some((s) => s.name.name === newName)) return { ok: false, message: `There is already a sweep "${newName}".` };
+  const edits: TextEdit[] = occurrences(a, t, true).map((span) => ({ span, newText: newName }));
+  // generated blocks that were up to date stay up to date: recompute their digests for the renamed model
+  const fresh = a.bound.linears.filter((lb) => lb.name.name && lb.digest && a.pointBlock(lb.name.name) && lb.digest.text.trim() === a.digest(lb.name.name));
+  if (fresh.length) {
+    const b = analyze(applyEdits(a.text, edits), a.options);
+    for (const lb of fresh) {
+      const point = t.kind === 'point' && lb.name.name === t.name ? newName : lb.name.name;
+      edits.push({ span: lb.digest!.span, newText: b.digest(point) });
+    }
+  }
+  return { ok: true, edits };
+}

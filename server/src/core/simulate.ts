@@ -1,0 +1,425 @@
+/**
+ * Step responses of the nonlinear model from an operating point.
+ *
+ * The model is the descriptor system F(w, X, z, u) = 0 of the lowering (w the highest derivatives, X the
+ * first-order state components, z the vars and outputs, u the inputs). The integrator sees the ODE
+ * ξ' = f(ξ) in the deviation ξ = X − X₀ (SI units, time in seconds): at each evaluation the unknowns
+ * (w, z) — the columns `structure.unknowns` — are found from F = 0 by Newton's method with the sparse
+ * analytic Jacobian, warm-started from the previous solution (a chord iteration that refactors when it
+ * contracts poorly), and X' = (the next state component for the shift rows, w for the highest
+ * derivatives). The Jacobian for the stiff integrator is analytic: ∂(w, z)/∂X = −M⁻¹·F_X with
+ * M = ∂F/∂(w, z) at the converged point, the same elimination the linearizer makes. Integration is Rodas4
+ * (numeric/ode.ts). The drift of f at the point itself (the round-off the point solver left) is
+ * subtracted, so an exact steady state stays put.
+ *
+ * A trial state outside the model's domain (√ of a negative, log of zero, …) makes f return false; the
+ * integrator shrinks its step, and when it cannot get past, the result has status 'domain' with a message
+ * naming the function and the states that left their sign. Never throws for model failures.
+ */
+import type { Analysis } from './analysis';
+import { compileModel, type CompiledModel } from './jacobian';
+import type { LoweredModel } from './model';
+import { integrateStiff } from './numeric/ode';
+import { sparseLU, type SparseLUResult } from './numeric/sparseLU';
+import { pointChecks } from './pointSolver';
+
+export interface StepOptions {
+  /** Input steps (deviations) in each input's declared unit, in input order. */
+  du: ArrayLike<number>;
+  /** End time in the model's time unit. */
+  horizon: number;
+  /** Sample times in the model's time unit (ascending, within [0, horizon]); default: `samples` uniform points. */
+  times?: ArrayLike<number>;
+  samples?: number;
+  /** Relative tolerance of the integrator (default 1e-6). */
+  rtol?: number;
+  /** Expected size of each state component's deviation, declared unit (sets the absolute tolerance). */
+  stateScale?: ArrayLike<number>;
+  /** Step attempts allowed (default 20000). */
+  maxSteps?: number;
+}
+
+export interface StepResult {
+  status: 'ok' | 'domain' | 'failed';
+  message?: string;
+  /** Sample times in the model's time unit (only those reached). */
+  t: number[];
+  /** Deviations from the operating point in declared units: [state component][sample]. */
+  states: number[][];
+  /** Deviations of the outputs in declared units: [output][sample]. */
+  outputs: number[][];
+  /** Time (model unit) the integration reached. */
+  reached: number;
+  stats: { steps: number; rejected: number; fEvals: number; jEvals: number; newton: number; factorizations: number };
+}
+
+/** Integrates the nonlinear model from one operating point; reusable for many steps. */
+export class Simulator {
+  readonly lm: LoweredModel;
+  readonly cm: CompiledModel;
+  readonly n: number;
+  readonly m: number;
+  readonly N: number;
+  /** Output slot ids (in declaration order). */
+  readonly outputSlots: number[];
+  private readonly unknowns: number[];
+  private readonly colOf: Int32Array;
+  private readonly stateIdx: Int32Array;
+  private readonly values: Float64Array;
+  private readonly base: Float64Array;
+  private readonly F: Float64Array;
+  private readonly Jv: Float64Array;
+  private readonly dx: Float64Array;
+  /** Natural magnitude of each unknown: the size that balances the terms of its equations at the point. */
+  private readonly natural: Float64Array;
+  /** Jacobian entries that belong to M (unknown columns) and to F_X (state columns). */
+  private readonly mEnt: Int32Array;
+  private readonly xEnt: Int32Array;
+  /** Entries of F_X by state component. */
+  private readonly xCols: number[][];
+  private lu: SparseLUResult | undefined;
+  private f0: Float64Array;
+  private z0: Float64Array;
+  private newtonCount = 0;
+  private factorCount = 0;
+  private badValues: Float64Array | undefined;
+  /** Why the base point itself cannot be used (undefined when fine). */
+  readonly problem: string | undefined;
+
+  constructor(lm: LoweredModel, unknowns: number[], pointValues: Float64Array, private readonly pointName = '') {
+    this.lm = lm;
+    this.cm = compileModel(lm);
+    this.unknowns = unknowns;
+    this.n = lm.stateComponents.length;
+    this.m = lm.inputs.length;
+    this.N = unknowns.length;
+    this.outputSlots = lm.slots.filter((s) => s.kind === 'output').map((s) => s.id);
+    this.colOf = new Int32Array(lm.slots.length).fill(-1);
+    unknowns.forEach((s, i) => (this.colOf[s] = i));
+    this.stateIdx = new Int32Array(lm.slots.length).fill(-1);
+    lm.stateComponents.forEach((s, i) => (this.stateIdx[s] = i));
+    this.base = Float64Array.from(pointValues);
+    this.values = Float64Array.from(pointValues);
+    this.F = new Float64Array(this.cm.nEq);
+    this.Jv = new Float64Array(this.cm.nodes.length);
+    this.dx = new Float64Array(this.N);
+    const mEnt: number[] = [];
+    const xEnt: number[] = [];
+    for (let k = 0; k < this.cm.nodes.length; k++) {
+      const c = this.cm.cols[k];
+      if (this.colOf[c] >= 0) mEnt.push(k);
+      else if (this.stateIdx[c] >= 0) xEnt.push(k);
+    }
+    this.mEnt = Int32Array.from(mEnt);
+    this.xEnt = Int32Array.from(xEnt);
+    this.xCols = Array.from({ length: this.n }, () => [] as number[]);
+    for (const k of xEnt) this.xCols[this.stateIdx[this.cm.cols[k]]].push(k);
+    this.natural = naturalScales(this.cm, this.base, this.colOf, this.N, unknowns.map((id) => lm.slots[id].scale));
+    // the point itself: solve once (refines the point solver's result) and record the drift
+    this.f0 = new Float64Array(this.n);
+    this.z0 = new Float64Array(this.N);
+    if (this.cm.nEq !== this.N) {
+      this.problem = 'the model is not square (structure errors)';
+      return;
+    }
+    const ok = this.solve(this.values);
+    if (!ok) {
+      this.problem = `the equations cannot be solved at the operating point itself${this.domainDetail() ? ` (${this.domainDetail()})` : ''}`;
+      return;
+    }
+    this.deriv(this.values, this.f0, false);
+    for (let k = 0; k < this.N; k++) this.z0[k] = this.values[unknowns[k]];
+  }
+
+  /**
+   * Newton on F(w, X, z, u) = 0 for the unknowns in v (states and inputs as set), starting from the values
+   * in v. Reuses the last factorisation (chord iteration) and refactors when the corrections stop
+   * shrinking fast; stops at a relative correction of 1e-13 or at the round-off floor. False on failure.
+   */
+  private solve(v: Float64Array): boolean {
+    const { N, F, dx, cm, unknowns } = this;
+    if (N === 0) {
+      cm.residual(v, F);
+      return allFinite(F);
+    }
+    let prev = Infinity;
+    let fresh = false;
+    for (let it = 0; it < 30; it++) {
+      cm.residual(v, F);
+      if (!allFinite(F)) {
+        this.badValues = Float64Array.from(v);
+        return false;
+      }
+      if (!this.lu) {
+        if (!this.factor(v)) return false;
+        fresh = true;
+      }
+      for (let k = 0; k < N; k++) dx[k] = -F[k];
+      const step = this.lu!.solve(dx);
+      let conv = 0;
+      let tight = true;
+      for (let k = 0; k < N; k++) {
+        const id = unknowns[k];
+        const a = Math.abs(step[k]);
+        const vk = Math.abs(v[id]);
+        const c = a / (vk + this.natural[k]);
+        if (c > conv) conv = c;
+        if (!(a <= 1e-13 * vk + 1e-14 * this.natural[k])) tight = false;
+        v[id] += step[k];
+      }
+      this.newtonCount++;
+      if (!Number.isFinite(conv)) {
+        this.badValues = Float64Array.from(v);
+        return false;
+      }
+      if (tight) return true;
+      if (it >= 1 && conv >= 0.25 * prev) {
+        if (fresh) return conv <= 1e-9; // round-off floor reached (or no convergence)
+        if (!this.factor(v)) return false;
+        fresh = true;
+      }
+      prev = conv;
+    }
+    return false;
+  }
+
+  /** Sparse LU of M = ∂F/∂(w, z) at v. */
+  private factor(v: Float64Array): boolean {
+    const { cm, Jv, mEnt, colOf } = this;
+    cm.jacobian(v, Jv);
+    const nnz = mEnt.length;
+    const rows = new Int32Array(nnz);
+    const cols = new Int32Array(nnz);
+    const vals = new Float64Array(nnz);
+    for (let q = 0; q < nnz; q++) {
+      const k = mEnt[q];
+      rows[q] = cm.rows[k];
+      cols[q] = colOf[cm.cols[k]];
+      vals[q] = Jv[k];
+      if (!Number.isFinite(vals[q])) {
+        this.badValues = Float64Array.from(v);
+        return false;
+      }
+    }
+    const lu = sparseLU(this.N, { rows, cols, vals, nnz });
+    this.factorCount++;
+    if (!lu.ok) return false;
+    this.lu = lu;
+    return true;
+  }
+
+  /**
+   * ∂X'/∂X at the point of the last factorisation (Jv and lu current): shift rows are unit entries; the
+   * rows of the highest derivatives are −(M⁻¹F_X) restricted to w, found either column by column
+   * (one solve per state component) or row by row (one transposed solve per highest derivative, then a
+   * sparse product with F_X), whichever needs fewer solves.
+   */
+  private fillJacobian(J: Float64Array): void {
+    const { n, lm, cm, Jv, colOf, stateIdx } = this;
+    const cd = lm.componentDerivative;
+    J.fill(0);
+    const wRows: number[] = [];
+    for (let i = 0; i < n; i++) {
+      const si = stateIdx[cd[i]];
+      if (si >= 0) J[i * n + si] = 1;
+      else wRows.push(i);
+    }
+    if (!wRows.length) return;
+    const lu = this.lu!;
+    const rhs = new Float64Array(this.N);
+    if (wRows.length < n) {
+      // row i of J: −e_wᵀ M⁻¹ F_X = −(M⁻ᵀ e_w)ᵀ F_X
+      for (const i of wRows) {
+        rhs.fill(0);
+        rhs[colOf[cd[i]]] = 1;
+        const y = lu.solveTranspose(rhs);
+        for (const k of this.xEnt) J[i * n + stateIdx[cm.cols[k]]] -= y[cm.rows[k]] * Jv[k];
+      }
+      return;
+    }
+    for (let j = 0; j < n; j++) {
+      rhs.fill(0);
+      for (const k of this.xCols[j]) rhs[cm.rows[k]] -= Jv[k];
+      const y = lu.solve(rhs);
+      for (const i of wRows) J[i * n + j] = y[colOf[cd[i]]];
+    }
+  }
+
+  /** X' from solved values (SI per second), minus the drift at the point when `relative`. */
+  private deriv(v: Float64Array, out: Float64Array, relative = true): void {
+    const cd = this.lm.componentDerivative;
+    for (let i = 0; i < this.n; i++) out[i] = v[cd[i]] - (relative ? this.f0[i] : 0);
+  }
+
+  private setInputs(v: Float64Array, du: ArrayLike<number>): void {
+    const { lm } = this;
+    lm.inputs.forEach((id, j) => (v[id] = this.base[id] + (du[j] ?? 0) * lm.slots[id].scale));
+  }
+
+  private setStates(v: Float64Array, xi: Float64Array): void {
+    const sc = this.lm.stateComponents;
+    for (let i = 0; i < this.n; i++) v[sc[i]] = this.base[sc[i]] + xi[i];
+  }
+
+  /** Text for a domain failure at the last bad values: the function and states that changed sign. */
+  private domainDetail(): string {
+    const bad = this.badValues;
+    if (!bad) return '';
+    const parts: string[] = [];
+    const ds = pointChecks(this.lm, bad, this.pointName, { start: 0, end: 0 }).filter((d) => d.code === 'P504');
+    if (ds.length) {
+      const d = ds[0];
+      const detail = d.message.replace(/^Domain error at point "[^"]*": /, '').replace(/\.$/, '');
+      const eq = this.lm.equations.find((e) => e.span.start <= d.span.start && d.span.end <= e.span.end);
+      parts.push(eq ? `${detail} in "${eq.label}"` : detail);
+    }
+    const crossed: string[] = [];
+    for (const id of [...this.lm.stateComponents, ...this.lm.algebraic]) {
+      const s = this.lm.slots[id];
+      if (s.order !== 0 || s.kind === 'deriv') continue;
+      const b = this.base[id];
+      const x = bad[id];
+      if (b > 0 && x < 0) crossed.push(`${s.name} fell below zero (${fmtV((x - s.offset) / s.scale)}${s.unit.text && s.unit.text !== '1' ? ' ' + s.unit.text : ''})`);
+    }
+    if (crossed.length) parts.push(crossed.slice(0, 3).join(', '));
+    return parts.join('; ');
+  }
+
+  /**
+   * Response to input steps `du` (declared units) applied at t = 0 from the operating point.
+   * Deviations in declared units, time in the model's unit.
+   */
+  step(o: StepOptions): StepResult {
+    const { lm, n, m } = this;
+    const ts = lm.timeScale || 1;
+    const stats = { steps: 0, rejected: 0, fEvals: 0, jEvals: 0, newton: 0, factorizations: 0 };
+    this.newtonCount = 0;
+    this.factorCount = 0;
+    const samples = Math.max(2, o.samples ?? 241);
+    const tModel: number[] = [];
+    if (o.times) for (let k = 0; k < o.times.length; k++) tModel.push(o.times[k]);
+    else for (let k = 0; k < samples; k++) tModel.push((o.horizon * k) / (samples - 1));
+    const empty = (status: StepResult['status'], message: string): StepResult => ({
+      status, message, t: [], states: Array.from({ length: n }, () => []), outputs: this.outputSlots.map(() => []), reached: 0, stats,
+    });
+    if (this.problem) return empty('failed', `The nonlinear model cannot be simulated: ${this.problem}.`);
+    if (o.du.length !== m) throw new RangeError(`expected ${m} input steps, got ${o.du.length}`);
+    const v = this.values;
+    // start from the solved point
+    v.set(this.base);
+    for (let k = 0; k < this.N; k++) v[this.unknowns[k]] = this.z0[k];
+    this.setInputs(v, o.du);
+    this.badValues = undefined;
+    let tGood = 0;
+
+    const f = (t: number, xi: Float64Array, dxi: Float64Array): boolean => {
+      this.setStates(v, xi);
+      if (!this.solve(v)) return false;
+      this.deriv(v, dxi);
+      if (t > tGood) tGood = t;
+      return true;
+    };
+    const jac = (_t: number, xi: Float64Array, J: Float64Array): boolean => {
+      this.setStates(v, xi);
+      if (!this.solve(v)) return false;
+      if (!this.factor(v)) return false;
+      this.fillJacobian(J);
+      return true;
+    };
+
+    const record = (xi: Float64Array, states: number[][], outputs: number[][]): boolean => {
+      this.setStates(v, xi);
+      if (!this.solve(v)) return false;
+      for (let i = 0; i < n; i++) states[i].push(xi[i] / lm.slots[lm.stateComponents[i]].scale);
+      this.outputSlots.forEach((id, i) => outputs[i].push((v[id] - this.z0[this.colOf[id]]) / lm.slots[id].scale));
+      return true;
+    };
+
+    const states: number[][] = Array.from({ length: n }, () => []);
+    const outputs: number[][] = this.outputSlots.map(() => []);
+    const tOut: number[] = [];
+    if (n === 0) {
+      const xi = new Float64Array(0);
+      for (const t of tModel) {
+        if (!record(xi, states, outputs)) return { ...empty('domain', this.domainMessage(0)), stats };
+        tOut.push(t);
+      }
+      return { status: 'ok', t: tOut, states, outputs, reached: o.horizon, stats };
+    }
+    const atol = new Float64Array(n);
+    const rtol = o.rtol ?? 1e-6;
+    for (let i = 0; i < n; i++) {
+      const s = lm.slots[lm.stateComponents[i]];
+      const sc = o.stateScale ? Math.abs(o.stateScale[i]) * Math.abs(s.scale) : 0;
+      atol[i] = sc > 0 && Number.isFinite(sc) ? rtol * sc : 1e-9 * Math.max(Math.abs(this.base[s.id]), Math.abs(s.scale));
+    }
+    const outputTimes = Float64Array.from(tModel, (t) => t * ts);
+    const t1 = outputTimes[outputTimes.length - 1];
+    const sol = integrateStiff({ n, f, jac }, { t0: 0, t1, x0: new Float64Array(n), rtol, atol, outputTimes, maxSteps: o.maxSteps ?? 20000 });
+    stats.steps = sol.stats.steps;
+    stats.rejected = sol.stats.rejected;
+    stats.fEvals = sol.stats.fEvals;
+    stats.jEvals = sol.stats.jEvals;
+    const bad = this.badValues;
+    for (let k = 0; k < sol.t.length; k++) {
+      if (!record(sol.x[k], states, outputs)) break;
+      tOut.push(sol.t[k] / ts);
+    }
+    this.badValues = bad ?? this.badValues;
+    stats.newton = this.newtonCount;
+    stats.factorizations = this.factorCount;
+    const reached = tOut.length ? tOut[tOut.length - 1] : 0;
+    if (sol.status === 'ok' && tOut.length === tModel.length) return { status: 'ok', t: tOut, states, outputs, reached, stats };
+    if (sol.status === 'domain' || this.badValues) {
+      return { status: 'domain', message: this.domainMessage(tGood / ts), t: tOut, states, outputs, reached, stats };
+    }
+    return {
+      status: 'failed', t: tOut, states, outputs, reached, stats,
+      message: `The nonlinear integration stopped at t = ${fmtV(reached)} ${lm.timeUnit || 's'}: ${sol.message ?? 'the algebraic equations could not be solved'}.`,
+    };
+  }
+
+  private domainMessage(t: number): string {
+    const d = this.domainDetail();
+    return `The step drives the model out of its domain near t = ${fmtV(t)} ${this.lm.timeUnit || 's'}${d ? `: ${d}` : ''}.`;
+  }
+}
+
+/**
+ * For each unknown k: the smallest r_i/|M_ik| over the equations i it appears in, where r_i is the sum of
+ * |∂F_i/∂v_j·v_j| over the equation's variables (the size of its terms at the point). Falls back on the
+ * unit scale of the slot.
+ */
+function naturalScales(cm: CompiledModel, v: Float64Array, colOf: Int32Array, N: number, unitScale: number[]): Float64Array {
+  const J = new Float64Array(cm.nodes.length);
+  cm.jacobian(v, J);
+  const r = new Float64Array(cm.nEq);
+  for (let k = 0; k < J.length; k++) {
+    const t = Math.abs(J[k] * v[cm.cols[k]]);
+    if (Number.isFinite(t)) r[cm.rows[k]] += t;
+  }
+  const out = new Float64Array(N).fill(Infinity);
+  for (let k = 0; k < J.length; k++) {
+    const c = colOf[cm.cols[k]];
+    if (c < 0) continue;
+    const a = Math.abs(J[k]);
+    const ri = r[cm.rows[k]];
+    if (a > 0 && ri > 0 && Number.isFinite(ri / a)) out[c] = Math.min(out[c], ri / a);
+  }
+  for (let k = 0; k < N; k++) if (!(out[k] < Infinity) || !(out[k] > 0)) out[k] = Math.abs(unitScale[k]) || 1;
+  return out;
+}
+
+function allFinite(a: Float64Array): boolean {
+  for (let i = 0; i < a.length; i++) if (!Number.isFinite(a[i])) return false;
+  return true;
+}
+
+const fmtV = (v: number) => (v === 0 ? '0' : Math.abs(v) >= 1e-3 && Math.abs(v) < 1e6 ? String(Number(v.toPrecision(4))) : v.toExponential(3));
+
+/** A simulator for a solved point of an analysis; undefined when the point does not solve. */
+export function createSimulator(a: Analysis, point: string): Simulator | undefined {
+  const sol = a.point(point);
+  if (!sol || !sol.ok) return undefined;
+  return new Simulator(a.lowered, a.structure.unknowns, sol.values, point);
+}

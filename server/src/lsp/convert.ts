@@ -1,0 +1,97 @@
+/**
+ * Core data ↔ protocol data. The core speaks UTF-16 offsets, exactly what LSP positions count, so a
+ * position is the core's LineMap position. Nothing here analyses anything.
+ */
+import {
+  CompletionItemKind, DiagnosticSeverity, DiagnosticTag, InsertTextFormat, SymbolKind,
+  type CompletionItem, type Diagnostic as LspDiagnostic, type DocumentSymbol, type Range, type TextEdit as LspTextEdit,
+} from 'vscode-languageserver/node';
+import type { Analysis } from '../core/analysis';
+import type { Diagnostic } from '../core/diagnostics';
+import type { CompletionCandidate } from '../core/services/completion';
+import type { TextEdit } from '../core/services/edits';
+import type { OutlineItem } from '../core/services/symbols';
+import type { Span } from '../core/text';
+
+export function toRange(a: Analysis, span: Span): Range {
+  return { start: a.lines.position(span.start), end: a.lines.position(span.end) };
+}
+
+export function toSpan(a: Analysis, range: Range): Span {
+  return { start: a.lines.offset(range.start), end: a.lines.offset(range.end) };
+}
+
+const SEVERITY = { error: DiagnosticSeverity.Error, warning: DiagnosticSeverity.Warning, info: DiagnosticSeverity.Information } as const;
+
+/** Data kept on a published diagnostic so code actions get the core's facts back. */
+export interface DiagnosticData {
+  core?: Record<string, unknown>;
+}
+
+export function toDiagnostic(a: Analysis, uri: string, d: Diagnostic): LspDiagnostic {
+  const out: LspDiagnostic = {
+    range: toRange(a, d.span),
+    severity: SEVERITY[d.severity],
+    code: d.code,
+    source: 'poise',
+    message: d.message,
+  };
+  if (d.related && d.related.length) {
+    out.relatedInformation = d.related.map((r) => ({ location: { uri, range: toRange(a, r.span) }, message: r.message }));
+  }
+  if (d.code === 'P203') out.tags = [DiagnosticTag.Unnecessary];
+  if (d.data) out.data = { core: d.data } satisfies DiagnosticData;
+  return out;
+}
+
+export function toTextEdit(a: Analysis, e: TextEdit): LspTextEdit {
+  return { range: toRange(a, e.span), newText: e.newText };
+}
+
+const COMPLETION_KIND: Record<CompletionCandidate['kind'], CompletionItemKind> = {
+  const: CompletionItemKind.Constant,
+  input: CompletionItemKind.Field,
+  state: CompletionItemKind.Variable,
+  var: CompletionItemKind.Variable,
+  output: CompletionItemKind.Property,
+  function: CompletionItemKind.Function,
+  constant: CompletionItemKind.Constant,
+  keyword: CompletionItemKind.Keyword,
+  unit: CompletionItemKind.Unit,
+  point: CompletionItemKind.Module,
+};
+
+export function toCompletionItem(a: Analysis, c: CompletionCandidate, snippets: boolean): CompletionItem {
+  const item: CompletionItem = { label: c.label, kind: COMPLETION_KIND[c.kind], sortText: c.sortText };
+  if (c.detail) item.detail = c.detail;
+  if (c.documentation) item.documentation = { kind: 'markdown', value: c.documentation };
+  const insert = c.snippet && !snippets ? c.label : c.insertText ?? c.label;
+  item.textEdit = { range: toRange(a, c.replace), newText: insert };
+  if (c.snippet && snippets) item.insertTextFormat = InsertTextFormat.Snippet;
+  return item;
+}
+
+const SYMBOL_KIND: Record<OutlineItem['kind'], SymbolKind> = {
+  group: SymbolKind.Namespace,
+  const: SymbolKind.Constant,
+  input: SymbolKind.Property,
+  state: SymbolKind.Variable,
+  var: SymbolKind.Variable,
+  output: SymbolKind.Field,
+  equation: SymbolKind.Operator,
+  point: SymbolKind.Object,
+  pointLine: SymbolKind.Field,
+  linear: SymbolKind.Module,
+  sweep: SymbolKind.Event,
+};
+
+export function toDocumentSymbol(a: Analysis, o: OutlineItem): DocumentSymbol {
+  const range = toRange(a, o.span);
+  let selectionRange = toRange(a, o.selection);
+  // the selection must lie inside the range
+  if (o.selection.start < o.span.start || o.selection.end > o.span.end) selectionRange = { start: range.start, end: range.start };
+  const s: DocumentSymbol = { name: o.name || '(unnamed)', kind: SYMBOL_KIND[o.kind], range, selectionRange };
+  if (o.detail) s.detail = o.detail;
+  if (o.children) s.children = o.children.map((c) => toDocumentSymbol(a, c));
+  return s;
+}

@@ -1,0 +1,256 @@
+/**
+ * Exports of the linear model (server/src/core/exports.ts): each format read back by something outside
+ * the exporter gives the same numbers —
+ * - JSON with JSON.parse (ECMA-404), checked against the field list documented in docs/exports.md;
+ * - CSV with an RFC 4180 parser written here;
+ * - Markdown tables with a GitHub-flavoured-Markdown table parser written here;
+ * - LaTeX checked for balanced \begin/\end environments and braces (LaTeX syntax, common practice) and the
+ *   bmatrix entries parsed back;
+ * - the NumPy snippet run by Debian's Python with python3-numpy (/usr/bin/python3; skipped with a message when
+ *   numpy is missing there), the arrays printed back as JSON.
+ * Numbers are written exactly by default, so "the same numbers" means bit-for-bit equal doubles.
+ */
+import { spawnSync } from 'child_process';
+import * as fs from 'fs';
+import * as path from 'path';
+import { describe, expect, it } from 'vitest';
+import { analyze } from '../server/src/core/analysis';
+import { main, type Io } from '../server/src/cli/main';
+import { EXPORT_FORMATS, exportLinear, LINEAR_SCHEMA } from '../server/src/core/exports';
+import type { LinearModel } from '../server/src/core/linearizer';
+import { EXAMPLES, REFERENCE, ROOT } from './helpers/cli';
+
+const files = [
+  ...fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).map((f) => path.join(EXAMPLES, f)),
+  ...fs.readdirSync(path.join(REFERENCE, 'models')).filter((f) => f.endsWith('.poise')).map((f) => path.join(REFERENCE, 'models', f)),
+];
+
+const cases = files.flatMap((file) => {
+  const a = analyze(fs.readFileSync(file, 'utf8'));
+  return a.pointNames.map((point) => ({ name: `${path.basename(file)} at ${point}`, a, point, lin: a.linear(point)! }));
+});
+
+type M = 'A' | 'B' | 'C' | 'D';
+const MATS: M[] = ['A', 'B', 'C', 'D'];
+const dims = (lin: LinearModel, m: M): [number, number] => ({ A: [lin.n, lin.n], B: [lin.n, lin.m], C: [lin.p, lin.n], D: [lin.p, lin.m] })[m] as [number, number];
+const rowsOf = (lin: LinearModel, m: M): number[][] => {
+  const [r, c] = dims(lin, m);
+  return Array.from({ length: r }, (_, i) => Array.from(lin[m].subarray(i * c, i * c + c)));
+};
+
+// ---------------------------------------------------------------- parsers written for the test
+
+/** RFC 4180: fields separated by commas, optionally quoted with "" for a quote inside. */
+function parseCsv(text: string): string[][] {
+  const out: string[][] = [];
+  let row: string[] = [];
+  let cell = '';
+  let q = false;
+  for (let i = 0; i < text.length; i++) {
+    const ch = text[i];
+    if (q) {
+      if (ch === '"' && text[i + 1] === '"') {
+        cell += '"';
+        i++;
+      } else if (ch === '"') q = false;
+      else cell += ch;
+    } else if (ch === '"') q = true;
+    else if (ch === ',') {
+      row.push(cell);
+      cell = '';
+    } else if (ch === '\n') {
+      row.push(cell);
+      out.push(row);
+      row = [];
+      cell = '';
+    } else if (ch !== '\r') cell += ch;
+  }
+  if (cell || row.length) {
+    row.push(cell);
+    out.push(row);
+  }
+  return out;
+}
+
+/** GFM tables: consecutive lines starting with "|", the second a delimiter row; cells split on unescaped "|". */
+function parseMarkdownTables(text: string): { before: string; header: string[]; rows: string[][] }[] {
+  const lines = text.split('\n');
+  const tables: { before: string; header: string[]; rows: string[][] }[] = [];
+  const cells = (l: string) => l.trim().replace(/^\|/, '').replace(/\|$/, '').split(/(?<!\\)\|/).map((c) => c.trim().replace(/\\\|/g, '|'));
+  for (let i = 0; i + 1 < lines.length; i++) {
+    if (!lines[i].startsWith('|') || !/^\|[-:| ]+\|$/.test(lines[i + 1].trim())) continue;
+    let k = i - 1;
+    while (k >= 0 && !lines[k].trim()) k--;
+    const t = { before: k >= 0 ? lines[k] : '', header: cells(lines[i]), rows: [] as string[][] };
+    let j = i + 2;
+    for (; j < lines.length && lines[j].startsWith('|'); j++) t.rows.push(cells(lines[j]));
+    tables.push(t);
+    i = j;
+  }
+  return tables;
+}
+
+/** Strips LaTeX comments (an unescaped % to the end of the line). */
+const texStrip = (s: string) => s.split('\n').map((l) => l.replace(/(^|[^\\])%.*$/, '$1')).join('\n');
+
+function texBalanced(tex: string): string | undefined {
+  const body = texStrip(tex).replace(/\\[{}]/g, '');
+  let depth = 0;
+  for (const ch of body) {
+    if (ch === '{') depth++;
+    else if (ch === '}' && --depth < 0) return 'a "}" closes nothing';
+  }
+  if (depth) return `${depth} unclosed "{"`;
+  const stack: string[] = [];
+  for (const m of body.matchAll(/\\(begin|end)\{([^}]*)\}/g)) {
+    if (m[1] === 'begin') stack.push(m[2]);
+    else if (stack.pop() !== m[2]) return `\\end{${m[2]}} does not match`;
+  }
+  return stack.length ? `\\begin{${stack[0]}} never ends` : undefined;
+}
+
+/** A LaTeX number: 1.5, -2, 1.5\times 10^{-7}. */
+function texNumber(s: string): number {
+  const t = s.trim();
+  const m = /^(-?[\d.]+)\\times 10\^\{(-?\d+)\}$/.exec(t);
+  if (m) return Number(`${m[1]}e${m[2]}`);
+  if (!/^-?[\d.]+$/.test(t)) throw new Error(`not a number: ${t}`);
+  return Number(t);
+}
+
+function texMatrix(tex: string, name: M): number[][] | undefined {
+  const m = new RegExp(`(^|\\n)${name} = \\\\begin\\{bmatrix\\}([\\s\\S]*?)\\\\end\\{bmatrix\\}`).exec(texStrip(tex));
+  if (!m) return undefined;
+  return m[2].trim().split('\\\\').map((row) => row.split('&').map(texNumber));
+}
+
+// ---------------------------------------------------------------- the round trips
+
+describe('JSON', () => {
+  const doc = fs.readFileSync(path.join(ROOT, 'docs', 'exports.md'), 'utf8');
+  // field names documented in the table of the "## JSON" section of docs/exports.md: rows "| `name` | …"
+  const section = doc.slice(doc.indexOf('\n## JSON'), doc.indexOf('\n## ', doc.indexOf('\n## JSON') + 3));
+  const documented = [...section.matchAll(/^\| `([A-Za-z]+)` \|/gm)].map((m) => m[1]);
+  for (const c of cases) {
+    it(c.name, () => {
+      const j = JSON.parse(exportLinear(c.a, c.point, 'json')) as Record<string, unknown>;
+      expect(j.schema).toBe(LINEAR_SCHEMA);
+      expect(Object.keys(j).sort()).toEqual([...new Set(documented)].sort());
+      for (const m of MATS) expect(j[m]).toEqual(rowsOf(c.lin, m));
+      expect(j.states).toEqual(c.lin.states);
+      const values = j.values as Record<string, { value: number; unit: string }>;
+      for (const v of c.a.values(c.a.point(c.point)!)) if (v.kind !== 'const') expect(values[v.name].value).toBe(v.value);
+    });
+  }
+});
+
+describe('CSV', () => {
+  for (const c of cases) {
+    it(c.name, () => {
+      const rows = parseCsv(exportLinear(c.a, c.point, 'csv'));
+      expect(rows[0]).toEqual(['kind', 'row', 'column', 'value', 'unit']);
+      expect(rows.find((r) => r[0] === 'point')?.[1]).toBe(c.point);
+      expect(rows.find((r) => r[0] === 'time')?.[4]).toBe(c.lin.timeUnit);
+      for (const m of MATS) {
+        const [r, k] = dims(c.lin, m);
+        const got = rows.filter((x) => x[0] === m);
+        expect(got.length).toBe(r * k);
+        const rowNames = m === 'A' || m === 'B' ? c.lin.states : c.lin.outputs;
+        const colNames = m === 'A' || m === 'C' ? c.lin.states : c.lin.inputs;
+        for (const g of got) expect(Number(g[3])).toBe(c.lin[m][rowNames.indexOf(g[1]) * k + colNames.indexOf(g[2])]);
+      }
+      for (const v of c.a.values(c.a.point(c.point)!)) {
+        if (v.kind === 'const') continue;
+        const g = rows.find((x) => x[0] === 'value' && x[1] === v.name)!;
+        expect(Number(g[3])).toBe(v.value);
+        expect(g[4]).toBe(v.unit);
+      }
+    });
+  }
+});
+
+describe('Markdown', () => {
+  for (const c of cases) {
+    it(c.name, () => {
+      const md = exportLinear(c.a, c.point, 'markdown');
+      const tables = parseMarkdownTables(md);
+      const values = tables.find((t) => t.header[0] === 'variable')!;
+      for (const v of c.a.values(c.a.point(c.point)!)) if (v.kind !== 'const') expect(Number(values.rows.find((r) => r[0] === v.name)![1])).toBe(v.value);
+      for (const m of MATS) {
+        const [r, k] = dims(c.lin, m);
+        const t = tables.find((x) => x.before.startsWith(`**${m}**`));
+        if (!r || !k) {
+          expect(t).toBeUndefined();
+          continue;
+        }
+        expect(t!.rows.length).toBe(r);
+        expect(t!.rows.map((row) => row.slice(1).map(Number))).toEqual(rowsOf(c.lin, m));
+        expect(t!.header.length).toBe(k + 1);
+      }
+    });
+  }
+});
+
+describe('LaTeX', () => {
+  for (const c of cases) {
+    it(c.name, () => {
+      const tex = exportLinear(c.a, c.point, 'latex');
+      expect(texBalanced(tex)).toBeUndefined();
+      expect(tex).toMatch(/\\begin\{align\*\}/);
+      for (const m of MATS) {
+        const [r, k] = dims(c.lin, m);
+        const got = texMatrix(tex, m);
+        if (!r || !k) expect(got).toBeUndefined();
+        else expect(got).toEqual(rowsOf(c.lin, m));
+      }
+    });
+  }
+  it('the checker itself rejects unbalanced text', () => {
+    expect(texBalanced('\\begin{align*} x \\end{bmatrix}')).toBeDefined();
+    expect(texBalanced('{a}}')).toBeDefined();
+    expect(texBalanced('% {\n\\{ ok \\}')).toBeUndefined();
+  });
+});
+
+describe('NumPy', () => {
+  const py = '/usr/bin/python3';
+  const probe = fs.existsSync(py) ? spawnSync(py, ['-c', 'import numpy'], { encoding: 'utf8' }) : undefined;
+  const haveNumpy = probe !== undefined && probe.status === 0;
+  if (!haveNumpy) {
+    it.skip('needs Debian python3-numpy (apt-get install -y python3-numpy): /usr/bin/python3 cannot import numpy', () => {});
+    return;
+  }
+  for (const c of cases) {
+    it(c.name, () => {
+      const snippet = exportLinear(c.a, c.point, 'numpy');
+      const tail = '\nimport json\nprint(json.dumps({"A": A.tolist(), "B": B.tolist(), "C": C.tolist(), "D": D.tolist(), "states": states, "inputs": inputs, "outputs": outputs, "point": point, "shapes": [list(A.shape), list(B.shape), list(C.shape), list(D.shape)]}))\n';
+      const r = spawnSync(py, ['-'], { input: snippet + tail, encoding: 'utf8' });
+      expect(r.stderr).toBe('');
+      expect(r.status).toBe(0);
+      const j = JSON.parse(r.stdout) as Record<string, unknown> & { shapes: number[][]; point: Record<string, number> };
+      for (const m of MATS) {
+        const [rr, k] = dims(c.lin, m);
+        if (rr) expect(j[m]).toEqual(rowsOf(c.lin, m));
+        expect(j.shapes[MATS.indexOf(m)]).toEqual([rr, k]);
+      }
+      expect(j.states).toEqual(c.lin.states);
+      expect(j.inputs).toEqual(c.lin.inputs);
+      for (const v of c.a.values(c.a.point(c.point)!)) if (v.kind !== 'const') expect(j.point[v.name]).toBe(v.value);
+    });
+  }
+});
+
+describe('poise linearize --format', () => {
+  it('prints every export format as exportLinear does', async () => {
+    const file = path.join(EXAMPLES, 'gantry_crane.poise');
+    const a = analyze(fs.readFileSync(file, 'utf8'));
+    for (const f of EXPORT_FORMATS) {
+      const io: Io & { stdout: string } = { stdout: '', out(s) { io.stdout += s.endsWith('\n') ? s : s + '\n'; }, err() {} };
+      expect(await main(['linearize', file, '--format', f], io)).toBe(0);
+      expect(io.stdout).toBe(exportLinear(a, 'parked_in_wind', f));
+    }
+    const io: Io & { stderr: string } = { stderr: '', out() {}, err(s) { io.stderr += s; } };
+    expect(await main(['linearize', file, '--format', 'yaml'], io)).toBe(2);
+    expect(io.stderr).toMatch(/latex/);
+  });
+});
