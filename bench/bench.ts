@@ -8,6 +8,7 @@ import * as os from 'os';
 import * as path from 'path';
 import { Analysis } from '../server/src/core/analysis';
 import { eigenvalues } from '../server/src/core/numeric/eigen';
+import { lspLatency } from './lspLatency';
 import { tankChain, tankChainSympy } from './models';
 
 function ms(t0: bigint): number {
@@ -65,7 +66,7 @@ function sympyTime(n: number): number | undefined {
   return ms(t0); // whole process, as a user would run it
 }
 
-function main() {
+async function main() {
   const sizes = (process.env.POISE_BENCH_SIZES ?? '10,100,1000,3000').split(',').map(Number);
   const reps = Number(process.env.POISE_BENCH_REPS ?? 5);
   console.log(`Poise bench — chains of N tanks with turbulent links (2N unknowns); median of ${reps} warm runs, ms`);
@@ -95,6 +96,12 @@ function main() {
   }
   console.log(`eigenvalues of a random dense 500×500 A: ${median(te).toFixed(0)} ms (median of 3)`);
 
+  // language server: one-character edit → diagnostics, 2000-equation model
+  if (process.env.POISE_BENCH_LSP !== '0') {
+    const l = await lspLatency(1000);
+    console.log(`language server, 2000-equation model: open → diagnostics ${l.open.toFixed(0)} ms; one-character edit → diagnostics median ${l.median.toFixed(0)} ms (${l.all.length} edits, 30 ms debounce included)`);
+  }
+
   // whole-process comparison with SymPy, same job, same run
   for (const n of (process.env.POISE_BENCH_SYMPY ?? '10,100').split(',').map(Number).filter((x) => x > 0)) {
     const tPy = sympyTime(n);
@@ -116,4 +123,7 @@ function writeTmp(n: number): string {
   return f;
 }
 
-main();
+main().catch((e) => {
+  console.error(e);
+  process.exitCode = 1;
+});

@@ -211,7 +211,7 @@ async function actionsFor(uri: string, code: string): Promise<{ diag: Diagnostic
   const ds = await s.diagnostics(uri);
   const diag = ds.find((d) => d.code === code);
   expect(diag, `${code} in ${JSON.stringify(ds)}`).toBeDefined();
-  const actions = await s.request<CodeAction[]>('textDocument/codeAction', { ...td(uri), range: diag!.range, context: { diagnostics: [diag] } });
+  const actions = await s.request<CodeAction[]>('textDocument/codeAction', { ...td(uri), range: diag!.range, context: { diagnostics: [diag], only: ['quickfix'] } });
   return { diag: diag!, actions };
 }
 
@@ -264,6 +264,27 @@ describe('quick fixes', () => {
     await s.applyWorkspaceEdit(o.actions[0].edit!);
     expect(s.text(over)).toMatch(/ ~ /);
     expect((await s.diagnostics(over)).filter((d) => d.severity === 1)).toEqual([]);
+  });
+});
+
+describe('Solve and Linearize as code actions (for editors without code lenses)', () => {
+  it('are offered inside a point block and do what the lenses do', async () => {
+    const uri = uriOf('source-actions.poise');
+    await s.open(uri, BUFFER);
+    const at = (needle: string) => s.request<CodeAction[]>('textDocument/codeAction', { ...td(uri), range: { start: s.pos(uri, needle), end: s.pos(uri, needle) }, context: { diagnostics: [] } });
+    const inside = await at('opening = 0.9');
+    expect(inside.map((x) => [x.title, x.kind])).toEqual([
+      ['Solve point cloudburst', 'source.poise.solvePoint'],
+      ['Linearize at point cloudburst', 'source.poise.linearizePoint'],
+    ]);
+    expect(await at('outflow = opening')).toEqual([]);
+    await s.applyWorkspaceEdit(inside[0].edit!);
+    // steady state of cloudburst: level = (inflow/(opening·cv))² (derivative zero; by hand)
+    expect(s.text(uri)).toContain(`  level ~ ${Number(((0.006 / (0.9 * 0.0045)) ** 2).toPrecision(4))} [m]\n`);
+    expect((await at('opening = 0.9')).map((x) => x.title)).toEqual(['Linearize at point cloudburst']);
+    // a request for quick fixes only leaves them out
+    const only = await s.request<CodeAction[]>('textDocument/codeAction', { ...td(uri), range: { start: s.pos(uri, 'opening = 0.9'), end: s.pos(uri, 'opening = 0.9') }, context: { diagnostics: [], only: ['quickfix'] } });
+    expect(only).toEqual([]);
   });
 });
 

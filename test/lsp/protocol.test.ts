@@ -32,7 +32,7 @@ describe('stdio server answering a plain JSON-RPC client (an LSP client other th
   beforeAll(async () => {
     // no workspace/configuration capability: the server must work with its defaults; a longer debounce
     // than the default 150 ms so that three back-to-back edits surely fall into one window
-    s = await startSession({ via: 'bin', initializationOptions: { debounceMs: 400 } });
+    s = await startSession({ via: 'bin', initializationOptions: { debounceMs: 400, clientCommands: false } });
   });
   afterAll(async () => {
     await s?.shutdown();
@@ -51,7 +51,7 @@ describe('stdio server answering a plain JSON-RPC client (an LSP client other th
     expect(c.documentSymbolProvider).toBe(true);
     expect(c.foldingRangeProvider).toBe(true);
     expect(c.codeLensProvider).toBeDefined();
-    expect(c.codeActionProvider).toEqual({ codeActionKinds: ['quickfix'] });
+    expect(c.codeActionProvider).toEqual({ codeActionKinds: ['quickfix', 'source.poise.solvePoint', 'source.poise.linearizePoint'] });
     expect(c.executeCommandProvider?.commands).toEqual(['poise.server.solvePoint', 'poise.server.linearizePoint']);
     const legend = c.semanticTokensProvider!.legend;
     expect(legend.tokenTypes).toEqual(expect.arrayContaining(['variable', 'parameter', 'property', 'function', 'namespace']));
@@ -112,6 +112,17 @@ describe('stdio server answering a plain JSON-RPC client (an LSP client other th
     expect(await s.request('textDocument/hover', { textDocument: { uri }, position: { line: 99, character: 99 } })).toBeNull();
     expect(s.exited).toBeUndefined();
     expect(await s.diagnostics(uri)).toEqual([]);
+  });
+
+  it('leaves out the VS Code-only lenses when told the client cannot run them', async () => {
+    const uri = uriOf('lenses.poise');
+    await s.open(uri, 'state x\ninput u\nx\' = -x + u\npoint p:\n  u = 2\n  x ~ 1\n');
+    const lenses = await s.request<{ command: { title: string; command: string } }[]>('textDocument/codeLens', { textDocument: { uri } });
+    // x' = −x + u at steady state: x = u = 2 (by hand), so the guess 1 is not the solution yet
+    expect(lenses.map((l) => [l.command.title, l.command.command])).toEqual([
+      ['Solve', 'poise.server.solvePoint'],
+      ['Linearize', 'poise.server.linearizePoint'],
+    ]);
   });
 
   it('shuts down cleanly on shutdown + exit', async () => {

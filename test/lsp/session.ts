@@ -92,11 +92,11 @@ export class Session {
     return this.docs.get(uri)!.getText();
   }
 
-  async open(uri: string, text: string): Promise<Diagnostic[]> {
+  async open(uri: string, text: string, timeoutMs = 20000): Promise<Diagnostic[]> {
     const doc = TextDocument.create(uri, 'poise', 1, text);
     this.docs.set(uri, doc);
     await this.conn.sendNotification('textDocument/didOpen', { textDocument: { uri, languageId: 'poise', version: 1, text } });
-    return this.diagnostics(uri);
+    return this.diagnostics(uri, timeoutMs);
   }
 
   /** Sends edits as incremental changes (applied in order, each against the result of the previous). */

@@ -112,10 +112,14 @@ export class Analysis {
     return out;
   }
 
-  /** Digest of the model and one point: a generated linear block is stale when it no longer matches. */
+  /**
+   * Digest of the model and one point: a generated linear block is stale when it no longer matches.
+   * It covers the model's text (without comments, points, linear and sweep blocks) and the lines of this
+   * point that fix a value; guesses ("~") are left out, so solving a point does not make its block stale.
+   */
   digest(point: string): string {
     const cut: { start: number; end: number }[] = [...this.parsed.file.comments];
-    for (const st of this.parsed.file.statements) if (st.kind === 'linear' || st.kind === 'sweep') cut.push(st.span);
+    for (const st of this.parsed.file.statements) if (st.kind === 'linear' || st.kind === 'sweep' || st.kind === 'point') cut.push(st.span);
     cut.sort((a, b) => a.start - b.start);
     let s = '';
     let pos = 0;
@@ -124,7 +128,12 @@ export class Analysis {
       pos = Math.max(pos, c.end);
     }
     s += this.text.slice(pos);
-    s = s.replace(/\s+/g, ' ').trim() + '\u0000' + point;
+    const block = this.pointBlock(point);
+    const fixed = (block?.lines ?? [])
+      .filter((l) => l.mode === 'fixed')
+      .map((l) => this.text.slice(l.span.start, l.span.end).replace(/#.*$/, '').replace(/\s+/g, ''))
+      .sort();
+    s = s.replace(/\s+/g, ' ').trim() + '\u0000' + point + '\u0000' + fixed.join('\u0000');
     return fnv1a(s);
   }
 

@@ -534,6 +534,45 @@ function embeddedRank(A: Float64Array, n: number, B: Float64Array, m: number, la
 }
 
 /**
+ * True when σ_min([λI − A, B]) > τ for certain: the Hermitian matrix
+ * G = [λI − A, B]·[λI − A, B]ᴴ − τ²I = S + (|λ|² − τ²)I − Re λ·(A + Aᵀ) + i·Im λ·(A − Aᵀ), with S = AAᵀ + BBᵀ,
+ * has a Cholesky factorisation exactly when its smallest eigenvalue σ_min² − τ² is positive. Rounding in
+ * forming G is about n·ε·‖[A, B]‖², far below τ² (τ is 10⁻⁴ of the size), so success is a safe certificate;
+ * failure proves nothing and the caller falls back on the SVD.
+ */
+function clearlyFullRank(S: Float64Array, A: Float64Array, n: number, lam: Complex, tau: number, w: { re: Float64Array; im: Float64Array }): boolean {
+  const Lr = w.re;
+  const Li = w.im;
+  const shift = lam.re * lam.re + lam.im * lam.im - tau * tau;
+  for (let j = 0; j < n; j++) {
+    // diagonal: G_jj − Σ|L_jk|²
+    let d = S[j * n + j] + shift - 2 * lam.re * A[j * n + j];
+    for (let k = 0; k < j; k++) d -= Lr[j * n + k] * Lr[j * n + k] + Li[j * n + k] * Li[j * n + k];
+    if (!(d > 0)) return false;
+    const ljj = Math.sqrt(d);
+    Lr[j * n + j] = ljj;
+    Li[j * n + j] = 0;
+    for (let i = j + 1; i < n; i++) {
+      // G_ij = S_ij − Re λ·(A_ij + A_ji) + i·Im λ·(A_ij − A_ji)
+      let gr = S[i * n + j] - lam.re * (A[i * n + j] + A[j * n + i]);
+      let gi = lam.im * (A[i * n + j] - A[j * n + i]);
+      // − Σ_k L_ik·conj(L_jk)
+      for (let k = 0; k < j; k++) {
+        const ar = Lr[i * n + k];
+        const ai = Li[i * n + k];
+        const br = Lr[j * n + k];
+        const bi = Li[j * n + k];
+        gr -= ar * br + ai * bi;
+        gi -= ai * br - ar * bi;
+      }
+      Lr[i * n + j] = gr / ljj;
+      Li[i * n + j] = gi / ljj;
+    }
+  }
+  return true;
+}
+
+/**
  * PBH test: for each mode (one eigenvalue per real mode or complex pair), the rank deficiency n − rank[λI − A, B].
  * Eigenvalues that coincide (within the tolerance) share the deficiency: it is given to the first of them
  * and, when larger than 1, spread over the others.
@@ -541,11 +580,23 @@ function embeddedRank(A: Float64Array, n: number, B: Float64Array, m: number, la
 function pbhDeficiencies(A: Float64Array, B: Float64Array, n: number, m: number, modes: Complex[], rtol: number, axisTol: number): number[] {
   const out = new Array<number>(modes.length).fill(0);
   if (n === 0) return out;
-  let scale = frob(A);
+  const na = frob(A);
   let sb = 0;
   for (let i = 0; i < B.length; i++) sb += B[i] * B[i];
-  scale = Math.max(scale, Math.sqrt(sb), 1e-300);
+  const scale = Math.max(na, Math.sqrt(sb), 1e-300);
   const tol = rtol * scale;
+  // S = A·Aᵀ + B·Bᵀ, shared by the Cholesky certificates
+  const S = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) {
+    for (let j = i; j < n; j++) {
+      let v = 0;
+      for (let k = 0; k < n; k++) v += A[i * n + k] * A[j * n + k];
+      for (let k = 0; k < m; k++) v += B[i * m + k] * B[j * m + k];
+      S[i * n + j] = v;
+      S[j * n + i] = v;
+    }
+  }
+  const work = { re: new Float64Array(n * n), im: new Float64Array(n * n) };
   const done = new Uint8Array(modes.length);
   for (let k = 0; k < modes.length; k++) {
     if (done[k]) continue;
@@ -555,6 +606,10 @@ function pbhDeficiencies(A: Float64Array, B: Float64Array, n: number, m: number,
       if (!done[j] && Math.hypot(modes[j].re - e.re, modes[j].im - e.im) <= Math.max(axisTol, 1e-8 * scale)) group.push(j);
     }
     for (const g of group) done[g] = 1;
+    // σ_min([λI − A, B]) > τ, far above the rank tolerance, is proved by a Cholesky factorisation; only the
+    // eigenvalues without that certificate need the SVD
+    const tau = 1e-4 * (na + Math.sqrt(sb) + Math.hypot(e.re, e.im));
+    if (group.length === 1 && clearlyFullRank(S, A, n, e, tau, work)) continue;
     const def = n - embeddedRank(A, n, B, m, e, tol);
     let left = Math.max(0, def);
     for (const g of group) {
@@ -945,7 +1000,7 @@ export interface FrequencyPair {
   output: string;
   inputIndex: number;
   outputIndex: number;
-  /** 20·log10|G(jω)|; null where G is zero or not finite (ω on a pole). */
+  /** 20·log10|G(jω)|; null where G is zero, not finite (ω on a pole) or below the round-off level of the solve. */
   magnitudeDb: (number | null)[];
   /** Unwrapped phase in degrees. */
   phaseDeg: (number | null)[];
@@ -1014,29 +1069,41 @@ export function frequencyResponse(dyn: Dynamics, omega: number[]): FrequencyResp
   const W = omega.length;
   const Gre = new Float64Array(W * p * m);
   const Gim = new Float64Array(W * p * m);
+  /** Round-off level of each entry: 1e-13·(Σ_k |C_ik|·max_q |X_qj| + |D_ij|) (the solve's normwise accuracy, with margin). */
+  const Gnoise = new Float64Array(W * p * m);
   const bad = new Uint8Array(W);
   const hs = hessenbergSystem(sys);
   const xr = new Float64Array(n * m);
   const xi = new Float64Array(n * m);
+  const xmax = new Float64Array(m);
   for (let k = 0; k < W; k++) {
     const ok = n === 0 || hs.solve(omega[k], xr, xi);
     if (!ok) {
       bad[k] = 1;
       continue;
     }
+    // the solve is backward stable: its error is small against the largest entry of each column of X
+    for (let j = 0; j < m; j++) {
+      let mx = 0;
+      for (let q = 0; q < n; q++) mx = Math.max(mx, Math.abs(xr[q * m + j]) + Math.abs(xi[q * m + j]));
+      xmax[j] = mx;
+    }
     for (let i = 0; i < p; i++) {
       const co = i * n;
       for (let j = 0; j < m; j++) {
         let sr = sys.D[i * m + j];
         let si = 0;
+        let size = Math.abs(sr);
         for (let q = 0; q < n; q++) {
           const c = hs.C[co + q];
           if (c === 0) continue;
           sr += c * xr[q * m + j];
           si += c * xi[q * m + j];
+          size += Math.abs(c) * xmax[j];
         }
         Gre[(k * p + i) * m + j] = sr;
         Gim[(k * p + i) * m + j] = si;
+        Gnoise[(k * p + i) * m + j] = 1e-13 * size;
       }
     }
   }
@@ -1053,7 +1120,8 @@ export function frequencyResponse(dyn: Dynamics, omega: number[]): FrequencyResp
       const re = Gre[(k * p + i) * m + j];
       const im = Gim[(k * p + i) * m + j];
       const a = Math.hypot(re, im);
-      if (bad[k] || tf.identicallyZero || !(a > 0) || !Number.isFinite(a)) {
+      // below the round-off level of the solve the numbers mean nothing: leave them out
+      if (bad[k] || tf.identicallyZero || !(a > Gnoise[(k * p + i) * m + j]) || !Number.isFinite(a)) {
         mag.push(null);
         ph.push(null);
         continue;

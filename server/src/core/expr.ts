@@ -70,6 +70,68 @@ export function key(n: Node): string {
   return k;
 }
 
+const hashCache = new WeakMap<Node, number>();
+const FN_CODE: Record<string, number> = {};
+const f64 = new Float64Array(1);
+const i32 = new Int32Array(f64.buffer);
+const mix = (a: number, b: number) => (Math.imul(a ^ b, 0x9e3779b1) + 0x7f4a7c15) | 0;
+/** A 32-bit structural hash (cheap, no strings): equal expressions hash equally; confirm with `same`. */
+export function hash(n: Node): number {
+  let h = hashCache.get(n);
+  if (h !== undefined) return h;
+  switch (n.t) {
+    case 'num':
+      f64[0] = n.v === 0 ? 0 : n.v; // -0 and 0 alike
+      h = mix(mix(1, i32[0]), i32[1]);
+      break;
+    case 'sym': h = mix(2, n.id); break;
+    case 'pow': h = mix(mix(3, hash(n.base)), hash(n.exp)); break;
+    default: {
+      let code = n.t === 'add' ? 4 : n.t === 'mul' ? 5 : (FN_CODE[n.fn] ??= 16 + Object.keys(FN_CODE).length);
+      for (const a of n.args) code = mix(code, hash(a));
+      h = code;
+    }
+  }
+  hashCache.set(n, h);
+  return h;
+}
+
+/** Structural equality. */
+export function same(a: Node, b: Node): boolean {
+  if (a === b) return true;
+  if (a.t !== b.t || hash(a) !== hash(b)) return false;
+  switch (a.t) {
+    case 'num': return a.v === (b as Num).v || (Number.isNaN(a.v) && Number.isNaN((b as Num).v));
+    case 'sym': return a.id === (b as Sym).id;
+    case 'pow': return same(a.base, (b as Pow).base) && same(a.exp, (b as Pow).exp);
+    default: {
+      const bb = b as Add | Mul | Fn;
+      if (a.t === 'fn' && a.fn !== (bb as Fn).fn) return false;
+      if (a.args.length !== bb.args.length) return false;
+      for (let i = 0; i < a.args.length; i++) if (!same(a.args[i], bb.args[i])) return false;
+      return true;
+    }
+  }
+}
+
+/** Items grouped by structural equality of their node (hash buckets, no strings), in insertion order. */
+class NodeTable<T extends { node: Node }> {
+  private readonly buckets = new Map<number, T[]>();
+  readonly order: T[] = [];
+  find(n: Node): T | undefined {
+    const b = this.buckets.get(hash(n));
+    if (b) for (const e of b) if (same(e.node, n)) return e;
+    return undefined;
+  }
+  add(e: T): void {
+    const h = hash(e.node);
+    const b = this.buckets.get(h);
+    if (b) b.push(e);
+    else this.buckets.set(h, [e]);
+    this.order.push(e);
+  }
+}
+
 /** Split a product into numeric coefficient and the rest. */
 function coeffOf(n: Node): [number, Node] {
   if (n.t === 'num') return [n.v, ONE];
@@ -94,25 +156,19 @@ export function add(args: Node[], src?: Span): Node {
     else flat.push(a);
   }
   let c = 0;
-  const terms = new Map<string, { coef: number; node: Node }>();
-  const order: string[] = [];
+  const terms = new NodeTable<{ coef: number; node: Node }>();
   for (const a of flat) {
     if (a.t === 'num') {
       c += a.v;
       continue;
     }
     const [k0, rest] = coeffOf(a);
-    const kk = key(rest);
-    const e = terms.get(kk);
+    const e = terms.find(rest);
     if (e) e.coef += k0;
-    else {
-      terms.set(kk, { coef: k0, node: rest });
-      order.push(kk);
-    }
+    else terms.add({ coef: k0, node: rest });
   }
   const out: Node[] = [];
-  for (const kk of order) {
-    const e = terms.get(kk)!;
+  for (const e of terms.order) {
     if (e.coef === 0) continue;
     out.push(e.coef === 1 ? e.node : mul([num(e.coef), e.node]));
   }
@@ -147,29 +203,23 @@ export function mul(args: Node[], src?: Span): Node {
     else flat.push(a);
   }
   let c = 1;
-  const facs = new Map<string, { base: Node; exps: Node[]; src?: Span }>();
-  const order: string[] = [];
+  const facs = new NodeTable<{ node: Node; exps: Node[]; src?: Span }>();
   for (const a of flat) {
     if (a.t === 'num') {
       c *= a.v;
       continue;
     }
     const [b, e] = baseExp(a);
-    const kk = key(b);
-    const f = facs.get(kk);
+    const f = facs.find(b);
     if (f) f.exps.push(e);
-    else {
-      facs.set(kk, { base: b, exps: [e], src: a.src });
-      order.push(kk);
-    }
+    else facs.add({ node: b, exps: [e], src: a.src });
   }
   if (c === 0) return withSrc(num(0), src);
   const out: Node[] = [];
-  for (const kk of order) {
-    const f = facs.get(kk)!;
+  for (const f of facs.order) {
     const e = f.exps.length === 1 ? f.exps[0] : add(f.exps);
     // a lone factor keeps its source span (so a division by zero points at the division)
-    const p = f.exps.length === 1 ? withSrc(pow(f.base, e), f.src) : pow(f.base, e);
+    const p = f.exps.length === 1 ? withSrc(pow(f.node, e), f.src) : pow(f.node, e);
     if (p.t === 'num') c *= p.v;
     else out.push(p);
   }
@@ -210,7 +260,7 @@ export function fn(name: FnName, args: Node[], src?: Span): Node {
     const r = FOLD[name](...args.map((a) => (a as Num).v));
     if (Number.isFinite(r)) return num(r, src);
   }
-  if (name === 'pick' && key(args[2]) === key(args[3])) return args[2];
+  if (name === 'pick' && same(args[2], args[3])) return args[2];
   return src ? { t: 'fn', fn: name, args, src } : { t: 'fn', fn: name, args };
 }
 

@@ -29,6 +29,8 @@ export interface ReportOptions {
   title?: string;
   /** Samples of each step response (default 241). */
   samples?: number;
+  /** Stop the validity search after this many milliseconds (default: no limit); what was found is kept. */
+  validityBudgetMs?: number;
 }
 
 export interface ValueRow {
@@ -76,7 +78,7 @@ export interface ValidityLimit {
   step: number;
   percent: number;
   /** What ends the range. */
-  limitedBy: 'tolerance' | 'domain' | 'search limit' | 'nothing valid';
+  limitedBy: 'tolerance' | 'domain' | 'search limit' | 'nothing valid' | 'time budget';
   /** Smallest step found invalid (null when none was). */
   firstInvalid: number | null;
   /** Message of the smallest step that left the domain, if any. */
@@ -229,7 +231,8 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     const du = new Float64Array(m);
     du[j] = step;
     const stateScale = maxAbsCols(lr.x, n).map((v) => v * Math.abs(step));
-    const r = sim.step({ du, horizon: T, times, stateScale });
+    // rtol 1e-5: a global error of about 1e-4 of the change (measured), far below what a plot shows
+    const r = sim.step({ du, horizon: T, times, stateScale, rtol: 1e-5 });
     const ys = outputSeries(r);
     const outs: StepOutput[] = [];
     let worst: number | null = null;
@@ -257,6 +260,8 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
 
   if (opts.validity !== false) {
     const t3 = now();
+    const budget = opts.validityBudgetMs ?? Infinity;
+    let outOfTime = false;
     const vs = Math.min(samples, 121);
     const vtimes = Array.from({ length: vs }, (_, k) => (T * k) / (vs - 1));
     data.validity = [];
@@ -276,12 +281,17 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
       }
       const xScale = maxAbsCols(lr.x, n);
       const cache = new Map<number, ValiditySample & { message?: string }>();
-      const evaluate = (s: number) => {
+      const evaluate = (s: number): ValiditySample & { message?: string } => {
         const hit = cache.get(s);
         if (hit) return hit;
+        if (now() - t3 > budget) {
+          outOfTime = true;
+          return { step: s, error: null, status: 'failed', message: 'not computed (time budget)' };
+        }
         const du = new Float64Array(m);
         du[j] = s;
-        const r = sim.step({ du, horizon: T, times: vtimes, stateScale: xScale.map((v) => v * Math.abs(s)), rtol: 1e-6 });
+        // rtol 3e-5: a global error of about 4e-4 of the change, small against the tolerance
+        const r = sim.step({ du, horizon: T, times: vtimes, stateScale: xScale.map((v) => v * Math.abs(s)), rtol: 3e-5 });
         let error: number | null = null;
         if (r.status === 'ok') {
           const ys = outputSeries(r);
@@ -314,9 +324,8 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
         const note = (x: ValiditySample & { message?: string }, mag: number) => {
           if (x.status === 'domain' && (domainMsg === undefined || mag <= hi)) domainMsg = x.message;
         };
-        // two smaller steps show how the difference falls off towards the point
-        evaluate(sign * s / 4);
-        evaluate(sign * s / 2);
+        // a smaller step shows how the difference falls off towards the point
+        evaluate((sign * s) / 2);
         if (valid(first)) {
           lo = s;
           while (s < cap) {
@@ -344,7 +353,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
           }
         }
         if (lo > 0 && hi < Infinity) {
-          for (let k = 0; k < 12 && hi / lo > 1.02; k++) {
+          for (let k = 0; k < 12 && hi / lo > 1.04 && !outOfTime; k++) {
             const mid = Math.sqrt(lo * hi);
             const x = evaluate(sign * mid);
             if (valid(x)) lo = mid;
@@ -354,10 +363,23 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
             }
           }
         }
+        if (outOfTime) {
+          // only what was actually simulated counts
+          lo = 0;
+          hi = Infinity;
+          for (const x of cache.values()) {
+            if (Math.sign(x.step) !== sign) continue;
+            const mag = Math.abs(x.step);
+            if (valid(x)) lo = Math.max(lo, mag);
+            else hi = Math.min(hi, mag);
+          }
+          if (hi <= lo) hi = Infinity;
+        }
         const firstInvalid = hi < Infinity ? hi : null;
         const inv = firstInvalid !== null ? cache.get(sign * firstInvalid) : undefined;
         let limitedBy: ValidityLimit['limitedBy'];
-        if (lo === 0) limitedBy = 'nothing valid';
+        if (outOfTime && (lo === 0 || firstInvalid === null || firstInvalid / lo > 1.04)) limitedBy = 'time budget';
+        else if (lo === 0) limitedBy = 'nothing valid';
         else if (firstInvalid === null) limitedBy = 'search limit';
         else limitedBy = inv && inv.status === 'domain' ? 'domain' : 'tolerance';
         return { step: lo, percent: (100 * lo) / basis, limitedBy, firstInvalid, domainMessage: domainMsg };
@@ -365,6 +387,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
       rep.up = search(1);
       rep.down = search(-1);
       rep.samples = [...cache.values()].map(({ step, error, status }) => ({ step, error, status })).sort((x, y) => x.step - y.step);
+      if (outOfTime) rep.note = rep.samples.length ? 'The search stopped at its time budget: the range is at least as wide as shown (run `poise report` for the full search).' : 'Not computed: the time budget ran out (run `poise report` for the full search).';
       data.validity.push(rep);
     }
     timingsMs.validity = now() - t3;
@@ -446,7 +469,7 @@ export function formatReportText(r: ReportData, d = 4): string {
   if (!r.modes.length) out.push('  (none: the model has no states)');
   const ctl = r.controllability!;
   const obs = r.observability!;
-  out.push('', `Controllability (PBH): rank ${ctl.rank} of ${ctl.n}${ctl.failing.length ? `; uncontrollable: ${ctl.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}`);
+  out.push('', `Controllability (PBH): rank ${ctl.rank} of ${ctl.n}${r.inputs.length ? '' : ' (the model has no inputs)'}${ctl.failing.length ? `; uncontrollable: ${ctl.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}`);
   out.push(`Observability (PBH): rank ${obs.rank} of ${obs.n}${obs.failing.length ? `; unobservable: ${obs.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}${r.outputsAreStates ? ' (no outputs declared: the states are the outputs)' : ''}`);
   const g = r.dcGain!;
   out.push('', `Steady-state gains (output change per input change${g.method === 'per-pair' ? '; A is singular, so pairs through an integrator have no steady state' : ''}):`);
@@ -458,7 +481,9 @@ export function formatReportText(r: ReportData, d = 4): string {
       out.push(`  Δ${r.outputs[i]} / Δ${r.inputs[j]}: ${val}`);
     }
   }
+  if (!r.inputs.length) out.push('  (the model has no inputs)');
   out.push('', 'Transfer functions G(s) = K·Π(s − z)/Π(s − p):');
+  if (!r.inputs.length) out.push('  (the model has no inputs)');
   for (const tf of r.transfer) {
     out.push(`  ${tf.input} → ${tf.output}: ${factoredText(tf, d)}${tf.unit ? `   [${tf.unit}]` : ''}`);
     if (!tf.identicallyZero && tf.order > 0) {
@@ -471,8 +496,9 @@ export function formatReportText(r: ReportData, d = 4): string {
     out.push('', `Frequency response: ${w.length} frequencies from ${f(w[0], 3)} to ${f(w[w.length - 1], 3)} ${r.frequency.unit} (in the JSON and HTML output).`);
   }
   out.push('', `Step responses over ${f(r.horizon!.value, d)} ${t} (${r.horizon!.reason}):`);
+  if (!r.inputs.length) out.push('  (the model has no inputs)');
   for (const s of r.steps) {
-    out.push(`  step of ${f(s.step, d)}${u(s.inputUnit)} in ${s.input} (${f(s.stepPercent, 3)} % of the ${s.percentBasis}): ${s.status === 'ok' ? (s.error === null ? 'no linked output' : `linear vs nonlinear differ by ${f(100 * s.error, 3)} % of the change${s.withinTolerance ? ' (within tolerance)' : ' (beyond tolerance)'}`) : s.message ?? s.status}`);
+    out.push(`  step of ${f(s.step, d)}${u(s.inputUnit)} in ${s.input} (${f(s.stepPercent, 3)} % of ${s.percentBasis === 'unit' ? 'one unit' : 'the operating value'}): ${s.status === 'ok' ? (s.error === null ? 'no linked output' : `linear vs nonlinear differ by ${f(100 * s.error, 3)} % of the change${s.withinTolerance ? ' (within tolerance)' : ' (beyond tolerance)'}`) : s.message ?? s.status}`);
     for (const o of s.outputs) {
       if (!o.linked) continue;
       const L = o.linear[o.linear.length - 1];
@@ -483,15 +509,17 @@ export function formatReportText(r: ReportData, d = 4): string {
   if (r.validity) {
     out.push('', `Validity range (linear within ${f(100 * r.tolerance, 3)} % of the nonlinear change over the horizon):`);
     for (const v of r.validity) {
-      if (v.note) {
-        out.push(`  ${v.input}: ${v.note}`);
+      if (!v.up && !v.down) {
+        out.push(`  ${v.input}: ${v.note ?? ''}`);
         continue;
       }
       const lim = (l: ValidityLimit | null, sign: string) =>
-        !l ? '—' : l.limitedBy === 'nothing valid' ? `${sign}: no step found valid` : `${sign}${f(l.step, 3)}${u(v.unit)} (${f(l.percent, 3)} %)${l.limitedBy === 'search limit' ? ' or more' : l.limitedBy === 'domain' ? ', then out of the domain' : ''}`;
-      out.push(`  ${v.input}: up to ${lim(v.up, '+')}, down to ${lim(v.down, '-')}  (of the ${v.percentBasis} ${f(v.operatingValue, 4)}${u(v.unit)})`);
+        !l ? '—' : l.limitedBy === 'nothing valid' ? `${sign}: no step found valid` : `${sign}${f(l.step, 3)}${u(v.unit)} (${f(l.percent, 3)} %)${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' ? ' or more' : l.limitedBy === 'domain' ? ', then out of the domain' : ''}`;
+      const basis = v.percentBasis === 'unit' ? `% of one unit; the operating value is 0${u(v.unit)}` : `% of the operating value ${f(v.operatingValue, 4)}${u(v.unit)}`;
+      out.push(`  ${v.input}: up to ${lim(v.up, '+')}, down to ${lim(v.down, '-')}  (${basis})`);
       const dm = v.up?.domainMessage ?? v.down?.domainMessage;
       if (dm) out.push(`      ${dm}`);
+      if (v.note) out.push(`      ${v.note}`);
     }
   }
   out.push('', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`));

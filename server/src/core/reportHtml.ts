@@ -237,6 +237,14 @@ function thinLabels(ticks: number[], px: (v: number) => number): number[] {
   return kept;
 }
 
+/** Tick values whose labels do not overlap along y (at least 12 px apart): 0 first, then the largest magnitudes. */
+function thinVertical(ticks: number[], py: (v: number) => number): number[] {
+  const order = ticks.slice().sort((a, b) => (a === 0 ? -1 : b === 0 ? 1 : Math.abs(b) - Math.abs(a)));
+  const kept: number[] = [];
+  for (const v of order) if (kept.every((k) => Math.abs(py(k) - py(v)) >= 12)) kept.push(v);
+  return kept;
+}
+
 /** A fraction as a plain-text percentage for SVG text: "4.43 %", "< 0.001 %". */
 function pctPlain(f: number): string {
   const p = 100 * f;
@@ -353,7 +361,7 @@ function chart(spec: ChartSpec): string {
   // axes and labels
   parts.push(`<path class="axis" d="M${L} ${T}V${H - B}H${W - R}"/>`);
   for (const v of thinLabels(tx.major, (v) => sx.px(v))) parts.push(`<text class="tick" x="${c(sx.px(v))}" y="${H - B + 15}" text-anchor="middle">${tickLabel(v)}</text>`);
-  for (const v of ty.major) parts.push(`<text class="tick" x="${L - 6}" y="${c(sy.py(v) + 4)}" text-anchor="end">${tickLabel(v)}</text>`);
+  for (const v of thinVertical(ty.major, (v) => sy.py(v))) parts.push(`<text class="tick" x="${L - 6}" y="${c(sy.py(v) + 4)}" text-anchor="end">${tickLabel(v)}</text>`);
   parts.push(`<text class="axis-label" x="${c((L + W - R) / 2)}" y="${H - 8}" text-anchor="middle">${esc(spec.x.label)}</text>`);
   parts.push(`<text class="axis-label" transform="translate(14 ${c((T + H - B) / 2)}) rotate(-90)" text-anchor="middle">${esc(spec.y.label)}</text>`);
   if (spec.title) parts.push(`<text class="chart-title" x="${L}" y="16">${esc(spec.title)}</text>`);
@@ -415,7 +423,7 @@ function sectionModes(d: ReportData): string {
         .filter((p, i) => i === 0 || p.factor >= 0.05)
         .map((p) => `<span class="part"><span class="pbar"><svg viewBox="0 0 40 6" aria-hidden="true"><path class="pfill" d="M0 0H${r1(40 * p.factor)}V6H0Z"/></svg></span>${esc(p.state)} ${Math.round(100 * p.factor)}&#8239;%</span>`)
         .join('');
-      return `<tr><td class="num">${m.number}</td><td class="num mono">${lam}</td><td>${esc(m.description)}</td><td class="num">${num(m.timeConstant)}</td><td class="num">${num(m.naturalFrequency)}</td><td class="num">${num(m.dampingRatio, 3)}</td><td class="num">${num(m.period)}</td><td>${part}</td><td>${flag(m.controllable)}</td><td>${flag(m.observable)}</td><td><span class="dot ${m.stability}" title="${m.stability}"></span>${m.stability}</td></tr>`;
+      return `<tr><td class="num">${m.number}</td><td class="num mono">${lam}</td><td>${esc(KIND_WORDS[m.kind](m.re))}</td><td class="num">${num(m.timeConstant)}</td><td class="num">${num(m.naturalFrequency)}</td><td class="num">${num(m.dampingRatio, 3)}</td><td class="num">${num(m.period)}</td><td>${part}</td><td>${flag(m.controllable)}</td><td>${flag(m.observable)}</td><td><span class="dot ${m.stability}" title="${m.stability}"></span>${m.stability}</td></tr>`;
     })
     .join('');
   return `<section id="modes"><h2>Stability and modes</h2>
@@ -425,6 +433,13 @@ ${d.modes.length ? `<div class="scroll"><table class="data"><thead><tr><th class
 ${d.modes.length ? poleZeroMap(d) : ''}
 </section>`;
 }
+
+const KIND_WORDS: Record<string, (re: number) => string> = {
+  real: (re) => (re > 0 ? 'growing exponential' : 'decaying exponential'),
+  oscillatory: (re) => (re > 0 ? 'growing oscillation' : 'damped oscillation'),
+  integrator: () => 'integrator (λ = 0)',
+  undamped: () => 'undamped oscillation',
+};
 
 const flag = (b: boolean) => (b ? '<span class="yes">yes</span>' : '<span class="no">no</span>');
 
@@ -444,7 +459,7 @@ function poleZeroMap(d: ReportData): string {
     }
   }
   if (!(mx > 0)) mx = 1;
-  const sym = mn < Infinity && mx / mn > 200;
+  const sym = mn < Infinity && mx / mn > 30;
   let x: AxisSpec;
   let y: AxisSpec;
   if (sym) {
@@ -497,7 +512,8 @@ function sectionTransfer(d: ReportData): string {
   const t = d.timeUnit;
   const items = d.transfer
     .map((tf) => {
-      const det = tf.identicallyZero || tf.order === 0 ? '' : `<div class="poly">= (${polyHtml(tf.num)}) / (${polyHtml(tf.den)})</div>
+      const poly = `(${polyHtml(tf.num)}) / (${polyHtml(tf.den)})`;
+      const det = tf.identicallyZero || tf.order === 0 ? '' : `${tf.order > 3 ? `<details class="poly"><summary>as polynomials in s</summary>= ${poly}</details>` : `<div class="poly">= ${poly}</div>`}
 <div class="roots"><span>poles: ${tf.poles.map((x) => complexHtml(x)).join(', ') || 'none'}</span><span>zeros: ${tf.zeros.map((x) => complexHtml(x)).join(', ') || 'none'}</span>${tf.cancelled ? `<span class="muted">${tf.cancelled} mode(s) of A do not appear (uncontrollable from this input or unobservable in this output)</span>` : ''}</div>`;
       return `<div class="tf"><div class="tfhead">${esc(pairTitle(tf.input, tf.output))}${tf.unit ? ` <span class="unit">[${esc(tf.unit)}]</span>` : ''}</div><div class="tfexpr"><span><i>G</i>(<i>s</i>) =</span>${transferHtml(tf)}</div>${det}</div>`;
     })
@@ -532,8 +548,8 @@ function sectionBode(d: ReportData): string {
         ym = { ...ym, min: Math.floor((mid - 10) / 5) * 5, max: Math.ceil((mid + 10) / 5) * 5 };
       }
       let yp = linRange(ph, 'phase [deg]', { pad: 0.06 });
-      const span = yp.max - yp.min;
-      const st = span > 360 ? 90 : span > 180 ? 45 : span > 60 ? 30 : 15;
+      const span = Math.max(...ph) - Math.min(...ph);
+      const st = [15, 30, 45, 90, 180, 360, 720].find((x) => span / x <= 5) ?? 1440;
       yp = { ...yp, min: Math.floor(Math.min(...ph) / st) * st, max: Math.ceil(Math.max(...ph) / st) * st, step: st };
       if (yp.max - yp.min < 2 * st) {
         yp.min -= st;
@@ -586,7 +602,7 @@ function sectionSteps(d: ReportData): string {
       const status = s.status === 'ok'
         ? s.withinTolerance === null ? '' : `<span class="badge ${s.withinTolerance ? 'stable' : 'marginal'}">${s.withinTolerance ? 'within' : 'beyond'} tolerance</span>`
         : `<span class="badge unstable">${s.status === 'domain' ? 'out of domain' : 'failed'}</span>`;
-      return `<div class="stepblock"><h3>Step of ${num(s.step)}${unitTxt(s.inputUnit)} in ${esc(s.input)} <span class="muted">(${num(s.stepPercent, 3)} % of the ${s.percentBasis}, from ${num(s.operatingValue)}${unitTxt(s.inputUnit)})</span> ${status}</h3>
+      return `<div class="stepblock"><h3>Step of ${num(s.step)}${unitTxt(s.inputUnit)} in ${esc(s.input)} <span class="muted">(${num(s.stepPercent, 3)} % of ${s.percentBasis === 'unit' ? 'one unit' : 'the operating value'}, from ${num(s.operatingValue)}${unitTxt(s.inputUnit)})</span> ${status}</h3>
 ${s.message ? `<p class="warnmsg">${esc(s.message)}</p>` : ''}
 <div class="grid">${stepCharts(d, s)}</div></div>`;
     })
@@ -600,7 +616,8 @@ ${d.inputs.length ? blocks : '<p>The model has no inputs.</p>'}</section>`;
 function limText(l: ValidityLimit | null, v: ValidityReport, sign: string): string {
   if (!l) return '—';
   if (l.limitedBy === 'nothing valid') return '<span class="no">none found</span>';
-  return `${sign}${num(l.step, 3)}${unitTxt(v.unit)} <span class="muted">(${num(l.percent, 3)} %)</span>${l.limitedBy === 'search limit' ? ' or more' : ''}`;
+  if (l.limitedBy === 'time budget' && l.step === 0) return '<span class="muted">not computed</span>';
+  return `${sign}${num(l.step, 3)}${unitTxt(v.unit)} <span class="muted">(${num(l.percent, 3)} %)</span>${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' ? ' or more' : ''}`;
 }
 
 const LIMIT_WORDS: Record<ValidityLimit['limitedBy'], string> = {
@@ -608,20 +625,21 @@ const LIMIT_WORDS: Record<ValidityLimit['limitedBy'], string> = {
   domain: 'leaves the domain',
   'search limit': 'none up to 1000 %',
   'nothing valid': 'tolerance at every size tried',
+  'time budget': 'time budget (range at least this wide)',
 };
 
 function sectionValidity(d: ReportData): string {
   if (!d.validity) return '';
   const rowsHtml = d.validity
     .map((v) => {
-      if (v.note) return `<tr><td class="name">${esc(v.input)}</td><td colspan="4" class="muted">${esc(v.note)}</td></tr>`;
+      if (!v.up && !v.down) return `<tr><td class="name">${esc(v.input)}</td><td colspan="4" class="muted">${esc(v.note ?? '')}</td></tr>`;
       const by = [v.up, v.down].map((l) => (l ? LIMIT_WORDS[l.limitedBy] : '—'));
       const byText = by[0] === by[1] ? by[0] : `up: ${by[0]}; down: ${by[1]}`;
-      return `<tr><td class="name">${esc(v.input)}</td><td class="num">${num(v.operatingValue)}${unitTxt(v.unit)}</td><td class="num">${limText(v.up, v, '+')}</td><td class="num">${limText(v.down, v, '−')}</td><td>${esc(byText)}</td></tr>`;
+      return `<tr><td class="name">${esc(v.input)}</td><td class="num">${num(v.operatingValue)}${unitTxt(v.unit)}</td><td class="num">${limText(v.up, v, '+')}</td><td class="num">${limText(v.down, v, '−')}</td><td>${esc(byText)}${v.note ? `<div class="muted">${esc(v.note)}</div>` : ''}</td></tr>`;
     })
     .join('');
   const charts = d.validity
-    .filter((v) => !v.note && v.samples.length)
+    .filter((v) => (v.up || v.down) && v.samples.some((s) => s.status === 'ok'))
     .map((v, k) => {
       const okS = v.samples.filter((s) => s.status === 'ok' && s.error !== null);
       const pos = okS.map((s) => Math.max(s.error!, 1e-6) * 100);
@@ -729,7 +747,7 @@ svg.plot path.ref{fill:none;stroke-width:1}
 path.ref.axis0{stroke:var(--axis);stroke-dasharray:2 3}
 path.ref.tol{stroke:var(--bad);stroke-dasharray:6 3;stroke-width:1.3}
 path.ref.fail{stroke:var(--bad);stroke-dasharray:3 3}
-svg.plot text.reflabel{fill:var(--bad);font-size:10px}
+svg.plot text.reflabel{fill:var(--bad);font-size:10px;paint-order:stroke;stroke:var(--card);stroke-width:3px;stroke-linejoin:round}
 path.span{stroke:none}path.span.rhp,.series.band.rhp{fill:var(--rhp)}path.span.validspan,.series.band.validspan{fill:var(--valid)}
 .series{fill:none;stroke-width:1.8;stroke-linejoin:round;stroke-linecap:round}
 .series.dash{stroke-dasharray:6 4;stroke-width:1.9}
@@ -745,7 +763,7 @@ svg.sw{width:20px;height:10px;overflow:visible}
 .tfexpr{font-size:15px;display:flex;align-items:center;gap:6px;flex-wrap:wrap}
 .frac{display:inline-flex;flex-direction:column;text-align:center;vertical-align:middle}
 .frac .nu{border-bottom:1px solid currentColor;padding:0 4px 1px}.frac .de{padding:1px 4px 0}
-.poly{font-size:12.5px;color:var(--muted);margin-top:4px}
+.poly{font-size:12.5px;color:var(--muted);margin-top:4px}details.poly summary{font-size:12px}
 .roots{font-size:12.5px;display:flex;flex-wrap:wrap;gap:2px 18px;margin-top:3px}
 details summary{cursor:pointer;color:var(--muted);font-size:13px}
 .stepblock{margin-bottom:8px}

@@ -379,6 +379,33 @@ export class Simulator {
     };
   }
 
+  /**
+   * ξ' = f(ξ) for a deviation ξ of the state components (SI) and input steps du (declared units), in SI per
+   * second, with the drift at the point removed; undefined outside the domain. For checks and tools.
+   */
+  derivative(xi: ArrayLike<number>, du: ArrayLike<number>): Float64Array | undefined {
+    if (this.problem) return undefined;
+    const v = this.values;
+    this.setInputs(v, du);
+    this.setStates(v, Float64Array.from(xi));
+    if (!this.solve(v)) return undefined;
+    const out = new Float64Array(this.n);
+    this.deriv(v, out);
+    return out;
+  }
+
+  /** The analytic ∂f/∂ξ (row-major n×n, SI per second) at ξ, du; undefined outside the domain. */
+  jacobian(xi: ArrayLike<number>, du: ArrayLike<number>): Float64Array | undefined {
+    if (this.problem) return undefined;
+    const v = this.values;
+    this.setInputs(v, du);
+    this.setStates(v, Float64Array.from(xi));
+    if (!this.solve(v) || !this.factor(v)) return undefined;
+    const J = new Float64Array(this.n * this.n);
+    this.fillJacobian(J);
+    return J;
+  }
+
   private domainMessage(t: number): string {
     const d = this.domainDetail();
     return `The step drives the model out of its domain near t = ${fmtV(t)} ${this.lm.timeUnit || 's'}${d ? `: ${d}` : ''}.`;

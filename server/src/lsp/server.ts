@@ -20,8 +20,10 @@
  * and import that module from server/src/lsp/extensions.ts (so both entry points load it). Registration
  * works before or after startServer(); `getServerContext()` gives the same context outside a request.
  *
- * Initialization options (all optional): `{ debounceMs?: number }` — delay between the last edit and the
- * diagnostics run (default 150 ms); `{ timing?: boolean }` — log the time of each diagnostics run.
+ * Initialization options (all optional): `debounceMs` (number) — delay between the last edit and the
+ * diagnostics run (default 30 ms); `timing` (boolean) — log the time of each diagnostics run;
+ * `clientCommands: false` — leave out the Report and Sweep lenses, whose commands only the VS Code
+ * extension implements.
  */
 import {
   CodeActionKind, DidChangeConfigurationNotification, MessageType, ProposedFeatures, ShowMessageNotification, ResponseError, SemanticTokensBuilder, TextDocumentSyncKind, TextDocuments,
@@ -57,10 +59,16 @@ export const LINEARIZE_COMMAND = 'poise.server.linearizePoint';
 export const REPORT_COMMAND = 'poise.openReport';
 export const SWEEP_COMMAND = 'poise.sweep';
 
+/** The same two operations as code actions (kinds under `source`), for editors without code lenses. */
+export const SOLVE_ACTION = 'source.poise.solvePoint';
+export const LINEARIZE_ACTION = 'source.poise.linearizePoint';
+
 export const SEMANTIC_LEGEND = { tokenTypes: [...TOKEN_TYPES], tokenModifiers: [...TOKEN_MODIFIERS] };
 
 /** Diagnostics runs that took longer than this solve points after publishing the static diagnostics. */
 const SLOW_MS = 60;
+/** Extra pause before solving the points of a slow model (its static diagnostics are already out). */
+const POINT_DELAY_MS = 200;
 /** Models this large publish static diagnostics first even before the first run was timed. */
 const LARGE_MODEL_EQUATIONS = 300;
 /** How long to wait for workspace/configuration before using the defaults. */
@@ -88,11 +96,19 @@ export function startServer(): void {
   // ---- client facts and settings -------------------------------------------------------------------
   let caps: ClientCapabilities = {};
   let pullConfiguration = false;
-  let debounceMs = 150;
+  let debounceMs = 30;
   let timing = false;
+  let clientCommands = true;
   let globalSettings: PoiseSettings = { ...DEFAULT_SETTINGS };
   const pending = new Map<string, Promise<PoiseSettings>>();
   const resolved = new Map<string, PoiseSettings>();
+  /** Bumped when the settings change, so that answers to older requests are not cached. */
+  let settingsEpoch = 0;
+  const forgetSettings = () => {
+    settingsEpoch++;
+    pending.clear();
+    resolved.clear();
+  };
 
   const withTimeout = <T>(p: Promise<T>, fallback: () => T): Promise<T> =>
     new Promise<T>((resolve) => {
@@ -107,8 +123,9 @@ export function startServer(): void {
     if (!pullConfiguration) return Promise.resolve(globalSettings);
     let p = pending.get(uri);
     if (!p) {
+      const epoch = settingsEpoch;
       p = withTimeout(connection.workspace.getConfiguration({ scopeUri: uri, section: 'poise' }).then(sanitizeSettings), () => globalSettings).then((s) => {
-        resolved.set(uri, s);
+        if (epoch === settingsEpoch) resolved.set(uri, s); // not when the settings changed meanwhile
         return s;
       });
       pending.set(uri, p);
@@ -191,7 +208,12 @@ export function startServer(): void {
     const t1 = performance.now();
     const expected = solveMs.get(uri) ?? (a.lowered.equations.length > LARGE_MODEL_EQUATIONS ? Infinity : 0);
     const slow = a.canSolve && a.pointNames.length > 0 && expected > SLOW_MS;
-    if (slow) publish(uri, version, a, staticDiagnostics(a));
+    if (slow) {
+      publish(uri, version, a, staticDiagnostics(a));
+      // points of a large model are solved only once typing pauses a little longer
+      await new Promise<void>((r) => setTimeout(r, POINT_DELAY_MS));
+      if (!current()) return;
+    }
     const t2 = performance.now();
     if (a.canSolve) {
       for (const p of a.pointNames) {
@@ -245,9 +267,10 @@ export function startServer(): void {
   connection.onInitialize((params): InitializeResult => {
     caps = params.capabilities ?? {};
     pullConfiguration = !!caps.workspace?.configuration;
-    const opts = (params.initializationOptions ?? {}) as { debounceMs?: unknown; timing?: unknown };
+    const opts = (params.initializationOptions ?? {}) as { debounceMs?: unknown; timing?: unknown; clientCommands?: unknown };
     if (typeof opts.debounceMs === 'number' && opts.debounceMs >= 0 && Number.isFinite(opts.debounceMs)) debounceMs = opts.debounceMs;
     timing = opts.timing === true;
+    clientCommands = opts.clientCommands !== false;
     return {
       capabilities: {
         textDocumentSync: TextDocumentSyncKind.Incremental,
@@ -259,7 +282,7 @@ export function startServer(): void {
         documentSymbolProvider: true,
         foldingRangeProvider: true,
         semanticTokensProvider: { legend: SEMANTIC_LEGEND, full: true, range: false },
-        codeActionProvider: { codeActionKinds: [CodeActionKind.QuickFix] },
+        codeActionProvider: { codeActionKinds: [CodeActionKind.QuickFix, SOLVE_ACTION, LINEARIZE_ACTION] },
         codeLensProvider: { resolveProvider: false },
         executeCommandProvider: { commands: [SOLVE_COMMAND, LINEARIZE_COMMAND] },
       },
@@ -273,8 +296,7 @@ export function startServer(): void {
         await connection.client.register(DidChangeConfigurationNotification.type, { section: 'poise' });
       }
       await pullGlobal();
-      pending.clear();
-      resolved.clear();
+      forgetSettings();
       revalidateAll();
     }),
   );
@@ -283,8 +305,7 @@ export function startServer(): void {
     runSafe('didChangeConfiguration', undefined, async (change: { settings?: unknown }) => {
       const pushed = (change.settings as { poise?: unknown } | undefined)?.poise;
       if (pushed !== undefined) globalSettings = sanitizeSettings(pushed);
-      pending.clear();
-      resolved.clear();
+      forgetSettings();
       await pullGlobal();
       revalidateAll();
       if (caps.workspace?.codeLens?.refreshSupport) void connection.sendRequest('workspace/codeLens/refresh').catch(() => undefined);
@@ -392,6 +413,7 @@ export function startServer(): void {
         const args = [uri, l.point];
         out.push({ range, command: { title: l.solve.title, command: SOLVE_COMMAND, arguments: args } });
         out.push({ range, command: { title: l.linearize.title, command: LINEARIZE_COMMAND, arguments: args } });
+        if (!clientCommands) continue;
         out.push({ range, command: { title: l.report.title, command: REPORT_COMMAND, arguments: args } });
         out.push({ range, command: { title: l.sweep.title, command: SWEEP_COMMAND, arguments: args } });
       }
@@ -403,19 +425,40 @@ export function startServer(): void {
     runSafe('codeAction', [] as CodeAction[], (p) => {
       const d = docAnalysis(p.textDocument.uri);
       if (!d) return [];
-      if (p.context.only && !p.context.only.some((k) => k === CodeActionKind.QuickFix || CodeActionKind.QuickFix.startsWith(k + '.'))) return [];
-      const refs: (DiagnosticRef & { lsp: (typeof p.context.diagnostics)[number] })[] = [];
-      for (const x of p.context.diagnostics) {
-        if (x.source !== 'poise' || typeof x.code !== 'string') continue;
-        refs.push({ code: x.code, span: toSpan(d.a, x.range), data: (x.data as DiagnosticData | undefined)?.core, lsp: x });
+      const only = p.context.only;
+      const wanted = (kind: string) => !only || only.some((k) => kind === k || kind.startsWith(k + '.'));
+      const out: CodeAction[] = [];
+      if (wanted(CodeActionKind.QuickFix)) {
+        const refs: (DiagnosticRef & { lsp: (typeof p.context.diagnostics)[number] })[] = [];
+        for (const x of p.context.diagnostics ?? []) {
+          if (x.source !== 'poise' || typeof x.code !== 'string') continue;
+          refs.push({ code: x.code, span: toSpan(d.a, x.range), data: (x.data as DiagnosticData | undefined)?.core, lsp: x });
+        }
+        for (const f of quickFixes(d.a, refs, d.s.digits)) {
+          out.push({
+            title: f.title,
+            kind: CodeActionKind.QuickFix,
+            diagnostics: [(f.diagnostic as (typeof refs)[number]).lsp],
+            isPreferred: f.isPreferred,
+            edit: workspaceEdit(d.doc, d.a, f.edits),
+          });
+        }
       }
-      return quickFixes(d.a, refs, d.s.digits).map((f) => ({
-        title: f.title,
-        kind: CodeActionKind.QuickFix,
-        diagnostics: [(f.diagnostic as (typeof refs)[number]).lsp],
-        isPreferred: f.isPreferred,
-        edit: workspaceEdit(d.doc, d.a, f.edits),
-      }));
+      // Solve and Linearize as source actions too, for editors without code lenses (Helix, …)
+      const point = pointAt(d.a, d.a.lines.offset(p.range.start));
+      if (point) {
+        if (wanted(SOLVE_ACTION)) {
+          const r = solveEdits(d.a, point, d.s.digits);
+          if (r.ok && r.edits.length) out.push({ title: `Solve point ${point}`, kind: SOLVE_ACTION, edit: workspaceEdit(d.doc, d.a, r.edits) });
+        }
+        if (wanted(LINEARIZE_ACTION)) {
+          const r = linearizeEdit(d.a, point, d.s.digits);
+          if (r.ok && d.a.text.slice(r.edit.span.start, r.edit.span.end) !== r.edit.newText) {
+            out.push({ title: `Linearize at point ${point}`, kind: LINEARIZE_ACTION, edit: workspaceEdit(d.doc, d.a, [r.edit]) });
+          }
+        }
+      }
+      return out;
     }),
   );
 

@@ -8,6 +8,7 @@ import type { Analysis } from '../analysis';
 import type * as A from '../ast';
 import type { ModelSymbol } from '../binder';
 import * as E from '../expr';
+import { AXIS_TOL, analyzeDynamics, type Dynamics } from '../dynamics';
 import { formatEigen, linearEigen } from '../format';
 import { declaredValue } from '../linearizer';
 import type { Slot } from '../model';
@@ -28,6 +29,9 @@ export interface HoverResult {
   markdown: string;
   span: Span;
 }
+
+/** Largest model whose point hover runs the full modal analysis (eigenvectors, verdict) of the report. */
+const DYNAMICS_MAX_STATES = 40;
 
 const KIND_WORD: Record<ModelSymbol['kind'], string> = { const: 'constant', input: 'input', state: 'state', var: 'var', output: 'output' };
 
@@ -190,25 +194,38 @@ function pointText(a: Analysis, name: string, digits: number): string {
     out.push('', 'The model has no states: no eigenvalues (a static model).');
     return out.join('\n');
   }
-  const eig = linearEigen(lin);
-  const big = Math.max(...eig.map((e) => Math.hypot(e.re, e.im)), 0);
-  const tol = 1e-9 * Math.max(big, 1e-300);
-  const unstable = eig.filter((e) => e.re > tol);
-  const onAxis = eig.filter((e) => Math.abs(e.re) <= tol);
-  const stable = eig.filter((e) => e.re < -tol);
+  // the report's own analysis (modes, verdict) for models small enough to hover instantly; eigenvalues alone beyond
+  let dyn: Dynamics | undefined;
+  if (lin.n <= DYNAMICS_MAX_STATES) {
+    try {
+      dyn = analyzeDynamics(lin);
+    } catch {
+      dyn = undefined;
+    }
+  }
+  const eig = dyn ? dyn.eigenvalues : linearEigen(lin);
   out.push('', `Eigenvalues [1/${tu}]: ${formatEigen(eig, digits)}`, '');
-  if (unstable.length) out.push(`**Unstable**: ${unstable.length} eigenvalue(s) with a positive real part.`);
-  else if (onAxis.length) out.push(`**Marginally stable**: ${onAxis.length} eigenvalue(s) on the imaginary axis (an integrator or an undamped oscillation), the rest in the left half-plane.`);
-  else out.push('**Stable**: every eigenvalue has a negative real part.');
-  if (stable.length) {
-    // one time constant per real eigenvalue or conjugate pair
-    const taus = stable.filter((e) => e.im >= 0).map((e) => -1 / e.re);
+  if (dyn) {
+    const v = dyn.stability.verdict;
+    out.push(`**${v === 'stable' ? 'Stable' : v === 'marginal' ? 'Marginally stable' : 'Unstable'}**: ${dyn.stability.reason}`);
+  } else {
+    const big = Math.max(...eig.map((e) => Math.hypot(e.re, e.im)), 0);
+    const tol = AXIS_TOL * big;
+    const unstable = eig.filter((e) => e.re > tol).length;
+    const onAxis = eig.filter((e) => Math.abs(e.re) <= tol).length;
+    if (unstable) out.push(`**Unstable**: ${unstable} eigenvalue(s) with a positive real part.`);
+    else if (onAxis) out.push(`**Marginally stable**: ${onAxis} eigenvalue(s) on the imaginary axis (an integrator or an undamped oscillation), the rest in the left half-plane.`);
+    else out.push('**Stable**: every eigenvalue has a negative real part.');
+  }
+  // one time constant per real eigenvalue or conjugate pair in the left half-plane
+  const tolAxis = AXIS_TOL * Math.max(...eig.map((e) => Math.hypot(e.re, e.im)), 0);
+  const taus = eig.filter((e) => e.im >= 0 && e.re < -tolAxis).map((e) => -1 / e.re);
+  if (taus.length) {
     const slow = Math.max(...taus);
     const fast = Math.min(...taus);
     out.push('', taus.length > 1 ? `Time constants [${tu}]: slowest ${fmt(slow, digits)}, fastest ${fmt(fast, digits)}` : `Time constant [${tu}]: ${fmt(slow, digits)}`);
   }
-  const osc = eig.filter((e) => e.im > 0);
-  for (const e of osc.slice(0, 4)) {
+  for (const e of eig.filter((x) => x.im > 0).slice(0, 4)) {
     const wn = Math.hypot(e.re, e.im);
     out.push('', `Oscillatory mode: natural frequency ${fmt(wn, digits)} rad/${tu}, damping ratio ${fmt(-e.re / wn, digits)}`);
   }
