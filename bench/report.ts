@@ -71,4 +71,4 @@ export function reportBench(log: (s: string) => void = console.log): void {
   }
 }
 
-if (require.main === module && !process.env.POISE_NO_MAIN) reportBench();
+if (require.main === module) reportBench();

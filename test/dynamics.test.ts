@@ -330,7 +330,7 @@ describe('zeros, cancellations and rank tests on hand-made systems', () => {
     expect(tf.num.map((x) => Number(x.toFixed(10)))).toEqual([1, 3]);
     expect(tf.den.map((x) => Number(x.toFixed(10)))).toEqual([1, 7, 14, 8]);
   });
-  it('direct feedthrough: zeros of d + c/(s−a) at a − c·b/d', () => {
+  it('direct feedthrough: d + c·b/(s − a) = d·(s − a + c·b/d)/(s − a) has its zero at a − c·b/d (algebra, common practice)', () => {
     const dyn = analyzeDynamics(system([[-2]], [[3]], [[1.5]], [[0.5]]));
     expectClose(dyn.transfer[0].zeros[0].re, -2 - (1.5 * 3) / 0.5, 1e-10);
     expectClose(dyn.transfer[0].dcGain!, 0.5 + (1.5 * 3) / 2, 1e-12);
@@ -392,7 +392,7 @@ describe('integrators and singular A', () => {
     expect(analyzeDynamics(system([[0, 1], [0, 0]], [[0], [1]], [[1, 0]])).stability.verdict).toBe('unstable');
     expect(analyzeDynamics(system([[0, 0], [0, 0]], [[1], [1]], [[1, 0]])).stability.verdict).toBe('marginal');
   });
-  it('a pair that does not see the integrator keeps an ordinary gain', () => {
+  it('a pair that does not see the integrator keeps an ordinary gain (worked by hand: G = [[1/s, 0], [0, 1/(s+1)]])', () => {
     // x1' = u1 (integrator), x2' = −x2 + u2; y1 = x1, y2 = x2
     const dyn = analyzeDynamics(system([[0, 0], [0, -1]], [[1, 0], [0, 1]], [[1, 0], [0, 1]]));
     expect(dyn.dcGain.gain[1][1]).toBeCloseTo(1, 12);

@@ -318,12 +318,12 @@ async function stepHover() {
   const page = state.page;
   const text = readFileSync(join(state.workspace, state.file), 'utf8');
   const eq = equationLine(text);
-  // candidate places on the line: the first name, the '=' and the first name after it
+  // candidate places on the line: the '=' (an equation's hover shows its local gains), then the names
   const firstName = eq.text.search(/[\p{L}_]/u);
   const equals = eq.text.indexOf('=');
   const afterEquals = equals + 1 + eq.text.slice(equals + 1).search(/[\p{L}_]/u);
   const table = await until(`a hover with a table on line ${eq.line}`, async () => {
-    for (const column of [firstName, equals, afterEquals]) {
+    for (const column of [equals, equals - 1, firstName, afterEquals]) {
       // go to the line (Ctrl+G) so that it is rendered, then move the mouse over the character
       await page.keyboard.press('Escape');
       await page.keyboard.press('Control+G');
@@ -340,13 +340,15 @@ async function stepHover() {
         if (!(await hover.count())) return false;
         const r = await hover.first().evaluate((el) =>
           [...el.querySelectorAll('table tr')].map((tr) => [...tr.querySelectorAll('th,td')].map((c) => c.textContent.trim())));
-        return r.length ? r : false;
+        // the local-gains table names partial derivatives (∂)
+        return r.length && JSON.stringify(r).includes('∂') ? r : false;
       }, 5000).catch(() => false);
       if (rows) return { rows, column };
     }
     return false;
   });
-  const numeric = table.rows.flat().filter((c) => /^[-+−]?(\d+\.?\d*|\.\d+)([eE][-+−]?\d+)?$/.test(c.replace(/\s/g, '')));
+  // cells such as "0.001082 L/s per m" or "-1.5e-3": a number, optionally followed by a unit
+  const numeric = table.rows.flat().filter((c) => /^[-+−]?(\d+\.?\d*|\.\d+)([eE][-+−]?\d+)?(\s|$)/.test(c.trim()));
   if (table.rows.length < 2 || numeric.length === 0) {
     throw new Error(`the hover table has no numeric entries: ${JSON.stringify(table.rows)}`);
   }

@@ -202,7 +202,7 @@ function ticksOf(ax: AxisSpec): { major: number[]; minor: number[] } {
   const mx = Math.max(Math.abs(ax.min), Math.abs(ax.max));
   const k0 = Math.ceil(Math.log10(c) - 1e-9);
   const k1 = Math.floor(Math.log10(mx) + 1e-9);
-  const every = Math.max(1, Math.ceil((k1 - k0 + 1) / 4));
+  const every = Math.max(1, Math.ceil((k1 - k0 + 1) / 7));
   for (let k = k1; k >= k0; k -= every) {
     const v = Math.pow(10, k);
     if (v <= ax.max) major.push(v);
@@ -583,10 +583,11 @@ function stepCharts(d: ReportData, s: StepReport): string {
       const lo = o.nonlinear.map((v) => v - o.band);
       const hi = o.nonlinear.map((v) => v + o.band);
       const y = linRange([...o.linear, ...lo, ...hi, 0], `Δ${o.name}${bracket(o.unit)}`);
+      // both curves start from 0 just before the step, so a direct feedthrough shows as a jump at t = 0
       const series: Series[] = [
         { kind: 'band', cls: 'bandc', x: nlT, y: lo, y2: hi },
-        { kind: 'line', cls: 's1', x: nlT, y: o.nonlinear },
-        { kind: 'dash', cls: 's2', x: s.t, y: o.linear },
+        { kind: 'line', cls: 's1', x: [0, ...nlT], y: [0, ...o.nonlinear] },
+        { kind: 'dash', cls: 's2', x: [0, ...s.t], y: [0, ...o.linear] },
       ];
       const vlines = failT !== undefined ? [{ x: failT, cls: 'fail', label: 'nonlinear stops' }] : [];
       return `<figure class="chart card">${chart({ id: 'st', x: linRange(s.t, `time [${t}]`, { exact: true }), y, series, height: 230, title: `Δ${o.name}${o.error !== null ? ` — linear differs by ${pctPlain(o.error)} of the change` : ''}`, vlines, hlines: [{ y: 0, cls: 'axis0' }] })}</figure>`;
@@ -681,20 +682,20 @@ function cautionsBox(d: ReportData, cls: string): string {
 
 // ------------------------------------------------------------------------------------- page
 
+const LIGHT = `--bg:#f6f5f1;--card:#ffffff;--fg:#1c2130;--muted:#5d6474;--line:#d8d4ca;--grid:#e9e6de;--grid2:#f1efe9;--axis:#7a808c;
+--s0:#1c2130;--s1:#13708a;--s2:#cf6d21;--s3:#7a55a8;--s4:#2e8a57;--s5:#bf3f66;--s6:#4d74b8;--bandc:rgba(19,112,138,.15);--valid:rgba(46,138,87,.15);--rhp:rgba(191,63,102,.08);
+--ok:#2e8a57;--warn:#a86a0c;--bad:#b83228;--cbg:#fdf4df;--cline:#d9a53d;--head:#0f3f4d`;
+const DARK = `--bg:#16191f;--card:#1e222a;--fg:#e3e6ec;--muted:#9aa2b1;--line:#353b47;--grid:#2c313b;--grid2:#242832;--axis:#8a92a0;
+--s0:#e3e6ec;--s1:#4fc0d8;--s2:#f2994a;--s3:#b794e8;--s4:#5fcf8e;--s5:#f07199;--s6:#86a8f0;--bandc:rgba(79,192,216,.18);--valid:rgba(95,207,142,.16);--rhp:rgba(240,113,153,.10);
+--ok:#5fcf8e;--warn:#f0b45a;--bad:#ff7b6e;--cbg:#2e2818;--cline:#a9822f;--head:#9fd9e6`;
+
 const CSS = `
-:root{color-scheme:light dark;--bg:#f6f5f1;--card:#ffffff;--fg:#1c2130;--muted:#5d6474;--line:#d8d4ca;--grid:#e9e6de;--grid2:#f1efe9;--axis:#7a808c;
---s0:#1c2130;--s1:#13708a;--s2:#cf6d21;--s3:#7a55a8;--s4:#2e8a57;--s5:#bf3f66;--s6:#4d74b8;--bandc:rgba(19,112,138,.15);--valid:rgba(46,138,87,.15);--rhp:rgba(191,63,102,.08);
---ok:#2e8a57;--warn:#a86a0c;--bad:#b83228;--cbg:#fdf4df;--cline:#d9a53d;--head:#0f3f4d;
+:root{color-scheme:light dark;${LIGHT};
 --font:system-ui,-apple-system,"Segoe UI",Roboto,"Helvetica Neue",Arial,sans-serif;--mono:ui-monospace,"SF Mono",Menlo,Consolas,monospace}
-@media (prefers-color-scheme:dark){:root{--bg:#16191f;--card:#1e222a;--fg:#e3e6ec;--muted:#9aa2b1;--line:#353b47;--grid:#2c313b;--grid2:#242832;--axis:#8a92a0;
---s0:#e3e6ec;--s1:#4fc0d8;--s2:#f2994a;--s3:#b794e8;--s4:#5fcf8e;--s5:#f07199;--s6:#86a8f0;--bandc:rgba(79,192,216,.18);--valid:rgba(95,207,142,.16);--rhp:rgba(240,113,153,.10);
---ok:#5fcf8e;--warn:#f0b45a;--bad:#ff7b6e;--cbg:#2e2818;--cline:#a9822f;--head:#9fd9e6}}
-body.vscode-light{--bg:#f6f5f1;--card:#ffffff;--fg:#1c2130;--muted:#5d6474;--line:#d8d4ca;--grid:#e9e6de;--grid2:#f1efe9;--axis:#7a808c;
---s0:#1c2130;--s1:#13708a;--s2:#cf6d21;--s3:#7a55a8;--s4:#2e8a57;--s5:#bf3f66;--s6:#4d74b8;--bandc:rgba(19,112,138,.15);--valid:rgba(46,138,87,.15);--rhp:rgba(191,63,102,.08);
---ok:#2e8a57;--warn:#a86a0c;--bad:#b83228;--cbg:#fdf4df;--cline:#d9a53d;--head:#0f3f4d}
-body.vscode-dark,body.vscode-high-contrast{--bg:#16191f;--card:#1e222a;--fg:#e3e6ec;--muted:#9aa2b1;--line:#353b47;--grid:#2c313b;--grid2:#242832;--axis:#8a92a0;
---s0:#e3e6ec;--s1:#4fc0d8;--s2:#f2994a;--s3:#b794e8;--s4:#5fcf8e;--s5:#f07199;--s6:#86a8f0;--bandc:rgba(79,192,216,.18);--valid:rgba(95,207,142,.16);--rhp:rgba(240,113,153,.10);
---ok:#5fcf8e;--warn:#f0b45a;--bad:#ff7b6e;--cbg:#2e2818;--cline:#a9822f;--head:#9fd9e6}
+@media (prefers-color-scheme:dark){:root{${DARK}}}
+body.vscode-light{${LIGHT}}
+body.vscode-dark,body.vscode-high-contrast{${DARK}}
+body.vscode-high-contrast-light{${LIGHT}}
 *{box-sizing:border-box}
 body{margin:0;background:var(--vscode-editor-background,var(--bg));color:var(--vscode-editor-foreground,var(--fg));font-family:var(--vscode-font-family,var(--font));font-size:14px;line-height:1.45}
 main{max-width:1180px;margin:0 auto;padding:20px 24px 48px}
