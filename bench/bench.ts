@@ -8,7 +8,9 @@ import * as os from 'os';
 import * as path from 'path';
 import { Analysis } from '../server/src/core/analysis';
 import { eigenvalues } from '../server/src/core/numeric/eigen';
+import { runSweep } from '../server/src/core/sweep';
 import { lspLatency } from './lspLatency';
+import { massChain, reportBench } from './report';
 import { tankChain, tankChainSympy } from './models';
 
 function ms(t0: bigint): number {
@@ -95,6 +97,24 @@ async function main() {
     te.push(ms(t0));
   }
   console.log(`eigenvalues of a random dense 500×500 A: ${median(te).toFixed(0)} ms (median of 3)`);
+
+  // report of a 50-state model (issue target: under 2 s)
+  console.log('');
+  reportBench();
+
+  // 200-step sweep of a 50-state model (issue target: under 5 s)
+  console.log('');
+  for (const [name, text, vary, from, to] of [
+    ['50 tanks, vary qin', tankChain(50), 'qin', 0.005, 0.02],
+    ['25 masses, vary the pull', massChain(25), 'pull', 0, 40],
+  ] as [string, string, string, number, number][]) {
+    const a = new Analysis(text);
+    const t0 = process.hrtime.bigint();
+    const r = runSweep(a, { point: 'nominal', vary, from, to, steps: 200 });
+    const t = ms(t0);
+    console.log(`200-step sweep, ${name} (50 states): ${t.toFixed(0)} ms, ${r.points.length} points, ${r.stats.solves} solves${r.complete ? '' : ' (stopped early)'}`);
+  }
+  console.log('');
 
   // language server: one-character edit → diagnostics, 2000-equation model
   if (process.env.POISE_BENCH_LSP !== '0') {
