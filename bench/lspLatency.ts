@@ -49,10 +49,13 @@ export async function lspLatency(n = 1000, edits = 21): Promise<{ open: number; 
     all.push((await done) - t0);
     await new Promise((r) => setTimeout(r, 600)); // let the point solve finish before the next edit
   }
+  p.stdin!.on('error', () => undefined); // the server may close its end first
+  const exited = new Promise<void>((r) => p.once('exit', () => r()));
   await c.sendRequest('shutdown');
-  c.sendNotification('exit');
+  await c.sendNotification('exit');
+  await Promise.race([exited, new Promise((r) => setTimeout(r, 2000))]);
   c.dispose();
-  p.kill();
+  if (p.exitCode === null) p.kill();
   const sorted = [...all].sort((a, b) => a - b);
   return { open, median: sorted[Math.floor(sorted.length / 2)], all };
 }

@@ -11,6 +11,7 @@ import { formatLinearText, formatValues } from '../core/format';
 import { formatSymbolic, symbolicLinear } from '../core/symbolic';
 import { sweepCommand } from './sweep';
 import { reportCommand } from './report';
+import { startServer } from '../lsp/server';
 
 export interface Io {
   out(s: string): void;
@@ -183,9 +184,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         return 0;
       }
       case 'lsp': {
-        // eslint-disable-next-line @typescript-eslint/no-require-imports
-        const server = require('../lsp/server') as { startServer(): void };
-        server.startServer();
+        startServer();
         return await new Promise<number>(() => undefined);
       }
       default: {
