@@ -1,11 +1,19 @@
 #!/usr/bin/env node
 'use strict';
-// The bundled CLI (dist/cli.js, built by `npm run build`) starts fastest; out/ is the plain tsc output.
+// The bundles (dist/cli.js, dist/server.js, built by `npm run build`) start fastest; out/ is the plain
+// tsc output, used when the bundles are absent.
 const fs = require('fs');
 const path = require('path');
-const bundled = path.join(__dirname, '..', 'dist', 'cli.js');
-const cli = fs.existsSync(bundled) ? require(bundled) : require('../out/server/src/cli/main.js');
-cli.main(process.argv.slice(2)).then(
-  (code) => { process.exitCode = code; },
-  (err) => { process.stderr.write(`poise: internal error: ${(err && err.stack) || err}\n`); process.exitCode = 2; },
-);
+const dist = (name) => path.join(__dirname, '..', 'dist', name);
+const args = process.argv.slice(2);
+
+if (args[0] === 'lsp') {
+  // the language server (it reads --stdio / --node-ipc from the command line); kept out of the CLI bundle
+  require(fs.existsSync(dist('server.js')) ? dist('server.js') : '../out/server/src/lsp/main.js');
+} else {
+  const cli = fs.existsSync(dist('cli.js')) ? require(dist('cli.js')) : require('../out/server/src/cli/main.js');
+  cli.main(args).then(
+    (code) => { process.exitCode = code; },
+    (err) => { process.stderr.write(`poise: internal error: ${(err && err.stack) || err}\n`); process.exitCode = 2; },
+  );
+}

@@ -37,7 +37,11 @@ try {
   if (only === 'cli' || !only) {
     // the command-line tool as one file: starts faster than loading out/ module by module
     await bundle('cli', resolve(root, 'server/src/cli/main.ts'), 'dist/cli.js', []);
-    if (only === 'cli') process.exit(0);
+    if (only === 'cli') {
+      // `poise lsp` runs the bundled server (bin/poise.js)
+      await bundle('server', serverEntry, 'dist/server.js', []);
+      process.exit(0);
+    }
   }
   await bundle('client', clientEntry, 'dist/extension.js', ['vscode']);
   if (!existsSync(serverEntry)) {

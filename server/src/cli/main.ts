@@ -11,7 +11,6 @@ import { formatLinearText, formatValues } from '../core/format';
 import { formatSymbolic, symbolicLinear } from '../core/symbolic';
 import { sweepCommand } from './sweep';
 import { reportCommand } from './report';
-import { startServer } from '../lsp/server';
 
 export interface Io {
   out(s: string): void;
@@ -183,10 +182,10 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         else io.out(formatLinearText(r.a, lin, values, eqs, digits));
         return 0;
       }
-      case 'lsp': {
-        startServer();
-        return await new Promise<number>(() => undefined);
-      }
+      case 'lsp':
+        // bin/poise.js starts the language server itself (a separate bundle, so that the other commands
+        // do not load the protocol libraries)
+        throw new UsageError('start the language server with "poise lsp --stdio" (bin/poise.js)');
       default: {
         const ext = extraCommands[p.cmd];
         if (ext) return await ext(p, io, { readModel, prepare, opt, oneFile, UsageError });
