@@ -4,32 +4,13 @@ import { LuDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
 import {
   complexSolve,
   dense,
-  DenseMatrix,
   luFactor,
   matMul,
   numericalRank,
   svdValues,
   toArrays,
 } from '../server/src/core/numeric/dense';
-
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-function randomDense(rows: number, cols: number, rand: () => number): DenseMatrix {
-  const m = dense(rows, cols);
-  for (let i = 0; i < m.data.length; i++) m.data[i] = 2 * rand() - 1;
-  return m;
-}
-
-const toMl = (m: DenseMatrix): Matrix => new Matrix(toArrays(m));
+import { randomDense, rng, toMl } from './helpers/matrices';
 
 describe('dense basics', () => {
   it('dense/toArrays round-trip and matMul agree with ml-matrix mmul', () => {

@@ -1,29 +1,14 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { EigenvalueDecomposition, LuDecomposition, Matrix, inverse } from 'ml-matrix';
+import { EigenvalueDecomposition, LuDecomposition, inverse } from 'ml-matrix';
 import { dense, DenseMatrix, matMul, toArrays } from '../server/src/core/numeric/dense';
 import { eigenvalues, eigenvectors, sortEigen } from '../server/src/core/numeric/eigen';
-
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { randomDense, rng, toMl } from './helpers/matrices';
 
 type C = { re: number; im: number };
 
-function randomDense(n: number, rand: () => number, zeroFraction = 0): DenseMatrix {
-  const m = dense(n, n);
-  for (let i = 0; i < m.data.length; i++) m.data[i] = rand() < zeroFraction ? 0 : 2 * rand() - 1;
-  return m;
-}
-
-const toMl = (m: DenseMatrix): Matrix => new Matrix(toArrays(m));
+/** A random n×n matrix with about `zeroFraction` of its entries 0. */
+const randomSquare = (n: number, rand: () => number, zeroFraction = 0): DenseMatrix => randomDense(n, n, rand, zeroFraction);
 
 function reference(a: DenseMatrix): C[] {
   // ml-matrix EigenvalueDecomposition as the reference library
@@ -86,7 +71,7 @@ function polyFromRoots(roots: number[]): number[] {
 
 function similarity(b: DenseMatrix, rand: () => number): DenseMatrix {
   const n = b.rows;
-  const t = randomDense(n, rand);
+  const t = randomSquare(n, rand);
   for (let i = 0; i < n; i++) t.data[i * n + i] += 3; // keep T well conditioned
   const tinv = dense(n, n, inverse(toMl(t)).to2DArray());
   return matMul(matMul(t, b), tinv);
@@ -96,7 +81,7 @@ describe('eigenvalues against ml-matrix', () => {
   it('random dense matrices (rel 1e-8)', () => {
     fc.assert(
       fc.property(fc.integer({ min: 1, max: 30 }), fc.integer({ min: 1, max: 2 ** 31 - 1 }), (n, seed) => {
-        const a = randomDense(n, rng(seed));
+        const a = randomSquare(n, rng(seed));
         expect(mismatch(values(a), reference(a))).toBeLessThan(1e-8);
       }),
       { numRuns: 80 },
@@ -111,7 +96,7 @@ describe('eigenvalues against ml-matrix', () => {
         fc.integer({ min: 1, max: 2 ** 31 - 1 }),
         (n, zf, seed) => {
           const rand = rng(seed);
-          const a = randomDense(n, rand, zf);
+          const a = randomSquare(n, rand, zf);
           // keep a random diagonal: with zero diagonals many such matrices are nilpotent (defective), where
           // the reference itself is only accurate to about eps^(1/k)
           for (let i = 0; i < n; i++) a.data[i * n + i] = 2 * rand() - 1;
@@ -123,7 +108,7 @@ describe('eigenvalues against ml-matrix', () => {
   });
 
   it('sorted output matches the sorted reference for a 60×60 random matrix', () => {
-    const a = randomDense(60, rng(60));
+    const a = randomSquare(60, rng(60));
     const r = eigenvalues(a);
     const got = sortEigen(r.re, r.im);
     const ref = reference(a);
@@ -137,7 +122,7 @@ describe('eigenvalues against ml-matrix', () => {
   it('is invariant under badly scaled diagonal similarity (balancing)', () => {
     const rand = rng(77);
     const n = 12;
-    const a = randomDense(n, rand);
+    const a = randomSquare(n, rand);
     const d = Array.from({ length: n }, (_, i) => 10 ** (i - 6));
     const s = dense(n, n);
     for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) s.data[i * n + j] = (a.data[i * n + j] * d[j]) / d[i];
@@ -260,7 +245,7 @@ describe('eigenvalues with known closed forms', () => {
   it('trace equals the sum and determinant the product of the eigenvalues', () => {
     const rand = rng(21);
     for (const n of [2, 5, 11, 20]) {
-      const a = randomDense(n, rand);
+      const a = randomSquare(n, rand);
       const r = eigenvalues(a);
       let tr = 0;
       for (let i = 0; i < n; i++) tr += a.data[i * n + i];
@@ -353,7 +338,7 @@ describe('eigenvectors', () => {
   it('A·v = λ·v and wᴴ·A = λ·wᴴ with wᴴv = 1 for random matrices (residual < 1e-9)', () => {
     fc.assert(
       fc.property(fc.integer({ min: 1, max: 25 }), fc.integer({ min: 1, max: 2 ** 31 - 1 }), (n, seed) => {
-        const a = randomDense(n, rng(seed));
+        const a = randomSquare(n, rng(seed));
         const res = residuals(a);
         expect(res.right).toBeLessThan(1e-9);
         expect(res.left).toBeLessThan(1e-9);
@@ -365,7 +350,7 @@ describe('eigenvectors', () => {
   });
 
   it('eigenvalues agree with eigenvalues() and with ml-matrix', () => {
-    const a = randomDense(20, rng(5));
+    const a = randomSquare(20, rng(5));
     const r = eigenvectors(a);
     const got = Array.from(r.re, (re, k) => ({ re, im: r.im[k] }));
     expect(mismatch(got, reference(a))).toBeLessThan(1e-8);
@@ -382,7 +367,7 @@ describe('eigenvectors', () => {
       dense(3, 3),
       dense(3, 3, [[0, 0, 1], [0, 0, 0], [0, 0, 0]].map((r, i) => r.map((v, j) => (i === j ? i - 1 : v)))),
     ];
-    const sym = randomDense(8, rand);
+    const sym = randomSquare(8, rand);
     for (let i = 0; i < 8; i++) for (let j = 0; j < i; j++) sym.data[i * 8 + j] = sym.data[j * 8 + i];
     cases.push(sym);
     for (const a of cases) {

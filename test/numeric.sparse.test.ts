@@ -2,18 +2,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { LuDecomposition, Matrix, SingularValueDecomposition, inverse } from 'ml-matrix';
 import { SparseEntry, sparseLU, solveMany } from '../server/src/core/numeric/sparseLU';
-
-/** Small seeded generator (mulberry32) so failures reproduce. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { rng } from './helpers/matrices';
 
 function toDense(n: number, entries: SparseEntry[]): Matrix {
   const m = Matrix.zeros(n, n);

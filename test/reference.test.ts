@@ -10,42 +10,20 @@
  * row share a unit, so this is the natural scale of a rounding error there).
  */
 import * as fs from 'fs';
-import * as path from 'path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { ensureBuilt, REFERENCE, runCliAsync, type CliResult } from './helpers/cli';
+import { ensureBuilt, runCliAsync, type CliResult } from './helpers/cli';
+import { matrixNames, readReference, referenceModels, REFERENCE_MODELS, type NamedMatrices } from './helpers/reference';
 
 const REL = 1e-6;
 const ABS_OF_ROW = 1e-9;
 
-interface Reference {
-  point: string;
-  values: Record<string, number>;
-  states: string[];
-  inputs: string[];
-  outputs: string[];
-  A: number[][];
-  B: number[][];
-  C: number[][];
-  D: number[][];
-  eig: [number, number][];
-}
-
-interface CliJson {
+interface CliJson extends NamedMatrices {
   point: string;
   values: Record<string, { value: number; unit: string }>;
-  states: string[];
-  inputs: string[];
-  outputs: string[];
-  A: number[][];
-  B: number[][];
-  C: number[][];
-  D: number[][];
   eigenvalues: { re: number; im: number }[];
 }
 
-const models = fs.existsSync(path.join(REFERENCE, 'models'))
-  ? fs.readdirSync(path.join(REFERENCE, 'models')).filter((f) => f.endsWith('.poise')).map((f) => f.replace(/\.poise$/, '')).sort()
-  : [];
+const models = fs.existsSync(REFERENCE_MODELS) ? referenceModels() : [];
 
 function close(actual: number, expected: number, abs: number): boolean {
   return Math.abs(actual - expected) <= REL * Math.abs(expected) + abs;
@@ -75,8 +53,8 @@ describe('shared reference models through `poise linearize --format json`', () =
   const results = new Map<string, CliResult>();
   beforeAll(async () => {
     ensureBuilt();
-    const rs = await Promise.all(models.map((name) => runCliAsync(['linearize', path.join(REFERENCE, 'models', `${name}.poise`), '--format', 'json'])));
-    models.forEach((name, i) => results.set(name, rs[i]));
+    const rs = await Promise.all(models.map(({ file }) => runCliAsync(['linearize', file, '--format', 'json'])));
+    models.forEach(({ name }, i) => results.set(name, rs[i]));
   });
 
   it('finds the reference models', () => {
@@ -84,8 +62,8 @@ describe('shared reference models through `poise linearize --format json`', () =
     expect(models.length).toBeGreaterThanOrEqual(6);
   });
 
-  it.each(models)('%s agrees with its reference JSON', (name) => {
-    const ref = JSON.parse(fs.readFileSync(path.join(REFERENCE, `${name}.json`), 'utf8')) as Reference;
+  it.each(models.map(({ name }) => name))('%s agrees with its reference JSON', (name) => {
+    const ref = readReference(name);
     const r = results.get(name)!;
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
@@ -108,10 +86,11 @@ describe('shared reference models through `poise linearize --format json`', () =
     // A, B, C, D by name
     const abRow = (i: number) => rowMax(ref.A[i], ref.B[i]);
     const cdRow = (i: number) => rowMax(ref.C[i], ref.D[i]);
-    bad.push(...compareMatrix('A', got.A, got.states, got.states, ref.A, ref.states, ref.states, abRow));
-    bad.push(...compareMatrix('B', got.B, got.states, got.inputs, ref.B, ref.states, ref.inputs, abRow));
-    bad.push(...compareMatrix('C', got.C, got.outputs, got.states, ref.C, ref.outputs, ref.states, cdRow));
-    bad.push(...compareMatrix('D', got.D, got.outputs, got.inputs, ref.D, ref.outputs, ref.inputs, cdRow));
+    for (const m of ['A', 'B', 'C', 'D'] as const) {
+      const [gotRows, gotCols] = matrixNames(got, m);
+      const [refRows, refCols] = matrixNames(ref, m);
+      bad.push(...compareMatrix(m, got[m], gotRows, gotCols, ref[m], refRows, refCols, m === 'A' || m === 'B' ? abRow : cdRow));
+    }
 
     // eigenvalues: each reference eigenvalue matched to the nearest unused computed one
     expect(got.eigenvalues.length).toBe(ref.eig.length);

@@ -17,23 +17,14 @@ import { describe, expect, it } from 'vitest';
 import { analyze, type Analysis } from '../server/src/core/analysis';
 import { main, type Io } from '../server/src/cli/main';
 import { formatSymbolic, printFormula, symbolicCoefficient, symbolicEquations, symbolicLinear, type SymbolicLinear } from '../server/src/core/symbolic';
-import { EXAMPLES, REFERENCE } from './helpers/cli';
+import { EXAMPLES } from './helpers/cli';
 import { expectClose } from './helpers/model';
+import { entryByName, matrixNames, readReferenceFile, referenceModels, REFERENCE_MODELS, rowByName } from './helpers/reference';
 
 const models: { file: string; ref?: string }[] = [
-  ...fs.readdirSync(path.join(REFERENCE, 'models')).filter((f) => f.endsWith('.poise')).map((f) => ({ file: path.join(REFERENCE, 'models', f), ref: path.join(REFERENCE, f.replace(/\.poise$/, '.json')) })),
+  ...referenceModels().map(({ file, ref }) => ({ file, ref })),
   ...fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).map((f) => ({ file: path.join(EXAMPLES, f) })),
 ];
-
-interface Reference {
-  states: string[];
-  inputs: string[];
-  outputs: string[];
-  A: number[][];
-  B: number[][];
-  C: number[][];
-  D: number[][];
-}
 
 /** Evaluates a formula's printed text with mathjs, the symbols bound to their values. */
 function evalText(s: SymbolicLinear, text: string): number {
@@ -80,12 +71,11 @@ describe('formulas equal the numbers', () => {
         });
         if (ref) {
           // against the reference linear model computed outside the project (README: rel 1e-6), by name
-          const R = JSON.parse(fs.readFileSync(ref, 'utf8')) as Reference;
-          const names = { A: [R.states, R.states, lin.states, lin.states], B: [R.states, R.inputs, lin.states, lin.inputs], C: [R.outputs, R.states, lin.outputs, lin.states], D: [R.outputs, R.inputs, lin.outputs, lin.inputs] } as const;
+          const R = readReferenceFile(ref);
           each(s, (m, i, j, text) => {
-            const [rr, rc, lr, lc] = names[m];
-            const want = R[m][rr.indexOf(lr[i])][rc.indexOf(lc[j])];
-            const scale = Math.max(...R[m][rr.indexOf(lr[i])].map(Math.abs), 1e-300);
+            const [lr, lc] = matrixNames(lin, m);
+            const want = entryByName(R, m, lr[i], lc[j]);
+            const scale = Math.max(...rowByName(R, m, lr[i]).map(Math.abs), 1e-300);
             expectClose(evalText(s, text!), want, 1e-6, 1e-9 * scale, `${path.basename(ref)} ${m} ${lr[i]}/${lc[j]}`);
           });
         }
@@ -100,7 +90,7 @@ function load(name: string, dir = EXAMPLES): Analysis {
 
 describe('shape of the formulas', () => {
   it('drain: the coefficient is −1/tau with tau = 2*A*h0/q0 (Seborg et al.)', () => {
-    const a = load('drain.poise', path.join(REFERENCE, 'models'));
+    const a = load('drain.poise', REFERENCE_MODELS);
     const c = symbolicCoefficient(a, 'normal', "level'", 'level')!;
     expect(c.matrix).toBe('A');
     expect(c.unit).toBe('1/s');
@@ -114,7 +104,7 @@ describe('shape of the formulas', () => {
   });
 
   it('swing: g*cos(ang0)/len and damp/(mass*len^2) appear as such', () => {
-    const a = load('swing.poise', path.join(REFERENCE, 'models'));
+    const a = load('swing.poise', REFERENCE_MODELS);
     const k = symbolicCoefficient(a, 'gust', "ang''", 'ang')!;
     expect(k.formula).toBe('-g*cos(ang0)/len'); // omega_n^2 = g*cos(theta0)/L (dynamics texts)
     const d = symbolicCoefficient(a, 'gust', "ang''", "ang'")!;

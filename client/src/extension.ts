@@ -1,5 +1,6 @@
 // The Poise extension: starts the bundled language server (dist/server.js) for `poise` documents and adds
-// the client-side commands (reports, sweeps, export). Solve and Linearize run on the server: the server
+// the client-side commands (reports, sweeps, export). Every page and list comes from the server
+// (poise/report, poise/sweep, poise/sweepCandidates, poise/export); the client only asks and shows. Solve and Linearize run on the server: the server
 // declares `poise.server.solvePoint` / `poise.server.linearizePoint` as executeCommand commands, the
 // language client registers them, and the palette commands here only find the point at the cursor first.
 import * as path from 'path';
@@ -11,7 +12,6 @@ import {
   TransportKind,
 } from 'vscode-languageclient/node';
 import { PanelManager, type PageResult } from './panels';
-import { defaultRange, scanDeclarations, type Declared } from './scan';
 
 const LANGUAGE = 'poise';
 
@@ -105,32 +105,84 @@ function numberValidator(text: string): string | undefined {
   return text.trim() !== '' && Number.isFinite(parseNumber(text)) ? undefined : 'enter a number, e.g. 0.02 or 2e-3';
 }
 
-async function askVary(document: vscode.TextDocument, point: string): Promise<Declared | { name: string; unit: string }> {
-  const declared = scanDeclarations(document.getText(), point).filter((d) => d.kind !== 'output');
-  const order: Record<string, number> = { input: 0, const: 1, state: 2, var: 3 };
-  declared.sort((a, b) => order[a.kind] - order[b.kind]);
-  type Item = vscode.QuickPickItem & { declared?: Declared };
-  const items: Item[] = declared.map((d) => ({
+/** A number as a short text for an input box: 0.45 rather than 0.44999999999999996. */
+function shortNumber(v: number): string {
+  return String(Number(v.toPrecision(6)));
+}
+
+/** What the server offers to vary at a point (`poise/sweepCandidates`): constants and the values the point fixes. */
+interface SweepCandidate {
+  name: string;
+  kind: string;
+  /** declared unit, '' when dimensionless */
+  unit: string;
+  /** value at the point, declared unit */
+  value: number;
+  /** suggested range */
+  from: number;
+  to: number;
+}
+
+/** A sweep to run without asking: the arguments a "Run sweep" lens gives (a declared `sweep` block). */
+interface SweepSpecArg {
+  /** name of the declared sweep block; the server reruns it as the model now declares it */
+  sweep?: string;
+  vary: string;
+  from: number;
+  to: number;
+  steps: number;
+  log?: boolean;
+}
+
+function sweepSpecArg(value: unknown): SweepSpecArg | undefined {
+  if (!value || typeof value !== 'object') return undefined;
+  const v = value as Record<string, unknown>;
+  const finite = (x: unknown): x is number => typeof x === 'number' && Number.isFinite(x);
+  if (typeof v.vary !== 'string' || !v.vary || !finite(v.from) || !finite(v.to) || !finite(v.steps)) return undefined;
+  return {
+    sweep: typeof v.sweep === 'string' && v.sweep ? v.sweep : undefined,
+    vary: v.vary,
+    from: v.from,
+    to: v.to,
+    steps: v.steps,
+    log: v.log === true,
+  };
+}
+
+async function askVary(wire: string, point: string): Promise<{ name: string; unit: string; from: number; to: number }> {
+  const c = await runningClient();
+  const candidates = await c.sendRequest<SweepCandidate[]>('poise/sweepCandidates', { uri: wire, point });
+  const order: Record<string, number> = { input: 0, const: 1, state: 2, var: 3, output: 4 };
+  const sorted = [...(candidates ?? [])].sort((a, b) => (order[a.kind] ?? 5) - (order[b.kind] ?? 5));
+  type Item = vscode.QuickPickItem & { candidate?: SweepCandidate };
+  const items: Item[] = sorted.map((d) => ({
     label: d.name,
     description: `${d.kind}${d.unit ? ` [${d.unit}]` : ''}`,
-    detail: d.value !== undefined ? `now ${d.value}${d.unit ? ` [${d.unit}]` : ''}` : undefined,
-    declared: d,
+    detail: `now ${shortNumber(d.value)}${d.unit ? ` [${d.unit}]` : ''}`,
+    candidate: d,
   }));
-  items.push({ label: 'Another name…', alwaysShow: true });
+  items.push({
+    label: 'Another name…',
+    detail: 'a state, var or output must first be fixed with "=" in the point block',
+    alwaysShow: true,
+  });
   const picked = await vscode.window.showQuickPick(items, {
     title: `Sweep from point '${point}'`,
-    placeHolder: 'What to vary',
+    placeHolder: 'What to vary (constants and the values the point fixes)',
     matchOnDescription: true,
   });
   if (!picked) throw new Cancelled();
-  if (picked.declared) return picked.declared;
+  if (picked.candidate) {
+    const d = picked.candidate;
+    return { name: d.name, unit: d.unit, from: d.from, to: d.to };
+  }
   const name = await vscode.window.showInputBox({
     title: `Sweep from point '${point}'`,
     prompt: 'Name of the quantity to vary',
     validateInput: (t) => (/^[\p{L}_][\p{L}\p{N}_]*$/u.test(t.trim()) ? undefined : 'enter a name'),
   });
   if (name === undefined) throw new Cancelled();
-  return { name: name.trim(), unit: '' };
+  return { name: name.trim(), unit: '', from: 0, to: 1 };
 }
 
 /** Thrown when the user dismisses a dialog: the command ends quietly. */
@@ -140,53 +192,63 @@ class Cancelled extends Error {
   }
 }
 
+/** Asks what to vary and over which range (the Sweep… lens and the palette command). */
+async function askSweep(wire: string, point: string): Promise<SweepSpecArg> {
+  const vary = await askVary(wire, point);
+  const unit = vary.unit ? ` [${vary.unit}]` : '';
+  const ask = async (prompt: string, value: string, validate: (t: string) => string | undefined) => {
+    const answer = await vscode.window.showInputBox({
+      title: `Sweep ${vary.name} from point '${point}'`,
+      prompt,
+      value,
+      validateInput: validate,
+    });
+    if (answer === undefined) throw new Cancelled();
+    return answer;
+  };
+  const from = parseNumber(await ask(`Start value of ${vary.name}${unit}`, shortNumber(vary.from), numberValidator));
+  const to = parseNumber(
+    await ask(`End value of ${vary.name}${unit}`, shortNumber(vary.to), (t) =>
+      numberValidator(t) ?? (parseNumber(t) === from ? 'the end must differ from the start' : undefined),
+    ),
+  );
+  const steps = parseNumber(
+    await ask('Number of steps', '40', (t) =>
+      /^\s*\d+\s*$/.test(t) && parseNumber(t) >= 1 && parseNumber(t) <= 10000 ? undefined : 'a whole number from 1 to 10000',
+    ),
+  );
+  let log = false;
+  if (from > 0 && to > 0) {
+    const spacing = await vscode.window.showQuickPick(
+      [
+        { label: 'Linear spacing', log: false },
+        { label: 'Logarithmic spacing', log: true },
+      ],
+      { title: `Sweep ${vary.name} from ${from} to ${to}${unit}`, placeHolder: 'Spacing of the steps' },
+    );
+    if (!spacing) throw new Cancelled();
+    log = spacing.log;
+  }
+  return { vary: vary.name, from, to, steps, log };
+}
+
+/**
+ * The `poise.sweep` command. Arguments `[uri, point]` (the Sweep… lens) or none (the palette: the point at
+ * the cursor) ask what to vary; `[uri, point, spec]` (the Run sweep lens of a declared `sweep` block) runs
+ * `spec` = {sweep?, vary, from, to, steps, log} without asking.
+ */
 async function sweep(panels: PanelManager, args: unknown[]): Promise<void> {
   try {
     const { uri, point } = await target(args);
-    const document = await vscode.workspace.openTextDocument(uri);
-    const vary = await askVary(document, point);
-    const unit = vary.unit ? ` [${vary.unit}]` : '';
-    const range = defaultRange('value' in vary ? vary.value : undefined);
-    const ask = async (prompt: string, value: string, validate: (t: string) => string | undefined) => {
-      const answer = await vscode.window.showInputBox({
-        title: `Sweep ${vary.name} from point '${point}'`,
-        prompt,
-        value,
-        validateInput: validate,
-      });
-      if (answer === undefined) throw new Cancelled();
-      return answer;
-    };
-    const from = parseNumber(await ask(`Start value of ${vary.name}${unit}`, String(range.from), numberValidator));
-    const to = parseNumber(
-      await ask(`End value of ${vary.name}${unit}`, String(range.to), (t) =>
-        numberValidator(t) ?? (parseNumber(t) === from ? 'the end must differ from the start' : undefined),
-      ),
-    );
-    const steps = parseNumber(
-      await ask('Number of steps', '40', (t) =>
-        /^\s*\d+\s*$/.test(t) && parseNumber(t) >= 1 && parseNumber(t) <= 10000 ? undefined : 'a whole number from 1 to 10000',
-      ),
-    );
-    let log = false;
-    if (from > 0 && to > 0) {
-      const spacing = await vscode.window.showQuickPick(
-        [
-          { label: 'Linear spacing', log: false },
-          { label: 'Logarithmic spacing', log: true },
-        ],
-        { title: `Sweep ${vary.name} from ${from} to ${to}${unit}`, placeHolder: 'Spacing of the steps' },
-      );
-      if (!spacing) throw new Cancelled();
-      log = spacing.log;
-    }
     const wire = await protocolUri(uri);
-    const params = { uri: wire, point, vary: vary.name, from, to, steps, log };
+    const given = sweepSpecArg(args[2]);
+    const spec = given ?? (await askSweep(wire, point));
+    const params = { uri: wire, point, vary: spec.vary, from: spec.from, to: spec.to, steps: spec.steps, log: spec.log === true, sweep: spec.sweep };
     await panels.show({
-      key: `sweep|${uri.toString()}|${point}|${vary.name}`,
+      key: spec.sweep ? `sweep|${uri.toString()}|${spec.sweep}` : `sweep|${uri.toString()}|${point}|${spec.vary}`,
       uri,
       viewType: 'poise.sweep',
-      title: `Sweep: ${vary.name} (${point})`,
+      title: spec.sweep ? `Sweep ${spec.sweep}: ${spec.vary} (${point})` : `Sweep: ${spec.vary} (${point})`,
       fetch: async () => (await runningClient()).sendRequest<PageResult>('poise/sweep', params),
     });
   } catch (e) {

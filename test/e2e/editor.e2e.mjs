@@ -14,7 +14,10 @@
 //   lenses     wait for the Solve and Linearize code lenses                       (POISE_E2E_LENSES=0 skips)
 //   linearize  click Linearize, save, read back the generated `linear` block     (POISE_E2E_LINEARIZE=0 skips)
 //   hover      hover an equation line, read the local-gains table in the hover   (POISE_E2E_HOVER=0 skips)
-//   report     click Report, find SVG plots with non-empty paths in the webview  (POISE_E2E_REPORT=0 skips)
+//   report     click Report; in the webview (nested iframes) find SVG charts with drawn paths and axis
+//              labels, check the page's Content-Security-Policy                   (POISE_E2E_REPORT=0 skips)
+//   sweep      click the Run sweep lens of the file's declared `sweep` block; check the sweep page's charts
+//              (against the swept name) and, for belt_drive, the stability change (POISE_E2E_SWEEP=0 skips)
 // Environment:
 //   POISE_EDITOR_HOST   editor host folder (default /tmp/poise-editor-host)
 //   POISE_VSIX          use this vsix instead of packaging one
@@ -357,27 +360,120 @@ async function stepHover() {
   return `hover on line ${eq.line} (column ${table.column + 1}) shows a ${table.rows.length}-row table with ${numeric.length} numbers`;
 }
 
+/**
+ * What a webview page shows, read inside its frame. VS Code nests each webview in two iframes (the host
+ * frame and the `active-frame` holding our page); page.frames() lists nested frames too, so every frame is
+ * tried and the one whose document title matches `titlePattern` (a regular expression source) is taken.
+ */
+async function webviewInfo(page, titlePattern) {
+  for (const frame of page.frames().filter((f) => f !== page.mainFrame())) {
+    const info = await frame.evaluate((pattern) => {
+      if (!new RegExp(pattern).test(document.title)) return null;
+      const svgs = [...document.querySelectorAll('svg')];
+      const plots = svgs.filter((s) => s.querySelector('text')); // charts, not the small legend swatches
+      const drawn = (p) => (p.getAttribute('d') || '').trim().length > 2;
+      // axis labels: text elements of a chart classed as labels/axes and holding words (e.g. "belt [m/s]")
+      const labelOf = (t) => /label|axis/.test(t.getAttribute('class') || '') && /\p{L}/u.test(t.textContent || '');
+      return {
+        title: document.title,
+        svgs: svgs.length,
+        plots: plots.length,
+        paths: [...document.querySelectorAll('svg path')].filter(drawn).length,
+        // charts that have both a drawn path and an axis label
+        labelled: plots.filter((s) => [...s.querySelectorAll('path')].some(drawn) && [...s.querySelectorAll('text')].some(labelOf)).length,
+        labels: [...new Set(plots.flatMap((s) => [...s.querySelectorAll('text')].filter(labelOf).map((t) => t.textContent.trim())))],
+        csp: document.querySelector('meta[http-equiv="Content-Security-Policy"]')?.getAttribute('content') || '',
+        headings: [...document.querySelectorAll('h1, h2')].map((h) => h.textContent.trim()),
+        changes: [...document.querySelectorAll('#summary li')].map((li) => li.textContent.trim()),
+        summary: document.querySelector('#summary')?.textContent.trim() || '',
+      };
+    }, titlePattern).catch(() => null);
+    if (info) return { ...info, frame };
+  }
+  return null;
+}
+
+/** Scrolls the page in `frame` so that `selector` is at the top, and waits until it is there. */
+async function scrollFrameTo(frame, selector) {
+  await until(`${selector} scrolled into view in the webview`, async () =>
+    frame.evaluate((sel) => {
+      const el = document.querySelector(sel);
+      if (!el) return false;
+      el.scrollIntoView({ block: 'start' });
+      const top = el.getBoundingClientRect().top;
+      return top >= -1 && top < window.innerHeight / 2;
+    }, selector), 10000);
+}
+
+function checkCsp(csp, what) {
+  if (!/script-src 'nonce-/.test(csp) || !/default-src 'none'/.test(csp)) {
+    throw new Error(`the ${what} page lacks the extension's Content-Security-Policy: "${csp}"`);
+  }
+}
+
 async function stepReport() {
   const page = state.page;
   await page.keyboard.press('Escape');
   await clickLens(page, 'Report');
-  const found = await until('SVG plots with non-empty paths in the report webview', async () => {
-    for (const frame of page.frames().filter((f) => f !== page.mainFrame())) {
-      const info = await frame.evaluate(() => ({
-        svgs: document.querySelectorAll('svg').length,
-        paths: [...document.querySelectorAll('svg path')].filter((p) => (p.getAttribute('d') || '').trim().length > 2).length,
-        csp: document.querySelector('meta[http-equiv="Content-Security-Policy"]')?.getAttribute('content') || '',
-        title: document.title,
-      })).catch(() => null);
-      if (info && info.svgs > 0 && info.paths > 0) return { ...info, url: frame.url() };
-    }
-    return false;
+  // the report page's title reads "FILE — point NAME"; the panel shows "Computing…" first
+  const found = await until('SVG plots with drawn paths and axis labels in the report webview', async () => {
+    const info = await webviewInfo(page, ' — point ');
+    return info && info.plots > 0 && info.paths > 0 && info.labelled > 0 ? info : false;
   });
-  if (!/script-src 'nonce-/.test(found.csp) || !/default-src 'none'/.test(found.csp)) {
-    throw new Error(`the report page lacks the extension's Content-Security-Policy: "${found.csp}"`);
-  }
+  checkCsp(found.csp, 'report');
+  const tab = await until('the report tab', async () => {
+    const t = await page.locator('.tab').filter({ hasText: /^Report: / }).first().innerText({ timeout: 500 });
+    return t.trim() || false;
+  });
+  await scrollFrameTo(found.frame, 'svg:has(text)');
   await screenshot('05-report');
-  return `report webview "${found.title}": ${found.svgs} svg element(s), ${found.paths} non-empty path(s); CSP "${found.csp}"`;
+  return `report webview "${found.title}" (tab "${tab}"): ${found.plots} chart(s), ${found.paths} drawn path(s), ${found.labelled} chart(s) with axis labels (${found.labels.slice(0, 4).map((l) => `"${l}"`).join(', ')}…); CSP "${found.csp}"`;
+}
+
+/** The declared sweeps of a model: name, point, varied name and range as written. */
+function declaredSweeps(text) {
+  return [...text.matchAll(/^sweep\s+(\S+)\s+from\s+(\S+)\s*:[^\n]*\n\s+vary\s+(\S+)\s*=\s*([^\n#]*)/gm)].map((m) => ({ name: m[1], point: m[2], vary: m[3], range: m[4].trim() }));
+}
+
+async function stepSweep() {
+  const page = state.page;
+  const text = readFileSync(join(state.workspace, state.file), 'utf8');
+  const sweeps = declaredSweeps(text);
+  if (!sweeps.length) throw new Error(`${state.file} declares no sweep block to run (POISE_E2E_SWEEP=0 skips this step)`);
+  const sw = sweeps[0];
+  await page.keyboard.press('Escape');
+  await clickLens(page, 'Run sweep');
+  // the sweep page's title reads "FILE — sweep NAME of VARY"
+  const found = await until(`the sweep page of "${sw.name}" with plots in a webview`, async () => {
+    const info = await webviewInfo(page, ` — sweep ${sw.name} of `);
+    return info && info.plots > 0 && info.paths > 0 && info.labelled > 0 && info.summary ? info : false;
+  });
+  checkCsp(found.csp, 'sweep');
+  const tab = await until('the sweep tab', async () => {
+    const t = await page.locator('.tab').filter({ hasText: `Sweep ${sw.name}` }).first().innerText({ timeout: 500 });
+    return t.trim() || false;
+  });
+  if (!found.labels.some((l) => l.startsWith(sw.vary))) {
+    throw new Error(`no chart is plotted against ${sw.vary}: axis labels ${JSON.stringify(found.labels)}`);
+  }
+  let crossing = '';
+  if (state.file.split('/').pop() === 'belt_drive.poise') {
+    // belt_drive: the arm's net damping damp − press·(mus−muk)·e^(−belt/vref)/vref vanishes at
+    // belt = vref·ln(press·(mus−muk)/(damp·vref)) (derivative of an exponential, common practice), inside 0.05…3 m/s
+    const c = (name) => Number(new RegExp(`^const\\s+${name}\\s*=\\s*([\\d.eE+-]+)`, 'm').exec(text)[1]);
+    const expected = c('vref') * Math.log((c('press') * (c('mus') - c('muk'))) / (c('damp') * c('vref')));
+    const li = found.changes.find((t) => /pair crosses the imaginary axis/.test(t));
+    const at = li ? Number(/^belt = ([-\d.e+]+)/.exec(li)?.[1]) : NaN;
+    if (!(Math.abs(at - expected) < 1e-4 * expected)) {
+      throw new Error(`expected the pair to cross at belt = ${expected.toFixed(5)} m/s; the page lists: ${JSON.stringify(found.changes)}`);
+    }
+    crossing = `; stability change at belt = ${at} m/s (closed form ${expected.toFixed(5)})`;
+  }
+  await scrollFrameTo(found.frame, '#summary');
+  await screenshot('06-sweep');
+  await scrollFrameTo(found.frame, '#against');
+  await screenshot('07-sweep-charts');
+  return `sweep "${sw.name}" (vary ${sw.vary} = ${sw.range}) in tab "${tab}": ${found.plots} chart(s), ${found.paths} drawn path(s), ${found.labelled} with axis labels${crossing}`;
 }
 
 // ----------------------------------------------------------------------------------------------- main
@@ -393,6 +489,7 @@ const steps = [
   ['linearize', stepLinearize, enabled('LINEARIZE')],
   ['hover', stepHover, enabled('HOVER')],
   ['report', stepReport, enabled('REPORT')],
+  ['sweep', stepSweep, enabled('SWEEP')],
 ];
 
 function stopEditor() {

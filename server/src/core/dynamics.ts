@@ -625,6 +625,45 @@ function pbhDeficiencies(A: Float64Array, B: Float64Array, n: number, m: number,
 // ------------------------------------------------------------------------------------- transfer functions
 
 /**
+ * Householder reflector I − f·v·vᵀ taking x (length L) to alpha·e₁, alpha = −sign(x₀)·‖x‖ (common practice;
+ * Golub & Van Loan, Matrix Computations, §5.1): v (length L) is written, f = 2/(vᵀv), 0 when x = 0.
+ */
+function householder(x: Float64Array, L: number, v: Float64Array): { alpha: number; f: number } {
+  let s = 0;
+  for (let i = 0; i < L; i++) s += x[i] * x[i];
+  const nx = Math.sqrt(s);
+  const alpha = x[0] > 0 ? -nx : nx;
+  for (let i = 0; i < L; i++) v[i] = x[i];
+  v[0] -= alpha;
+  let beta = 0;
+  for (let i = 0; i < L; i++) beta += v[i] * v[i];
+  return { alpha, f: beta === 0 ? 0 : 2 / beta };
+}
+
+/** M ← (I − f·v·vᵀ)·M on the rows off..off+L−1 of M (row-major, `cols` columns). */
+function reflectRows(M: Float64Array, cols: number, v: Float64Array, L: number, off: number, f: number): void {
+  for (let j = 0; j < cols; j++) {
+    let t = 0;
+    for (let i = 0; i < L; i++) t += v[i] * M[(off + i) * cols + j];
+    if (t === 0) continue;
+    t *= f;
+    for (let i = 0; i < L; i++) M[(off + i) * cols + j] -= t * v[i];
+  }
+}
+
+/** M ← M·(I − f·v·vᵀ) on the columns off..off+L−1 of M (row-major, `rows` rows of length `stride`). */
+function reflectCols(M: Float64Array, rows: number, stride: number, v: Float64Array, L: number, off: number, f: number): void {
+  for (let i = 0; i < rows; i++) {
+    let t = 0;
+    const ro = i * stride + off;
+    for (let j = 0; j < L; j++) t += M[ro + j] * v[j];
+    if (t === 0) continue;
+    t *= f;
+    for (let j = 0; j < L; j++) M[ro + j] -= t * v[j];
+  }
+}
+
+/**
  * Orthogonal (Householder) reduction of (A, b, c) to controllability Hessenberg form: b → β·e₁, A upper
  * Hessenberg; stops at the first negligible subdiagonal, whose position is the order of the controllable
  * part. Works on copies; returns the controllable part (A r×r, b, c).
@@ -641,37 +680,11 @@ function controllablePart(A0: Float64Array, b0: Float64Array, c0: Float64Array, 
   // reflector on rows/cols off..n−1 taking x (length n−off) to ±‖x‖e₁
   const reflect = (x: Float64Array, off: number): number => {
     const L = n - off;
-    let s = 0;
-    for (let i = 0; i < L; i++) s += x[i] * x[i];
-    const nx = Math.sqrt(s);
-    const alpha = x[0] > 0 ? -nx : nx;
-    for (let i = 0; i < L; i++) v[i] = x[i];
-    v[0] -= alpha;
-    let beta = 0;
-    for (let i = 0; i < L; i++) beta += v[i] * v[i];
-    if (beta === 0) return alpha;
-    const f = 2 / beta;
-    // A ← H A (rows off..)
-    for (let j = 0; j < n; j++) {
-      let t = 0;
-      for (let i = 0; i < L; i++) t += v[i] * A[(off + i) * n + j];
-      if (t === 0) continue;
-      t *= f;
-      for (let i = 0; i < L; i++) A[(off + i) * n + j] -= t * v[i];
-    }
-    // A ← A H (cols off..)
-    for (let i = 0; i < n; i++) {
-      let t = 0;
-      const ro = i * n + off;
-      for (let j = 0; j < L; j++) t += A[ro + j] * v[j];
-      if (t === 0) continue;
-      t *= f;
-      for (let j = 0; j < L; j++) A[ro + j] -= t * v[j];
-    }
-    let t = 0;
-    for (let j = 0; j < L; j++) t += c[off + j] * v[j];
-    t *= f;
-    for (let j = 0; j < L; j++) c[off + j] -= t * v[j];
+    const { alpha, f } = householder(x, L, v);
+    if (f === 0) return alpha;
+    reflectRows(A, n, v, L, off, f); // A ← H A
+    reflectCols(A, n, n, v, L, off, f); // A ← A H
+    reflectCols(c, 1, n, v, L, off, f); // c ← c H
     return alpha;
   };
   const x = new Float64Array(n);
@@ -1159,49 +1172,18 @@ function hessenbergSystem(sys: LinearSystem) {
   const H = Float64Array.from(sys.A);
   const Bh = Float64Array.from(sys.B);
   const Ch = Float64Array.from(sys.C);
+  const x = new Float64Array(n);
   const v = new Float64Array(n);
   for (let k = 0; k + 2 < n; k++) {
     const L = n - k - 1;
-    let s = 0;
-    for (let i = 0; i < L; i++) {
-      v[i] = H[(k + 1 + i) * n + k];
-      s += v[i] * v[i];
-    }
-    const nx = Math.sqrt(s);
-    if (nx === 0) continue;
-    const alpha = v[0] > 0 ? -nx : nx;
-    v[0] -= alpha;
-    let beta = 0;
-    for (let i = 0; i < L; i++) beta += v[i] * v[i];
-    if (beta === 0) continue;
-    const f = 2 / beta;
+    for (let i = 0; i < L; i++) x[i] = H[(k + 1 + i) * n + k];
+    const { f } = householder(x, L, v);
+    if (f === 0) continue;
     const off = k + 1;
-    for (let j = 0; j < n; j++) {
-      let t = 0;
-      for (let i = 0; i < L; i++) t += v[i] * H[(off + i) * n + j];
-      if (t === 0) continue;
-      t *= f;
-      for (let i = 0; i < L; i++) H[(off + i) * n + j] -= t * v[i];
-    }
-    for (let i = 0; i < n; i++) {
-      let t = 0;
-      for (let j = 0; j < L; j++) t += H[i * n + off + j] * v[j];
-      if (t === 0) continue;
-      t *= f;
-      for (let j = 0; j < L; j++) H[i * n + off + j] -= t * v[j];
-    }
-    for (let j = 0; j < m; j++) {
-      let t = 0;
-      for (let i = 0; i < L; i++) t += v[i] * Bh[(off + i) * m + j];
-      t *= f;
-      for (let i = 0; i < L; i++) Bh[(off + i) * m + j] -= t * v[i];
-    }
-    for (let i = 0; i < p; i++) {
-      let t = 0;
-      for (let j = 0; j < L; j++) t += Ch[i * n + off + j] * v[j];
-      t *= f;
-      for (let j = 0; j < L; j++) Ch[i * n + off + j] -= t * v[j];
-    }
+    reflectRows(H, n, v, L, off, f); // H ← Qₖ H Qₖ
+    reflectCols(H, n, n, v, L, off, f);
+    reflectRows(Bh, m, v, L, off, f); // B̂ ← Qₖ B̂
+    reflectCols(Ch, p, n, v, L, off, f); // Ĉ ← Ĉ Qₖ
     for (let i = 2; i <= L; i++) H[(k + i) * n + k] = 0;
   }
   const Mr = new Float64Array(n * n);

@@ -397,6 +397,11 @@ export interface PrintOptions {
   name(id: number): string;
   /** Significant digits for numbers; undefined = shortest round-trip. */
   digits?: number;
+  /**
+   * Text for people (symbolic.ts's formulas): a positive term first in a sum (1 - v0^2 rather than
+   * -v0^2 + 1) and a coefficient 1/k with a whole k ≥ 2 as a division (kv/(2*area) rather than 0.5*kv/area).
+   */
+  readable?: boolean;
 }
 
 export function formatNumber(v: number, digits?: number): string {
@@ -409,10 +414,24 @@ export function formatNumber(v: number, digits?: number): string {
   return s.toExponential().replace(/\.?0+e/, 'e').replace('e+', 'e');
 }
 
-const PREC = { add: 1, mul: 2, neg: 3, pow: 4, atom: 5 };
+/** Binding strength of printed text (see printPrec): a sum binds weakest, an atom (number, name, call) strongest. */
+export const PREC = { add: 1, mul: 2, neg: 3, pow: 4, atom: 5 };
 
 export function print(n: Node, o: PrintOptions): string {
   return pr(n, o)[0];
+}
+
+/** Printed text and its binding strength (PREC), for callers that put the text inside a larger expression. */
+export function printPrec(n: Node, o: PrintOptions): [string, number] {
+  return pr(n, o);
+}
+
+/** Whether 1/c is (close to) a whole number ≥ 2: such coefficients print as a division (readable text). */
+function wholeReciprocal(c: number): number | undefined {
+  if (c === 0 || Math.abs(c) >= 1) return undefined;
+  const r = 1 / Math.abs(c);
+  const k = Math.round(r);
+  return k >= 2 && Math.abs(r - k) <= 1e-12 * r ? k : undefined;
 }
 
 function pr(n: Node, o: PrintOptions): [string, number] {
@@ -433,8 +452,13 @@ function pr(n: Node, o: PrintOptions): [string, number] {
     case 'mul': return prMul(n.args, o);
     case 'add': {
       let s = '';
-      n.args.forEach((a, i) => {
-        let [t, p] = pr(a, o);
+      const printed = n.args.map((a) => pr(a, o));
+      if (o.readable) {
+        const firstPos = printed.findIndex(([t]) => !t.startsWith('-'));
+        if (firstPos > 0) printed.unshift(...printed.splice(firstPos, 1));
+      }
+      printed.forEach(([t0, p], i) => {
+        let t = t0;
         if (i > 0) {
           if (t.startsWith('-')) {
             s += ' - ' + t.slice(1);
@@ -472,6 +496,11 @@ function prMul(args: Node[], o: PrintOptions): [string, number] {
   if (coef < 0) {
     sign = '-';
     coef = -coef;
+  }
+  const k = o.readable ? wholeReciprocal(coef) : undefined;
+  if (k !== undefined && (denom.length || numer.length)) {
+    denom.unshift(String(k));
+    coef = 1;
   }
   if (coef !== 1 || numer.length === 0) numer.unshift(formatNumber(coef, o.digits));
   let s = numer.join('*');

@@ -7,7 +7,7 @@ import type * as A from './ast';
 import { BUILTIN_CONSTANTS, type BoundModel, type ModelSymbol } from './binder';
 import * as E from './expr';
 import type { Span } from './text';
-import { literalSI, type UnitFacts } from './unitChecker';
+import { constantValue, literalSI, type UnitFacts } from './unitChecker';
 import { ONE_UNIT, type UnitInfo } from './units';
 
 export type SlotKind = 'const' | 'state' | 'deriv' | 'input' | 'var' | 'output';
@@ -160,31 +160,5 @@ function oneLine(s: string): string {
 
 /** Lowers a constant expression (point values, sweep bounds) to SI with constants resolved from `values`. */
 export function constExprValue(e: A.Expr, m: BoundModel, lm: LoweredModel, values: ArrayLike<number>): number {
-  switch (e.kind) {
-    case 'number': return literalSI(e).value;
-    case 'name': {
-      if (e.name in BUILTIN_CONSTANTS && !m.symbols.has(e.name)) return BUILTIN_CONSTANTS[e.name];
-      const s = m.symbols.get(e.name);
-      if (!s || s.kind !== 'const') return NaN;
-      return values[lm.slotOf(s)];
-    }
-    case 'unary': return e.op === '-' ? -constExprValue(e.arg, m, lm, values) : constExprValue(e.arg, m, lm, values);
-    case 'binary': {
-      const a = constExprValue(e.left, m, lm, values);
-      const b = constExprValue(e.right, m, lm, values);
-      switch (e.op) {
-        case '+': return a + b;
-        case '-': return a - b;
-        case '*': return a * b;
-        case '/': return a / b;
-        case '^': return Math.pow(a, b);
-      }
-      return NaN;
-    }
-    case 'call': {
-      const f = (Math as unknown as Record<string, (...x: number[]) => number>)[e.fn];
-      return typeof f === 'function' ? f(...e.args.map((a) => constExprValue(a, m, lm, values))) : NaN;
-    }
-    default: return NaN;
-  }
+  return constantValue(e, m, (s) => values[lm.slotOf(s)]);
 }

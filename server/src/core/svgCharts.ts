@@ -1,8 +1,7 @@
 /**
- * Hand-written SVG charts and the standalone HTML page shell shared by the HTML pages (the point report
- * and the sweep page). Factored out of reportHtml.ts unchanged (same classes, CSS and cursor script), so
- * both pages look alike; reportHtml.ts can import these instead of keeping its own copies.
- * Pure: returns strings.
+ * Hand-written SVG charts and the standalone HTML page shell shared by the HTML pages (the point report,
+ * reportHtml.ts, and the sweep page, sweepReport.ts): the one home of the chart code, the style sheet and
+ * the cursor script, so both pages look alike. Pure: returns strings.
  */
 import { formatNumber } from './expr';
 
@@ -18,7 +17,6 @@ export function num(v: number | null | undefined, d = 4): string {
   return s.replace('-', '−');
 }
 
-
 // ------------------------------------------------------------------------------------- SVG charts
 
 export type ScaleKind = 'lin' | 'log' | 'symlog';
@@ -30,6 +28,8 @@ export interface AxisSpec {
   label: string;
   /** Linear threshold of a symlog axis. */
   c?: number;
+  /** Tick spacing of a linear axis (default: a nice step for about five ticks). */
+  step?: number;
 }
 
 export interface Series {
@@ -88,7 +88,7 @@ export function niceStep(range: number, target: number): number {
 }
 
 /** Linear axis range that includes the data, rounded to nice steps. */
-export function linRange(vals: number[], label: string, opts: { includeZero?: boolean; pad?: number } = {}): AxisSpec {
+export function linRange(vals: number[], label: string, opts: { includeZero?: boolean; pad?: number; exact?: boolean } = {}): AxisSpec {
   let lo = Infinity;
   let hi = -Infinity;
   for (const v of vals) {
@@ -109,6 +109,7 @@ export function linRange(vals: number[], label: string, opts: { includeZero?: bo
     lo -= d;
     hi += d;
   }
+  if (opts.exact) return { kind: 'lin', min: lo, max: hi, label };
   const pad = (hi - lo) * (opts.pad ?? 0.04);
   lo -= pad;
   hi += pad;
@@ -120,7 +121,7 @@ export function ticksOf(ax: AxisSpec): { major: number[]; minor: number[] } {
   const major: number[] = [];
   const minor: number[] = [];
   if (ax.kind === 'lin') {
-    const st = niceStep(ax.max - ax.min, 5);
+    const st = ax.step ?? niceStep(ax.max - ax.min, 5);
     for (let v = Math.ceil(ax.min / st - 1e-9) * st; v <= ax.max + st * 1e-9; v += st) major.push(Math.abs(v) < st * 1e-9 ? 0 : v);
     return { major, minor };
   }
@@ -143,7 +144,7 @@ export function ticksOf(ax: AxisSpec): { major: number[]; minor: number[] } {
   const mx = Math.max(Math.abs(ax.min), Math.abs(ax.max));
   const k0 = Math.ceil(Math.log10(c) - 1e-9);
   const k1 = Math.floor(Math.log10(mx) + 1e-9);
-  const every = Math.max(1, Math.ceil((k1 - k0 + 1) / 4));
+  const every = Math.max(1, Math.ceil((k1 - k0 + 1) / 7));
   for (let k = k1; k >= k0; k -= every) {
     const v = Math.pow(10, k);
     if (v <= ax.max) major.push(v);
@@ -163,7 +164,29 @@ export function tickLabel(v: number): string {
   return `${sign}${mant === 1 ? '' : `${mant}×`}${ex}`;
 }
 
-const r1 = (v: number) => (Math.round(v * 10) / 10).toString();
+export const r1 = (v: number) => (Math.round(v * 10) / 10).toString();
+
+/** Tick values whose labels do not overlap along x: 0 first, then the largest magnitudes. */
+function thinLabels(ticks: number[], px: (v: number) => number): number[] {
+  const width = (v: number) => tickLabel(v).replace(/<[^>]+>/g, '').length * 6.1 + 8;
+  const order = ticks.slice().sort((a, b) => (a === 0 ? -1 : b === 0 ? 1 : Math.abs(b) - Math.abs(a)));
+  const kept: number[] = [];
+  for (const v of order) {
+    const x = px(v);
+    const w = width(v);
+    if (kept.every((k) => Math.abs(px(k) - x) >= (w + width(k)) / 2)) kept.push(v);
+  }
+  return kept;
+}
+
+/** Tick values whose labels do not overlap along y (at least 12 px apart): 0 first, then the largest magnitudes. */
+function thinVertical(ticks: number[], py: (v: number) => number): number[] {
+  const order = ticks.slice().sort((a, b) => (a === 0 ? -1 : b === 0 ? 1 : Math.abs(b) - Math.abs(a)));
+  const kept: number[] = [];
+  for (const v of order) if (kept.every((k) => Math.abs(py(k) - py(v)) >= 12)) kept.push(v);
+  return kept;
+}
+
 
 function pathOf(xs: number[], ys: (number | null)[], sx: Scale, sy: Scale): string {
   let d = '';
@@ -193,7 +216,10 @@ export function resetCharts(): void {
 export function chart(spec: ChartSpec): string {
   const W = spec.width ?? 480;
   const H = spec.height ?? 260;
-  const L = 66;
+  const tx0 = ticksOf(spec.x);
+  const ty0 = ticksOf(spec.y);
+  const labelWidth = Math.max(0, ...ty0.major.map((v) => tickLabel(v).replace(/<[^>]+>/g, '').length * 6.1));
+  const L = Math.round(Math.max(48, 30 + labelWidth));
   const R = 14;
   const T = spec.title ? 26 : 12;
   const B = 44;
@@ -203,8 +229,8 @@ export function chart(spec: ChartSpec): string {
   const parts: string[] = [];
   const c = (v: number) => r1(v);
   // grid
-  const tx = ticksOf(spec.x);
-  const ty = ticksOf(spec.y);
+  const tx = tx0;
+  const ty = ty0;
   for (const v of tx.minor) parts.push(`<path class="grid minor" d="M${c(sx.px(v))} ${T}V${H - B}"/>`);
   for (const v of ty.minor) parts.push(`<path class="grid minor" d="M${L} ${c(sy.py(v))}H${W - R}"/>`);
   for (const v of tx.major) parts.push(`<path class="grid" d="M${c(sx.px(v))} ${T}V${H - B}"/>`);
@@ -275,8 +301,8 @@ export function chart(spec: ChartSpec): string {
   }
   // axes and labels
   parts.push(`<path class="axis" d="M${L} ${T}V${H - B}H${W - R}"/>`);
-  for (const v of tx.major) parts.push(`<text class="tick" x="${c(sx.px(v))}" y="${H - B + 15}" text-anchor="middle">${tickLabel(v)}</text>`);
-  for (const v of ty.major) parts.push(`<text class="tick" x="${L - 6}" y="${c(sy.py(v) + 4)}" text-anchor="end">${tickLabel(v)}</text>`);
+  for (const v of thinLabels(tx.major, (v) => sx.px(v))) parts.push(`<text class="tick" x="${c(sx.px(v))}" y="${H - B + 15}" text-anchor="middle">${tickLabel(v)}</text>`);
+  for (const v of thinVertical(ty.major, (v) => sy.py(v))) parts.push(`<text class="tick" x="${L - 6}" y="${c(sy.py(v) + 4)}" text-anchor="end">${tickLabel(v)}</text>`);
   parts.push(`<text class="axis-label" x="${c((L + W - R) / 2)}" y="${H - 8}" text-anchor="middle">${esc(spec.x.label)}</text>`);
   parts.push(`<text class="axis-label" transform="translate(14 ${c((T + H - B) / 2)}) rotate(-90)" text-anchor="middle">${esc(spec.y.label)}</text>`);
   if (spec.title) parts.push(`<text class="chart-title" x="${L}" y="16">${esc(spec.title)}</text>`);
@@ -301,20 +327,22 @@ export function legend(items: { cls: string; kind: Series['kind']; label: string
   return `<ul class="legend">${items.map((it) => `<li>${sw(it)}${esc(it.label)}</li>`).join('')}</ul>`;
 }
 
+// ------------------------------------------------------------------------------------- page
+
+const LIGHT = `--bg:#f6f5f1;--card:#ffffff;--fg:#1c2130;--muted:#5d6474;--line:#d8d4ca;--grid:#e9e6de;--grid2:#f1efe9;--axis:#7a808c;
+--s0:#1c2130;--s1:#13708a;--s2:#cf6d21;--s3:#7a55a8;--s4:#2e8a57;--s5:#bf3f66;--s6:#4d74b8;--bandc:rgba(19,112,138,.15);--valid:rgba(46,138,87,.15);--rhp:rgba(191,63,102,.08);
+--ok:#2e8a57;--warn:#a86a0c;--bad:#b83228;--cbg:#fdf4df;--cline:#d9a53d;--head:#0f3f4d`;
+const DARK = `--bg:#16191f;--card:#1e222a;--fg:#e3e6ec;--muted:#9aa2b1;--line:#353b47;--grid:#2c313b;--grid2:#242832;--axis:#8a92a0;
+--s0:#e3e6ec;--s1:#4fc0d8;--s2:#f2994a;--s3:#b794e8;--s4:#5fcf8e;--s5:#f07199;--s6:#86a8f0;--bandc:rgba(79,192,216,.18);--valid:rgba(95,207,142,.16);--rhp:rgba(240,113,153,.10);
+--ok:#5fcf8e;--warn:#f0b45a;--bad:#ff7b6e;--cbg:#2e2818;--cline:#a9822f;--head:#9fd9e6`;
+
 export const CSS = `
-:root{color-scheme:light dark;--bg:#f6f5f1;--card:#ffffff;--fg:#1c2130;--muted:#5d6474;--line:#d8d4ca;--grid:#e9e6de;--grid2:#f1efe9;--axis:#7a808c;
---s0:#1c2130;--s1:#13708a;--s2:#cf6d21;--s3:#7a55a8;--s4:#2e8a57;--s5:#bf3f66;--s6:#4d74b8;--bandc:rgba(19,112,138,.15);--valid:rgba(46,138,87,.15);--rhp:rgba(191,63,102,.08);
---ok:#2e8a57;--warn:#a86a0c;--bad:#b83228;--cbg:#fdf4df;--cline:#d9a53d;--head:#0f3f4d;
+:root{color-scheme:light dark;${LIGHT};
 --font:system-ui,-apple-system,"Segoe UI",Roboto,"Helvetica Neue",Arial,sans-serif;--mono:ui-monospace,"SF Mono",Menlo,Consolas,monospace}
-@media (prefers-color-scheme:dark){:root{--bg:#16191f;--card:#1e222a;--fg:#e3e6ec;--muted:#9aa2b1;--line:#353b47;--grid:#2c313b;--grid2:#242832;--axis:#8a92a0;
---s0:#e3e6ec;--s1:#4fc0d8;--s2:#f2994a;--s3:#b794e8;--s4:#5fcf8e;--s5:#f07199;--s6:#86a8f0;--bandc:rgba(79,192,216,.18);--valid:rgba(95,207,142,.16);--rhp:rgba(240,113,153,.10);
---ok:#5fcf8e;--warn:#f0b45a;--bad:#ff7b6e;--cbg:#2e2818;--cline:#a9822f;--head:#9fd9e6}}
-body.vscode-light{--bg:#f6f5f1;--card:#ffffff;--fg:#1c2130;--muted:#5d6474;--line:#d8d4ca;--grid:#e9e6de;--grid2:#f1efe9;--axis:#7a808c;
---s0:#1c2130;--s1:#13708a;--s2:#cf6d21;--s3:#7a55a8;--s4:#2e8a57;--s5:#bf3f66;--s6:#4d74b8;--bandc:rgba(19,112,138,.15);--valid:rgba(46,138,87,.15);--rhp:rgba(191,63,102,.08);
---ok:#2e8a57;--warn:#a86a0c;--bad:#b83228;--cbg:#fdf4df;--cline:#d9a53d;--head:#0f3f4d}
-body.vscode-dark,body.vscode-high-contrast{--bg:#16191f;--card:#1e222a;--fg:#e3e6ec;--muted:#9aa2b1;--line:#353b47;--grid:#2c313b;--grid2:#242832;--axis:#8a92a0;
---s0:#e3e6ec;--s1:#4fc0d8;--s2:#f2994a;--s3:#b794e8;--s4:#5fcf8e;--s5:#f07199;--s6:#86a8f0;--bandc:rgba(79,192,216,.18);--valid:rgba(95,207,142,.16);--rhp:rgba(240,113,153,.10);
---ok:#5fcf8e;--warn:#f0b45a;--bad:#ff7b6e;--cbg:#2e2818;--cline:#a9822f;--head:#9fd9e6}
+@media (prefers-color-scheme:dark){:root{${DARK}}}
+body.vscode-light{${LIGHT}}
+body.vscode-dark,body.vscode-high-contrast{${DARK}}
+body.vscode-high-contrast-light{${LIGHT}}
 *{box-sizing:border-box}
 body{margin:0;background:var(--vscode-editor-background,var(--bg));color:var(--vscode-editor-foreground,var(--fg));font-family:var(--vscode-font-family,var(--font));font-size:14px;line-height:1.45}
 main{max-width:1180px;margin:0 auto;padding:20px 24px 48px}
@@ -367,7 +395,7 @@ svg.plot path.ref{fill:none;stroke-width:1}
 path.ref.axis0{stroke:var(--axis);stroke-dasharray:2 3}
 path.ref.tol{stroke:var(--bad);stroke-dasharray:6 3;stroke-width:1.3}
 path.ref.fail{stroke:var(--bad);stroke-dasharray:3 3}
-svg.plot text.reflabel{fill:var(--bad);font-size:10px}
+svg.plot text.reflabel{fill:var(--bad);font-size:10px;paint-order:stroke;stroke:var(--card);stroke-width:3px;stroke-linejoin:round}
 path.span{stroke:none}path.span.rhp,.series.band.rhp{fill:var(--rhp)}path.span.validspan,.series.band.validspan{fill:var(--valid)}
 .series{fill:none;stroke-width:1.8;stroke-linejoin:round;stroke-linecap:round}
 .series.dash{stroke-dasharray:6 4;stroke-width:1.9}
@@ -383,7 +411,7 @@ svg.sw{width:20px;height:10px;overflow:visible}
 .tfexpr{font-size:15px;display:flex;align-items:center;gap:6px;flex-wrap:wrap}
 .frac{display:inline-flex;flex-direction:column;text-align:center;vertical-align:middle}
 .frac .nu{border-bottom:1px solid currentColor;padding:0 4px 1px}.frac .de{padding:1px 4px 0}
-.poly{font-size:12.5px;color:var(--muted);margin-top:4px}
+.poly{font-size:12.5px;color:var(--muted);margin-top:4px}details.poly summary{font-size:12px}
 .roots{font-size:12.5px;display:flex;flex-wrap:wrap;gap:2px 18px;margin-top:3px}
 details summary{cursor:pointer;color:var(--muted);font-size:13px}
 .stepblock{margin-bottom:8px}
@@ -403,7 +431,6 @@ s.addEventListener('mousemove',function(e){var r=s.getBoundingClientRect(),vb=s.
 var l=+d.l,rr=+d.r,t=+d.t,b=+d.b;if(x<l||x>rr||y<t||y>b){ro.textContent='';return}
 var xv=inv(d.xk,+d.x0,+d.x1,+d.xc,(x-l)/(rr-l)),yv=inv(d.yk,+d.y0,+d.y1,+d.yc,(b-y)/(b-t));ro.textContent=fmt(xv)+', '+fmt(yv)});
 s.addEventListener('mouseleave',function(){ro.textContent=''})})(plots[i])})();`;
-
 
 export interface PageOptions {
   /** Text of the <title>. */

@@ -164,98 +164,14 @@ export interface FormulaPrintOptions {
   digits?: number;
 }
 
-const P_ADD = 1;
-const P_MUL = 2;
-const P_NEG = 3;
-const P_POW = 4;
-const P_ATOM = 5;
-
-function fmtNum(v: number, digits?: number): string {
-  return E.formatNumber(v, digits);
-}
-
-/** Whether 1/c is (close to) a whole number ≥ 2: such coefficients print as a division. */
-function wholeReciprocal(c: number): number | undefined {
-  if (c === 0 || Math.abs(c) >= 1) return undefined;
-  const r = 1 / Math.abs(c);
-  const k = Math.round(r);
-  return k >= 2 && Math.abs(r - k) <= 1e-12 * r ? k : undefined;
-}
-
 /** Readable infix text of a formula (kv/(2*area*sqrt(level0)) rather than 0.5*kv*area^-1*level0^-0.5). */
 export function printFormula(n: E.Node, o: FormulaPrintOptions): string {
   return pf(n, o)[0];
 }
 
+/** expr.ts's printer in its readable form: text and binding strength (E.PREC). */
 function pf(n: E.Node, o: FormulaPrintOptions): [string, number] {
-  switch (n.t) {
-    case 'num': return [fmtNum(n.v, o.digits), n.v < 0 ? P_NEG : P_ATOM];
-    case 'sym': return [o.name(n.id), P_ATOM];
-    case 'fn': return [`${n.fn}(${n.args.map((a) => pf(a, o)[0]).join(', ')})`, P_ATOM];
-    case 'pow': {
-      if (n.exp.t === 'num' && n.exp.v < 0) return pfMul([n], o);
-      if (n.exp.t === 'num' && n.exp.v === 0.5) return [`sqrt(${pf(n.base, o)[0]})`, P_ATOM];
-      const [b, bp] = pf(n.base, o);
-      const [e, ep] = pf(n.exp, o);
-      return [`${bp <= P_POW ? `(${b})` : b}^${ep < P_ATOM ? `(${e})` : e}`, P_POW];
-    }
-    case 'mul': return pfMul(n.args, o);
-    case 'add': {
-      let s = '';
-      // a positive term first reads better: 1 - v0^2 rather than -v0^2 + 1
-      const printed = n.args.map((a) => pf(a, o));
-      const firstPos = printed.findIndex(([t]) => !t.startsWith('-'));
-      if (firstPos > 0) printed.unshift(...printed.splice(firstPos, 1));
-      printed.forEach(([t0, p], i) => {
-        let t = t0;
-        if (i > 0) {
-          if (t.startsWith('-')) {
-            s += ' - ' + t.slice(1);
-            return;
-          }
-          s += ' + ';
-        }
-        if (p < P_ADD) t = `(${t})`;
-        s += t;
-      });
-      return [s, P_ADD];
-    }
-  }
-}
-
-function pfMul(args: E.Node[], o: FormulaPrintOptions): [string, number] {
-  const numer: string[] = [];
-  const denom: string[] = [];
-  let coef = 1;
-  for (const a of args) {
-    if (a.t === 'num') {
-      coef *= a.v;
-      continue;
-    }
-    if (a.t === 'pow' && a.exp.t === 'num' && a.exp.v < 0) {
-      const inv = E.pow(a.base, E.num(-a.exp.v));
-      const [t, p] = pf(inv, o);
-      denom.push(p <= P_MUL ? `(${t})` : t);
-      continue;
-    }
-    const [t, p] = pf(a, o);
-    numer.push(p <= P_MUL ? `(${t})` : t);
-  }
-  let sign = '';
-  if (coef < 0) {
-    sign = '-';
-    coef = -coef;
-  }
-  const k = wholeReciprocal(coef);
-  if (k !== undefined && (denom.length || numer.length)) {
-    denom.unshift(String(k));
-    coef = 1;
-  }
-  if (coef !== 1 || numer.length === 0) numer.unshift(fmtNum(coef, o.digits));
-  let s = numer.join('*');
-  if (denom.length === 1) s += '/' + denom[0];
-  else if (denom.length > 1) s += '/(' + denom.join('*') + ')';
-  return [sign + s, sign ? P_NEG : P_MUL];
+  return E.printPrec(n, { name: o.name, digits: o.digits, readable: true });
 }
 
 // ---------------------------------------------------------------- names
@@ -624,7 +540,7 @@ function termText(f: E.Node | undefined, value: number, varName: string, first: 
     if (E.isNum(g, 1)) body = varName;
     else {
       const [t, p] = pf(g, o);
-      body = p >= P_ATOM || isNumber ? `${t}*${varName}` : `(${t})*${varName}`;
+      body = p >= E.PREC.atom || isNumber ? `${t}*${varName}` : `(${t})*${varName}`;
     }
   }
   if (first) return (neg ? '-' : '') + body;

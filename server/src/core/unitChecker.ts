@@ -30,6 +30,45 @@ export interface UnitFacts {
 const TIME_DIMS: Dims = [0, 0, 1, 0, 0, 0, 0, 0];
 const DIMLESS_FNS = new Set(['exp', 'log', 'log10', 'sin', 'cos', 'tan', 'asin', 'acos', 'atan', 'sinh', 'cosh', 'tanh']);
 
+/**
+ * Numeric value of a constant expression in SI (NaN if it is not constant): number literals, built-in
+ * constants, declared constants (their SI value from `constant`), + − * / ^ and built-in functions.
+ * The one evaluator of constant expressions: constants here, point values and sweep bounds in model.ts.
+ */
+export function constantValue(e: A.Expr, m: BoundModel, constant: (s: ModelSymbol) => number): number {
+  const value = (x: A.Expr): number => {
+    switch (x.kind) {
+      case 'number': return literalSI(x).value;
+      case 'name': {
+        if (x.primes) return NaN;
+        if (x.name in BUILTIN_CONSTANTS && !m.symbols.has(x.name)) return BUILTIN_CONSTANTS[x.name];
+        const s = m.symbols.get(x.name);
+        return s && s.kind === 'const' ? constant(s) : NaN;
+      }
+      case 'unary': return x.op === '-' ? -value(x.arg) : value(x.arg);
+      case 'binary': {
+        const a = value(x.left);
+        const b = value(x.right);
+        switch (x.op) {
+          case '+': return a + b;
+          case '-': return a - b;
+          case '*': return a * b;
+          case '/': return a / b;
+          case '^': return Math.pow(a, b);
+        }
+        return NaN;
+      }
+      case 'call': {
+        const args = x.args.map(value);
+        const f = (Math as unknown as Record<string, (...v: number[]) => number>)[x.fn];
+        return typeof f === 'function' ? f(...args) : NaN;
+      }
+      default: return NaN;
+    }
+  };
+  return value(e);
+}
+
 /** Converts a literal `number [unit]` to SI, reporting an unknown unit. */
 export function literalSI(e: A.NumberExpr, diagnostics?: Diagnostic[]): { value: number; unit: UnitInfo | undefined } {
   if (!e.unit) return { value: e.value, unit: undefined };
@@ -87,36 +126,7 @@ export function checkUnits(m: BoundModel): UnitFacts {
   };
 
   /** Numeric value of a constant expression in SI (NaN if not constant). */
-  const constValue = (e: A.Expr): number => {
-    switch (e.kind) {
-      case 'number': return literalSI(e).value;
-      case 'name': {
-        if (e.primes) return NaN;
-        if (e.name in BUILTIN_CONSTANTS && !m.symbols.has(e.name)) return BUILTIN_CONSTANTS[e.name];
-        const s = m.symbols.get(e.name);
-        return s && s.kind === 'const' ? constValues.get(s) ?? NaN : NaN;
-      }
-      case 'unary': return e.op === '-' ? -constValue(e.arg) : constValue(e.arg);
-      case 'binary': {
-        const a = constValue(e.left);
-        const b = constValue(e.right);
-        switch (e.op) {
-          case '+': return a + b;
-          case '-': return a - b;
-          case '*': return a * b;
-          case '/': return a / b;
-          case '^': return Math.pow(a, b);
-        }
-        return NaN;
-      }
-      case 'call': {
-        const args = e.args.map(constValue);
-        const f = (Math as unknown as Record<string, (...x: number[]) => number>)[e.fn];
-        return typeof f === 'function' ? f(...args) : NaN;
-      }
-      default: return NaN;
-    }
-  };
+  const constValue = (e: A.Expr): number => constantValue(e, m, (s) => constValues.get(s) ?? NaN);
 
   const report = (d: Diagnostic) => {
     if (checked) diagnostics.push(d);

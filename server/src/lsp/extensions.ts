@@ -4,5 +4,7 @@
  * point (the bundled dist/server.js and `poise lsp --stdio`) gets them.
  */
 import './reportRequest';
+import './sweepRequest';
+import './exportRequest';
 
 export {};

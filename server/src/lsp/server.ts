@@ -22,8 +22,8 @@
  *
  * Initialization options (all optional): `debounceMs` (number) — delay between the last edit and the
  * diagnostics run (default 30 ms); `timing` (boolean) — log the time of each diagnostics run;
- * `clientCommands: false` — leave out the Report and Sweep lenses, whose commands only the VS Code
- * extension implements.
+ * `clientCommands: false` — leave out the Report, Sweep… and Run sweep lenses, whose commands only the
+ * VS Code extension implements.
  */
 import {
   CodeActionKind, DidChangeConfigurationNotification, MessageType, ProposedFeatures, ShowMessageNotification, ResponseError, SemanticTokensBuilder, TextDocumentSyncKind, TextDocuments,
@@ -37,7 +37,7 @@ import { completions } from '../core/services/completion';
 import type { TextEdit } from '../core/services/edits';
 import { foldingRanges } from '../core/services/folding';
 import { hover } from '../core/services/hover';
-import { pointLenses } from '../core/services/lenses';
+import { pointLenses, sweepLenses } from '../core/services/lenses';
 import { linearizeEdit, staticDiagnostics } from '../core/services/linearBlock';
 import { pointAt } from '../core/services/locate';
 import { definition, prepareRename, references, rename } from '../core/services/navigation';
@@ -416,6 +416,21 @@ export function startServer(): void {
         if (!clientCommands) continue;
         out.push({ range, command: { title: l.report.title, command: REPORT_COMMAND, arguments: args } });
         out.push({ range, command: { title: l.sweep.title, command: SWEEP_COMMAND, arguments: args } });
+      }
+      if (!clientCommands) return out;
+      // above each declared sweep block: run it as declared (the client skips its dialog given a spec)
+      let sweeps: ReturnType<typeof sweepLenses> = [];
+      try {
+        sweeps = sweepLenses(d.a);
+      } catch (e) {
+        logError('codeLens (sweeps)', e);
+      }
+      for (const l of sweeps) {
+        const start = d.a.lines.position(l.span.start);
+        const range = { start, end: start };
+        out.push(l.spec
+          ? { range, command: { title: l.title, command: SWEEP_COMMAND, arguments: [uri, l.point, l.spec] } }
+          : { range, command: { title: l.title, tooltip: l.problem, command: '' } });
       }
       return out;
     }),

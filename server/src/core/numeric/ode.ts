@@ -236,6 +236,69 @@ function makeStats(): OdeStats {
   return { steps: 0, rejected: 0, fEvals: 0, jEvals: 0, luDecomps: 0 };
 }
 
+/** One run of either integrator: the checked set-up, the statistics, the recorder and the counted right-hand side. */
+interface Run {
+  s: Setup;
+  stats: OdeStats;
+  rec: Recorder;
+  /** f(tt, xx) into out; false when xx or the result is not finite or the model refuses the state. */
+  F(tt: number, xx: Float64Array, out: Float64Array): boolean;
+  /** The solution recorded so far, with this status. */
+  finish(status: Status, message?: string): OdeSolution;
+}
+
+function startRun(p: OdeProblem, o: OdeOptions): Run {
+  const s = setup(p, o);
+  const n = s.n;
+  const stats = makeStats();
+  const rec = new Recorder(n, s.outputTimes, s.t0, o.x0);
+  const F = (tt: number, xx: Float64Array, out: Float64Array): boolean => {
+    stats.fEvals++;
+    if (!allFinite(xx, n)) return false;
+    return p.f(tt, xx, out) === true && allFinite(out, n);
+  };
+  const finish = (status: Status, message?: string): OdeSolution => {
+    const r = rec.result();
+    return { status, message, t: r.t, x: r.x, stats };
+  };
+  return { s, stats, rec, F, finish };
+}
+
+/**
+ * Before the first step: f(t0, x0) into f0. Returns the finished solution when x0 is outside the domain
+ * or the span is empty, else undefined.
+ */
+function firstCall(run: Run, y: Float64Array, f0: Float64Array): OdeSolution | undefined {
+  const t = run.s.t0;
+  if (!run.F(t, y, f0)) {
+    return run.finish('domain', `the initial state is outside the model's domain (t = ${fmt(t)})`);
+  }
+  if (run.s.span === 0) return run.finish('ok');
+  return undefined;
+}
+
+/**
+ * Before each step attempt: stops on the step budget, and on a step too small to make progress (reported
+ * as leaving the domain when the last rejection was a domain failure). `hint` ends the other messages.
+ */
+function stepLimit(run: Run, t: number, h: number, lastWasDomain: boolean, hint: string): OdeSolution | undefined {
+  const { s, stats } = run;
+  if (stats.steps + stats.rejected >= s.maxSteps) {
+    return run.finish('maxSteps', `stopped after ${s.maxSteps} step attempts at t = ${fmt(t)} (t1 = ${fmt(s.t1)})${hint}`);
+  }
+  if (tooSmall(h, t, s.span)) {
+    if (lastWasDomain) return run.finish('domain', `the state left the model's domain at t = ${fmt(t)}`);
+    return run.finish('stepTooSmall', `the step size fell to ${h.toExponential(2)} at t = ${fmt(t)}${hint}`);
+  }
+  return undefined;
+}
+
+/** The step after an accepted step h: hnew, but no longer than the span, nor than h right after a rejection. */
+function nextStep(hnew: number, h: number, span: number, afterReject: boolean): number {
+  const hs = Math.min(hnew, span);
+  return afterReject ? Math.min(hs, h) : hs;
+}
+
 // ---------------------------------------------------------------------------
 // Rodas4 (Hairer & Wanner II, Sect. IV.7; coefficient set 1 of their code)
 // ---------------------------------------------------------------------------
@@ -297,10 +360,9 @@ const R_SAFE = 0.9;
  * formed by one forward difference in t.
  */
 export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
-  const s = setup(p, o);
+  const run = startRun(p, o);
+  const { s, stats, rec, F, finish } = run;
   const { n, t1, span, rtol, atol } = s;
-  const stats = makeStats();
-  const rec = new Recorder(n, s.outputTimes, s.t0, o.x0);
 
   const y = Float64Array.from(o.x0);
   const dy1 = new Float64Array(n); // f(t, y) at the start of the step
@@ -319,23 +381,11 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   const dynew = new Float64Array(n);
   const tmp = new Float64Array(n);
 
-  const F = (tt: number, xx: Float64Array, out: Float64Array): boolean => {
-    stats.fEvals++;
-    if (!allFinite(xx, n)) return false;
-    return p.f(tt, xx, out) === true && allFinite(out, n);
-  };
-
   let t = s.t0;
-  const finish = (status: Status, message?: string): OdeSolution => {
-    const r = rec.result();
-    return { status, message, t: r.t, x: r.x, stats };
-  };
   const domainMessage = (): string => `the state left the model's domain at t = ${fmt(t)}`;
 
-  if (!F(t, y, dy1)) {
-    return finish('domain', `the initial state is outside the model's domain (t = ${fmt(t)})`);
-  }
-  if (span === 0) return finish('ok');
+  const early = firstCall(run, y, dy1);
+  if (early) return early;
 
   /** Jacobian and ∂f/∂t at (t, y); dy1 must hold f(t, y). */
   const jacobian = (): boolean => {
@@ -397,13 +447,8 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   let haveAcc = false;
 
   for (;;) {
-    if (stats.steps + stats.rejected >= s.maxSteps) {
-      return finish('maxSteps', `stopped after ${s.maxSteps} step attempts at t = ${fmt(t)} (t1 = ${fmt(t1)})`);
-    }
-    if (tooSmall(h, t, span)) {
-      if (lastWasDomain) return finish('domain', domainMessage());
-      return finish('stepTooSmall', `the step size fell to ${h.toExponential(2)} at t = ${fmt(t)}`);
-    }
+    const stop = stepLimit(run, t, h, lastWasDomain, '');
+    if (stop) return stop;
     let last = false;
     if (t + 1.0001 * h >= t1) {
       h = t1 - t;
@@ -557,10 +602,8 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
       nsing = 0;
       lastWasDomain = false;
       if (last) return finish('ok');
-      hnew = Math.min(hnew, span);
-      if (reject) hnew = Math.min(hnew, h);
+      h = nextStep(hnew, h, span, reject);
       reject = false;
-      h = hnew;
     } else {
       stats.rejected++;
       lastWasDomain = false;
@@ -619,10 +662,9 @@ const DP_FAC_MAX = 10; // hnew/h <= 10
 
 /** Explicit integration with Dormand–Prince 5(4); for non-stiff models. */
 export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
-  const s = setup(p, o);
+  const run = startRun(p, o);
+  const { s, stats, rec, F, finish } = run;
   const { n, t1, span, rtol, atol } = s;
-  const stats = makeStats();
-  const rec = new Recorder(n, s.outputTimes, s.t0, o.x0);
 
   const y = Float64Array.from(o.x0);
   const k1 = new Float64Array(n);
@@ -636,22 +678,9 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   const ystage = new Float64Array(n);
   const errv = new Float64Array(n);
 
-  const F = (tt: number, xx: Float64Array, out: Float64Array): boolean => {
-    stats.fEvals++;
-    if (!allFinite(xx, n)) return false;
-    return p.f(tt, xx, out) === true && allFinite(out, n);
-  };
-
   let t = s.t0;
-  const finish = (status: Status, message?: string): OdeSolution => {
-    const r = rec.result();
-    return { status, message, t: r.t, x: r.x, stats };
-  };
-
-  if (!F(t, y, k1)) {
-    return finish('domain', `the initial state is outside the model's domain (t = ${fmt(t)})`);
-  }
-  if (span === 0) return finish('ok');
+  const early = firstCall(run, y, k1);
+  if (early) return early;
 
   let h: number;
   if (o.initialStep !== undefined) {
@@ -681,19 +710,8 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   let facold = 1e-4;
 
   for (;;) {
-    if (stats.steps + stats.rejected >= s.maxSteps) {
-      return finish(
-        'maxSteps',
-        `stopped after ${s.maxSteps} step attempts at t = ${fmt(t)} (t1 = ${fmt(t1)}); the model may be stiff (use the stiff integrator)`,
-      );
-    }
-    if (tooSmall(h, t, span)) {
-      if (lastWasDomain) return finish('domain', `the state left the model's domain at t = ${fmt(t)}`);
-      return finish(
-        'stepTooSmall',
-        `the step size fell to ${h.toExponential(2)} at t = ${fmt(t)}; the model may be stiff (use the stiff integrator)`,
-      );
-    }
+    const stop = stepLimit(run, t, h, lastWasDomain, '; the model may be stiff (use the stiff integrator)');
+    if (stop) return stop;
     let last = false;
     if (t + 1.0001 * h >= t1) {
       h = t1 - t;
@@ -753,7 +771,7 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     if (err <= 1) {
       let fac = fac11 / Math.pow(facold, DP_BETA);
       fac = Math.max(1 / DP_FAC_MAX, Math.min(1 / DP_FAC_MIN, fac / DP_SAFE));
-      let hnew = h / fac;
+      const hnew = h / fac;
       facold = Math.max(err, 1e-4);
       stats.steps++;
       const tOld = t;
@@ -775,10 +793,8 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
       t = tNew;
       lastWasDomain = false;
       if (last) return finish('ok');
-      hnew = Math.min(hnew, span);
-      if (reject) hnew = Math.min(hnew, h);
+      h = nextStep(hnew, h, span, reject);
       reject = false;
-      h = hnew;
     } else {
       stats.rejected++;
       lastWasDomain = false;

@@ -109,6 +109,50 @@ class F64Buf {
   }
 }
 
+/**
+ * Items 0..n−1 (rows or columns) kept in buckets by their count of entries, each bucket a doubly linked
+ * list: moving an item between buckets is O(1), and the pivot search walks the buckets in order of count.
+ */
+class CountBuckets {
+  /** First item of each bucket (−1: empty). */
+  readonly head: Int32Array;
+  /** Next item in the same bucket (−1: last). */
+  readonly next: Int32Array;
+  private readonly prev: Int32Array;
+  /** The bucket each item is in (−1: none). */
+  private readonly bucket: Int32Array;
+
+  constructor(n: number) {
+    this.head = new Int32Array(n + 2).fill(-1);
+    this.next = new Int32Array(n);
+    this.prev = new Int32Array(n);
+    this.bucket = new Int32Array(n).fill(-1);
+  }
+
+  /** Takes item i out of its bucket (if any). */
+  unlink(i: number): void {
+    const b = this.bucket[i];
+    if (b < 0) return;
+    const pv = this.prev[i], nx = this.next[i];
+    if (pv >= 0) this.next[pv] = nx;
+    else this.head[b] = nx;
+    if (nx >= 0) this.prev[nx] = pv;
+    this.bucket[i] = -1;
+  }
+
+  /** Puts item i first in bucket b, moving it there if it is in another one. */
+  link(i: number, b: number): void {
+    if (this.bucket[i] === b) return;
+    if (this.bucket[i] >= 0) this.unlink(i);
+    const h = this.head[b];
+    this.next[i] = h;
+    this.prev[i] = -1;
+    if (h >= 0) this.prev[h] = i;
+    this.head[b] = i;
+    this.bucket[i] = b;
+  }
+}
+
 function pow2Inverse(x: number): number {
   if (!(x > 0) || !Number.isFinite(x)) return 1;
   return Math.pow(2, -Math.round(Math.log2(x)));
@@ -320,56 +364,15 @@ export function sparseLU(
     else nAC++;
   }
 
-  // count buckets (doubly linked lists)
-  const rHead = new Int32Array(n + 2).fill(-1);
-  const rNext = new Int32Array(n);
-  const rPrev = new Int32Array(n);
-  const rBucket = new Int32Array(n).fill(-1);
-  const cHead = new Int32Array(n + 2).fill(-1);
-  const cNext = new Int32Array(n);
-  const cPrev = new Int32Array(n);
-  const cBucket = new Int32Array(n).fill(-1);
-
-  const unlinkRow = (i: number): void => {
-    const b = rBucket[i];
-    if (b < 0) return;
-    const pv = rPrev[i], nx = rNext[i];
-    if (pv >= 0) rNext[pv] = nx;
-    else rHead[b] = nx;
-    if (nx >= 0) rPrev[nx] = pv;
-    rBucket[i] = -1;
-  };
-  const linkRow = (i: number): void => {
-    const b = rLen[i];
-    if (rBucket[i] === b) return;
-    if (rBucket[i] >= 0) unlinkRow(i);
-    const h = rHead[b];
-    rNext[i] = h;
-    rPrev[i] = -1;
-    if (h >= 0) rPrev[h] = i;
-    rHead[b] = i;
-    rBucket[i] = b;
-  };
-  const unlinkCol = (j: number): void => {
-    const b = cBucket[j];
-    if (b < 0) return;
-    const pv = cPrev[j], nx = cNext[j];
-    if (pv >= 0) cNext[pv] = nx;
-    else cHead[b] = nx;
-    if (nx >= 0) cPrev[nx] = pv;
-    cBucket[j] = -1;
-  };
-  const linkCol = (j: number): void => {
-    const b = cLen[j];
-    if (cBucket[j] === b) return;
-    if (cBucket[j] >= 0) unlinkCol(j);
-    const h = cHead[b];
-    cNext[j] = h;
-    cPrev[j] = -1;
-    if (h >= 0) cPrev[h] = j;
-    cHead[b] = j;
-    cBucket[j] = b;
-  };
+  // rows and columns in buckets by their current count of entries
+  const rowBuckets = new CountBuckets(n);
+  const colBuckets = new CountBuckets(n);
+  const rHead = rowBuckets.head, rNext = rowBuckets.next;
+  const cHead = colBuckets.head, cNext = colBuckets.next;
+  const unlinkRow = (i: number): void => rowBuckets.unlink(i);
+  const linkRow = (i: number): void => rowBuckets.link(i, rLen[i]);
+  const unlinkCol = (j: number): void => colBuckets.unlink(j);
+  const linkCol = (j: number): void => colBuckets.link(j, cLen[j]);
   for (let j = n - 1; j >= 0; j--) if (colActive[j]) linkCol(j);
   for (let i = n - 1; i >= 0; i--) if (rowActive[i]) linkRow(i);
 

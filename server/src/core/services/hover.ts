@@ -1,8 +1,9 @@
 /**
  * Hover text (Markdown) for what is under the cursor: a variable's value at each point, a constant's value
  * and the equations that use it, the local gains of an equation at the active point, a point's eigenvalues
- * and time constants, a built-in function, a keyword, a unit, or a Δ deviation variable in a generated
- * linear block. Pure.
+ * and time constants, a built-in function, a keyword, a unit, a Δ deviation variable in a generated
+ * linear block, or a coefficient of a generated deviation equation (its formula in the constants and
+ * operating values, its value and unit). Pure.
  */
 import type { Analysis } from '../analysis';
 import type * as A from '../ast';
@@ -11,10 +12,11 @@ import * as E from '../expr';
 import { AXIS_TOL, analyzeDynamics, type Dynamics } from '../dynamics';
 import { formatEigen, linearEigen } from '../format';
 import { declaredValue } from '../linearizer';
+import { symbolicCoefficient } from '../symbolic';
 import type { Slot } from '../model';
 import type { Span } from '../text';
 import { formatDims, isDimensionless, parseUnit } from '../units';
-import { targetAt, type Target } from './locate';
+import { inComment, statementAt, targetAt, type Target } from './locate';
 import { pointStatus } from './solve';
 import { dimsOf } from './unitInference';
 
@@ -55,9 +57,18 @@ export const KEYWORD_DOC: Record<string, string> = {
 };
 
 export function hover(a: Analysis, offset: number, opts: HoverOptions = {}): HoverResult | undefined {
-  const t = targetAt(a, offset);
-  if (!t) return undefined;
   const digits = opts.digits ?? 4;
+  const t = targetAt(a, offset);
+  // a coefficient of a generated block's deviation equation: its number, or the Δ name right after it
+  const c = !inComment(a, offset) && (!t || (t.kind === 'symbol' && t.delta)) ? coefficientAt(a, offset) : undefined;
+  if (c) {
+    const md = coefficientText(a, c, digits);
+    if (md) {
+      const onName = t && t.kind === 'symbol' ? hoverText(a, t, digits, opts.activePoint ?? '') : undefined;
+      return { markdown: onName ? `${md}\n\n---\n\n${onName}` : md, span: onName && t ? t.span : c.span };
+    }
+  }
+  if (!t) return undefined;
   const md = hoverText(a, t, digits, opts.activePoint ?? '');
   return md ? { markdown: md, span: t.span } : undefined;
 }
@@ -329,4 +340,93 @@ function usesSlot(a: Analysis, e: A.Expr, id: number): boolean {
   };
   walk(e);
   return hit;
+}
+
+// ---------------------------------------------------------------- coefficients of generated blocks
+
+/** One term `c*Δname` (or `Δname`) of a generated deviation equation. */
+interface CoefficientAt {
+  block: A.LinearBlock;
+  /** Row: the left side without Δ ("level'", "x''", "level_cm"). */
+  row: string;
+  /** Column: the Δ name of the term without Δ ("level", "x'", "feed"). */
+  col: string;
+  /** The coefficient as written (sign included). */
+  written: number;
+  /** Span of the term (number through name). */
+  span: Span;
+}
+
+/** A number literal, possibly signed: `0.5`, `-0.5`. */
+function literal(e: A.Expr): number | undefined {
+  if (e.kind === 'number' && !e.unit) return e.value;
+  if (e.kind === 'unary') {
+    const v = literal(e.arg);
+    return v === undefined ? undefined : e.op === '-' ? -v : v;
+  }
+  return undefined;
+}
+
+const within = (s: Span, o: number) => s.start <= o && o <= s.end;
+const deltaName = (e: A.Expr): A.NameExpr | undefined => (e.kind === 'name' && e.delta ? e : undefined);
+
+/** The term of a generated linear block's deviation equation under the offset, if any. */
+function coefficientAt(a: Analysis, offset: number): CoefficientAt | undefined {
+  const si = statementAt(a, offset);
+  const st = si >= 0 ? a.parsed.file.statements[si] : undefined;
+  if (!st || st.kind !== 'linear' || !st.name.name) return undefined;
+  const eq = st.equations.find((e) => within(e.span, offset));
+  if (!eq) return undefined;
+  const lhs = deltaName(eq.lhs);
+  if (!lhs || !within(eq.rhs.span, offset)) return undefined;
+  let hit: CoefficientAt | undefined;
+  const visit = (e: A.Expr, sign: number): void => {
+    if (hit || !within(e.span, offset)) return;
+    if (e.kind === 'binary' && (e.op === '+' || e.op === '-')) {
+      visit(e.left, sign);
+      visit(e.right, e.op === '-' ? -sign : sign);
+      return;
+    }
+    if (e.kind === 'unary') return visit(e.arg, e.op === '-' ? -sign : sign);
+    let coef: number | undefined;
+    let name: A.NameExpr | undefined;
+    if (e.kind === 'name') {
+      name = deltaName(e);
+      coef = 1;
+    } else if (e.kind === 'binary' && e.op === '*') {
+      name = deltaName(e.right);
+      coef = literal(e.left);
+    }
+    if (!name || coef === undefined) return;
+    hit = { block: st, row: lhs.name + "'".repeat(lhs.primes), col: name.name + "'".repeat(name.primes), written: sign * coef, span: e.span };
+  };
+  visit(eq.rhs, 1);
+  return hit;
+}
+
+function coefficientText(a: Analysis, c: CoefficientAt, digits: number): string | undefined {
+  const point = c.block.name.name;
+  if (!a.pointBlock(point)) return undefined;
+  const info = symbolicCoefficient(a, point, c.row, c.col);
+  if (!info) return undefined;
+  const u = info.unit ? ` [${info.unit}]` : '';
+  const out = [
+    `**coefficient** ${code(`${info.matrix}[${info.row + 1},${info.col + 1}]`)} — the gain of ${code(info.colName)} in the equation of ${code(info.rowName)}, at point ${code(point)}`,
+    '',
+    info.formula !== undefined
+      ? `${code(info.formula)} = ${fmt(info.value, digits)}${u}`
+      : `${fmt(info.value, digits)}${u} (its formula is too large to show)`,
+  ];
+  if (info.symbols.length) {
+    out.push('', '| symbol | value | |', '|---|---:|---|');
+    for (const x of info.symbols) {
+      out.push(`| ${code(x.name)} | ${fmt(x.value, digits)}${x.unit && x.unit !== '1' ? ` [${x.unit}]` : ''} | ${x.kind === 'const' ? 'constant' : `${code(x.of)} at point ${code(point)}`} |`);
+    }
+  }
+  const lb = c.block;
+  if (lb.digest && lb.digest.text.trim() !== a.digest(point)) {
+    out.push('', `This block is stale (written as ${fmt(c.written, digits)}): the model or point ${code(point)} changed since it was generated; the value above is the current one. Regenerate the block.`);
+  }
+  out.push('', `_${info.assumes}_`);
+  return out.join('\n');
 }

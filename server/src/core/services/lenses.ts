@@ -1,9 +1,10 @@
 /**
  * What the code lenses above each `point` header say: Solve (or "✓ Solved" when the block already holds
  * the solution to the displayed digits, or why it cannot be solved), Linearize (or that the generated block
- * is stale), Report and Sweep. The shell adds the commands. Pure.
+ * is stale), Report and Sweep; and above each declared `sweep` block, Run sweep. The shell adds the commands. Pure.
  */
 import type { Analysis } from '../analysis';
+import { declaredSweeps } from '../sweep';
 import type { Span } from '../text';
 import { linearBlockFor } from './linearBlock';
 import { solveEdits } from './solve';
@@ -35,6 +36,44 @@ export function pointLenses(a: Analysis, digits = 4): PointLens[] {
     const block = !lb ? 'none' : lb.digest?.text.trim() === a.digest(name) ? 'fresh' : 'stale';
     const linTitle = block === 'stale' ? 'Regenerate linear block' : block === 'fresh' ? 'Linearize (block up to date)' : 'Linearize';
     out.push({ point: name, span: p.headerSpan, solve, linearize: { title: linTitle, block }, report: { title: 'Report' }, sweep: { title: 'Sweep…' } });
+  }
+  return out;
+}
+
+/** The lens above a declared `sweep` block: Run sweep (with the resolved range), or why it cannot run. */
+export interface SweepLens {
+  /** Name of the sweep block. */
+  sweep: string;
+  /** The point it starts from ('' when the block names none). */
+  point: string;
+  /** The header line of the sweep block. */
+  span: Span;
+  title: string;
+  /** The resolved range (declared unit of the varied name); undefined when the block has problems. */
+  spec?: { sweep: string; vary: string; from: number; to: number; steps: number; log: boolean };
+  /** Why it cannot run (the first P602 problem, or what the block lacks). */
+  problem?: string;
+}
+
+export function sweepLenses(a: Analysis): SweepLens[] {
+  const out: SweepLens[] = [];
+  const seen = new Set<string>();
+  for (const d of declaredSweeps(a)) {
+    const b = d.block;
+    const name = b.name.name;
+    if (!name || seen.has(name)) continue;
+    seen.add(name);
+    const point = b.point?.name ?? '';
+    const lens: SweepLens = { sweep: name, point, span: b.headerSpan, title: 'Run sweep' };
+    if (d.spec && !d.diagnostics.length) {
+      const s = d.spec;
+      lens.spec = { sweep: name, vary: s.vary, from: s.from, to: s.to, steps: s.steps, log: !!s.log };
+    } else {
+      lens.problem = d.diagnostics[0]?.message
+        ?? (!point ? 'the sweep names no point ("from POINT")' : !a.pointBlock(point) ? `no point named "${point}"` : !b.vary ? 'the sweep has no "vary NAME = FROM to TO steps N" line' : 'see the problems of the file');
+      lens.title = '✗ Cannot run sweep: see the problems';
+    }
+    out.push(lens);
   }
   return out;
 }
