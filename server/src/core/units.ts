@@ -1,13 +1,22 @@
 /**
- * Units: unit text → dimension vector, scale and offset to SI (mathjs parses the text once per
- * distinct unit; everything after that is arithmetic on small vectors). The radian is dimensionless
- * (SI Brochure, 9th ed.), so mathjs's angle dimension is dropped.
+ * Units: unit text → dimension vector, scale and offset to SI (each distinct unit text is read once;
+ * everything after that is arithmetic on small vectors). The radian is dimensionless (SI Brochure,
+ * 9th ed.), so mathjs's angle dimension is dropped.
+ *
+ * mathjs is the authority on unit names, prefixes and grammar, but creating it costs ~80 ms of start-up.
+ * So unit text is first read here with a copy of mathjs's unit grammar over a table generated from mathjs
+ * (unitTable.generated.ts, by scripts/gen-unit-table.mjs); only text this cannot read (typos, odd syntax)
+ * goes to mathjs itself, created on first need, which then gives the answer or the error message.
  */
 import { create, unitDependencies } from 'mathjs';
+import { UNIT_BASE_DIMENSIONS, UNIT_DIMENSIONS, UNIT_PREFIX_SETS, UNIT_TABLE } from './unitTable.generated';
 
-// Only the unit machinery of mathjs (a bundler keeps just that part: start-up ~0.1 s instead of ~0.4 s).
-const math = create({ unitDependencies });
-const mathUnit = (v: number, text: string): unknown => (math as unknown as { unit(v: number, t: string): unknown }).unit(v, text);
+// Only the unit machinery of mathjs (a bundler keeps just that part), created on first need.
+let math: { unit(v: number, t: string): unknown } | undefined;
+const mathUnit = (v: number, text: string): unknown => {
+  math ??= create({ unitDependencies }) as unknown as { unit(v: number, t: string): unknown };
+  return math.unit(v, text);
+};
 
 /** Exponents of kg, m, s, A, K, cd, mol, bit. */
 export type Dims = number[];
@@ -37,30 +46,251 @@ export function parseUnit(text: string): UnitInfo | string {
   if (t === '' || t === '1' || t === '-') r = { ...ONE_UNIT, text: t || '1' };
   else if (t === '%') r = { text: '%', dims: DIMENSIONLESS, scale: 0.01, offset: 0 };
   else if (t === 'ppm') r = { text: 'ppm', dims: DIMENSIONLESS, scale: 1e-6, offset: 0 };
-  else {
-    try {
-      // mathjs reads "1/year" but not a leading "/": normalise "1/x" forms it accepts anyway
-      const u = mathUnit(1, t) as {
-        dimensions: number[];
-        units: { unit: { value: number; offset: number }; prefix: { value: number }; power: number }[];
-      };
-      const dims = new Array(NDIM).fill(0);
-      u.dimensions.forEach((p, i) => {
-        const k = MATHJS_TO_OURS[i];
-        if (k >= 0) dims[k] = p;
-      });
-      let scale = 1;
-      for (const x of u.units) scale *= Math.pow(x.unit.value * x.prefix.value, x.power);
-      const only = u.units.length === 1 && u.units[0].power === 1 ? u.units[0] : undefined;
-      const offset = only && only.unit.offset ? only.unit.offset * only.unit.value : 0;
-      r = { text: t, dims, scale, offset };
-    } catch (e) {
-      r = e instanceof Error ? e.message.replace(/^Unit "(.*)" not found\.?$/, 'no unit named "$1"') : 'not a unit';
-      if (!/[a-zA-Z]/.test(t)) r = 'write a unit such as m, kg/s, L/min or degC';
-    }
-  }
+  else r = parseUnitFast(t) ?? parseUnitMathjs(t);
   cache.set(t, r);
   return r;
+}
+
+/** One factor of a unit product: (value·prefix)^power, as mathjs lists them. */
+interface UnitFactor {
+  value: number;
+  prefix: number;
+  offset: number;
+  power: number;
+}
+
+/** UnitInfo from mathjs's dimension vector (its order) and factor list. */
+function unitInfo(text: string, mathjsDims: readonly number[], factors: readonly UnitFactor[]): UnitInfo {
+  const dims = new Array(NDIM).fill(0);
+  mathjsDims.forEach((p, i) => {
+    const k = MATHJS_TO_OURS[i];
+    if (k >= 0) dims[k] = p;
+  });
+  let scale = 1;
+  for (const x of factors) scale *= Math.pow(x.value * x.prefix, x.power);
+  const only = factors.length === 1 && factors[0].power === 1 ? factors[0] : undefined;
+  const offset = only && only.offset ? only.offset * only.value : 0;
+  return { text, dims, scale, offset };
+}
+
+/**
+ * Reads trimmed unit text with mathjs itself (created on the first call); an error message when mathjs
+ * rejects it. parseUnit uses this for the text parseUnitFast cannot read. Exported for tests.
+ */
+export function parseUnitMathjs(t: string): UnitInfo | string {
+  try {
+    const u = mathUnit(1, t) as {
+      dimensions: number[];
+      units: { unit: { value: number; offset: number }; prefix: { value: number }; power: number }[];
+    };
+    // unit.value can be a mathjs Fraction (degF...): `*` in unitInfo turns it into a number
+    const factors = u.units.map((x) => ({ value: x.unit.value, prefix: x.prefix.value, offset: x.unit.offset, power: x.power }));
+    return unitInfo(t, u.dimensions, factors);
+  } catch (e) {
+    let r = e instanceof Error ? e.message.replace(/^Unit "(.*)" not found\.?$/, 'no unit named "$1"') : 'not a unit';
+    if (!/[a-zA-Z]/.test(t)) r = 'write a unit such as m, kg/s, L/min or degC';
+    return r;
+  }
+}
+
+/** True once mathjs has been created (some unit text needed it). For tests and diagnostics. */
+export const mathjsCreated = (): boolean => math !== undefined;
+
+// ---- the fast path: mathjs's unit grammar (Unit.parse in mathjs 15) over the generated table ----
+
+interface TableUnit {
+  dims: readonly number[];
+  value: number;
+  offset: number;
+  prefixes: ReadonlyMap<string, number>;
+}
+/** Units by name, and in mathjs's order (the order its prefix split tries them); built on first use. */
+let unitsByName: Map<string, TableUnit> | undefined;
+let unitsInOrder: [string, TableUnit][] = [];
+const MATHJS_DIMENSIONS = ['MASS', 'LENGTH', 'TIME', 'CURRENT', 'TEMPERATURE', 'LUMINOUS_INTENSITY', 'AMOUNT_OF_SUBSTANCE', 'ANGLE', 'BIT'];
+
+function unitTable(): Map<string, TableUnit> {
+  if (unitsByName) return unitsByName;
+  unitsByName = new Map();
+  // a table whose dimension order is not the one MATHJS_TO_OURS maps stays empty: everything goes to mathjs
+  if (UNIT_BASE_DIMENSIONS.join() !== MATHJS_DIMENSIONS.join()) return unitsByName;
+  const sets = new Map(Object.entries(UNIT_PREFIX_SETS).map(([k, v]) => [k, new Map(Object.entries(v))]));
+  for (const [name, set, quantity, value, offset] of UNIT_TABLE) {
+    const prefixes = sets.get(set);
+    const dims = Object.hasOwn(UNIT_DIMENSIONS, quantity) ? UNIT_DIMENSIONS[quantity] : undefined;
+    // an inconsistent table (it is generated, so only by hand-editing) is not used at all
+    if (!prefixes || !dims) return (unitsByName = new Map());
+    unitsByName.set(name, { dims, value, offset, prefixes });
+  }
+  unitsInOrder = [...unitsByName];
+  return unitsByName;
+}
+
+/** mathjs's lookup: the exact name first, else the first unit (in table order) that ends the name and accepts the rest as a prefix. */
+function findUnit(name: string): { unit: TableUnit; prefix: number } | undefined {
+  const exact = unitTable().get(name);
+  if (exact) {
+    const prefix = exact.prefixes.get('');
+    return prefix === undefined ? undefined : { unit: exact, prefix };
+  }
+  for (const [unitName, unit] of unitsInOrder) {
+    if (name.length > unitName.length && name.endsWith(unitName)) {
+      const prefix = unit.prefixes.get(name.slice(0, name.length - unitName.length));
+      if (prefix !== undefined) return { unit, prefix };
+    }
+  }
+  return undefined;
+}
+
+const isDigit = (c: string): boolean => c >= '0' && c <= '9';
+const isAlpha = (c: string): boolean => (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z');
+
+/**
+ * Reads trimmed unit text the way `math.unit(1, text)` does, without mathjs: the same grammar (an optional
+ * leading number, which mathjs ignores here, then units joined by `*`, `/`, juxtaposition and parentheses,
+ * each with an optional `^number`) and the same name lookup. undefined when mathjs would reject the text or
+ * the table lacks something, so that mathjs decides (and words the error). Exported for tests.
+ */
+export function parseUnitFast(text: string): UnitInfo | undefined {
+  let index = -1;
+  let c = '';
+  // c is the character at index ('' past the end); each move assigns c where TypeScript can see it
+  const at = (i: number): string => {
+    index = i;
+    return text.charAt(i);
+  };
+  const skipWhitespace = (): void => {
+    while (c === ' ' || c === '\t') c = at(index + 1);
+  };
+  // mathjs's parseNumber: [+-] digits [. digits] [e [+-] digits], or .digits; null (position kept) if none
+  const parseNumber = (): string | null => {
+    let number = '';
+    const oldIndex = index;
+    if (c === '+') c = at(index + 1);
+    else if (c === '-') {
+      number += c;
+      c = at(index + 1);
+    }
+    if (!(isDigit(c) || c === '.')) {
+      c = at(oldIndex);
+      return null;
+    }
+    if (c === '.') {
+      number += c;
+      c = at(index + 1);
+      if (!isDigit(c)) {
+        c = at(oldIndex);
+        return null;
+      }
+    } else {
+      while (isDigit(c)) {
+        number += c;
+        c = at(index + 1);
+      }
+      if (c === '.') {
+        number += c;
+        c = at(index + 1);
+      }
+    }
+    while (isDigit(c)) {
+      number += c;
+      c = at(index + 1);
+    }
+    if (c === 'E' || c === 'e') {
+      let tentative = c;
+      const tentativeIndex = index;
+      c = at(index + 1);
+      if (c === '+' || c === '-') {
+        tentative += c;
+        c = at(index + 1);
+      }
+      if (!isDigit(c)) {
+        c = at(tentativeIndex); // the e starts a unit name
+        return number;
+      }
+      number += tentative;
+      while (isDigit(c)) {
+        number += c;
+        c = at(index + 1);
+      }
+    }
+    return number;
+  };
+  const parseCharacter = (ch: string): boolean => {
+    if (c !== ch) return false;
+    c = at(index + 1);
+    return true;
+  };
+
+  const dims: number[] = MATHJS_DIMENSIONS.map(() => 0);
+  const factors: UnitFactor[] = [];
+  let powerMultiplierCurrent = 1;
+  let expectingUnit = false;
+  c = at(index + 1);
+  skipWhitespace();
+  if (parseNumber()) {
+    // mathjs parses a leading number (e.g. the 1 of "1/s") and then ignores it in math.unit(1, text)
+    skipWhitespace();
+    if (parseCharacter('*')) {
+      powerMultiplierCurrent = 1;
+      expectingUnit = true;
+    } else if (parseCharacter('/')) {
+      powerMultiplierCurrent = -1;
+      expectingUnit = true;
+    }
+  }
+  const powerMultiplierStack: number[] = [];
+  let powerMultiplierStackProduct = 1;
+  for (;;) {
+    skipWhitespace();
+    while (c === '(') {
+      powerMultiplierStack.push(powerMultiplierCurrent);
+      powerMultiplierStackProduct *= powerMultiplierCurrent;
+      powerMultiplierCurrent = 1;
+      c = at(index + 1);
+      skipWhitespace();
+    }
+    if (!c) break;
+    let name = '';
+    while (isDigit(c) || isAlpha(c)) {
+      name += c;
+      c = at(index + 1);
+    }
+    if (!isAlpha(name.charAt(0))) return undefined; // mathjs: Unexpected "..."
+    const found = findUnit(name);
+    if (!found) return undefined; // mathjs: Unit "..." not found
+    let power = powerMultiplierCurrent * powerMultiplierStackProduct;
+    skipWhitespace();
+    if (parseCharacter('^')) {
+      skipWhitespace();
+      const p = parseNumber();
+      if (p === null) return undefined; // mathjs: "^" must be followed by a number
+      power *= Number(p);
+    }
+    const { unit, prefix } = found;
+    factors.push({ value: unit.value, prefix, offset: unit.offset, power });
+    for (let i = 0; i < dims.length; i++) dims[i] += (unit.dims[i] || 0) * power;
+    skipWhitespace();
+    while (c === ')') {
+      const popped = powerMultiplierStack.pop();
+      if (popped === undefined) return undefined; // mathjs: Unmatched ")"
+      powerMultiplierStackProduct /= popped;
+      c = at(index + 1);
+      skipWhitespace();
+    }
+    expectingUnit = false;
+    if (parseCharacter('*')) {
+      powerMultiplierCurrent = 1;
+      expectingUnit = true;
+    } else if (parseCharacter('/')) {
+      powerMultiplierCurrent = -1;
+      expectingUnit = true;
+    } else powerMultiplierCurrent = 1; // juxtaposition multiplies
+  }
+  skipWhitespace();
+  // mathjs's errors: characters left, a trailing * or /, an unclosed "(", no unit at all
+  if (c || expectingUnit || powerMultiplierStack.length !== 0 || factors.length === 0) return undefined;
+  return unitInfo(text, dims, factors);
 }
 
 export function dimsEqual(a: Dims, b: Dims): boolean {
