@@ -560,4 +560,6 @@ for (const [name, run, on] of steps) {
 }
 await cleanup();
 log(`\nsummary: ${results.map(([n, r]) => `${n} ${r}`).join(', ')}`);
+const okCount = results.filter(([, r]) => r === 'ok').length;
+log(`e2e: ${okCount} passed, ${results.length - okCount} failed`);
 process.exit(failed ? 1 : 0);
