@@ -6,6 +6,7 @@
  * an unknown format or a closed document answer with a JSON-RPC error whose message says why.
  */
 import { EXPORT_FORMATS, exportLinear, type ExportFormat } from '../core/exports';
+import { documentPoint, fileName } from './documentPoint';
 import { registerRequest } from './registry';
 
 export interface ExportParams {
@@ -21,15 +22,6 @@ export interface ExportResult {
   text: string;
 }
 
-function fileName(uri: string): string {
-  const last = uri.replace(/[?#].*$/, '').split('/').pop() ?? uri;
-  try {
-    return decodeURIComponent(last);
-  } catch {
-    return last;
-  }
-}
-
 registerRequest<ExportParams, ExportResult>('poise/export', async (params, ctx) => {
   if (!params || typeof params.uri !== 'string') throw new Error('poise/export needs {uri, point, format}');
   const format = params.format;
@@ -40,13 +32,7 @@ registerRequest<ExportParams, ExportResult>('poise/export', async (params, ctx) 
   if (digits !== undefined && (typeof digits !== 'number' || !Number.isInteger(digits) || digits < 1 || digits > 17)) {
     throw new Error('"digits" must be a whole number from 1 to 17 (or left out for exact numbers)');
   }
-  const settings = await ctx.settings(params.uri);
-  const a = ctx.analysis(params.uri);
-  if (!a) throw new Error(`${fileName(params.uri)} is not open in the editor`);
-  const names = a.pointNames;
-  const point = (typeof params.point === 'string' && params.point.trim()) || (settings.activePoint && names.includes(settings.activePoint) ? settings.activePoint : names[0]);
-  if (!point) throw new Error(`${fileName(params.uri)} has no point: add a "point NAME:" block`);
-  if (!names.includes(point)) throw new Error(`${fileName(params.uri)} has no point named "${point}"`);
+  const { a, point } = await documentPoint(ctx, 'poise/export', params);
   if (!a.canSolve) throw new Error(`${fileName(params.uri)} has errors; fix them before exporting`);
   // exportLinear throws an Error saying why when the point does not solve or cannot be linearized
   return { text: exportLinear(a, point, format, { digits }) };

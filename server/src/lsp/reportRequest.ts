@@ -5,6 +5,7 @@
  * own policy allows nothing from the network either.
  */
 import { buildReport, renderReportHtml } from '../core/report';
+import { documentPoint, fileName } from './documentPoint';
 import { registerRequest } from './registry';
 
 export interface ReportParams {
@@ -18,28 +19,11 @@ export interface ReportResult {
   title: string;
 }
 
-function fileName(uri: string): string {
-  const last = uri.replace(/[?#].*$/, '').split('/').pop() ?? uri;
-  try {
-    return decodeURIComponent(last);
-  } catch {
-    return last;
-  }
-}
-
 registerRequest<ReportParams, ReportResult>('poise/report', async (params, ctx) => {
-  if (!params || typeof params.uri !== 'string') throw new Error('poise/report needs {uri, point}');
-  const a = ctx.analysis(params.uri);
-  if (!a) throw new Error(`${fileName(params.uri)} is not open in the editor`);
-  const settings = await ctx.settings(params.uri);
-  const names = a.pointNames;
-  let point = params.point?.trim() || (settings.activePoint && names.includes(settings.activePoint) ? settings.activePoint : names[0]);
-  if (!point) throw new Error(`${fileName(params.uri)} has no point: add a "point NAME:" block`);
-  if (!names.includes(point)) throw new Error(`${fileName(params.uri)} has no point named "${point}"`);
+  const { a, point } = await documentPoint(ctx, 'poise/report', params);
   const started = Date.now();
   // the editor refreshes the page while the model is edited: keep the validity search short there
   const data = buildReport(a, point, { title: fileName(params.uri), validityBudgetMs: 1500 });
   ctx.log(`poise/report ${point}: ${Date.now() - started} ms`);
-  point = data.point;
-  return { html: renderReportHtml(data), title: `Report: ${point}` };
+  return { html: renderReportHtml(data), title: `Report: ${data.point}` };
 });

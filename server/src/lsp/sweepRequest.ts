@@ -16,7 +16,8 @@
  */
 import { declaredSweeps, runSweep, sweepCandidates, variedProblem, type SweepSpec } from '../core/sweep';
 import { sweepHtml } from '../core/sweepReport';
-import { registerRequest, type ServerContext } from './registry';
+import { documentPoint, fileName } from './documentPoint';
+import { registerRequest } from './registry';
 
 export interface SweepParams {
   uri: string;
@@ -42,29 +43,6 @@ export interface SweepCandidatesParams {
 }
 
 export type SweepCandidate = ReturnType<typeof sweepCandidates>[number];
-
-function fileName(uri: string): string {
-  const last = uri.replace(/[?#].*$/, '').split('/').pop() ?? uri;
-  try {
-    return decodeURIComponent(last);
-  } catch {
-    return last;
-  }
-}
-
-/** The analysis of the open document and the point a request names (or the active/first point). */
-async function documentPoint(ctx: ServerContext, method: string, params: { uri?: unknown; point?: unknown } | undefined) {
-  if (!params || typeof params.uri !== 'string') throw new Error(`${method} needs {uri, point}`);
-  const a = ctx.analysis(params.uri);
-  if (!a) throw new Error(`${fileName(params.uri)} is not open in the editor`);
-  const settings = await ctx.settings(params.uri);
-  const names = a.pointNames;
-  const asked = typeof params.point === 'string' ? params.point.trim() : '';
-  const point = asked || (settings.activePoint && names.includes(settings.activePoint) ? settings.activePoint : names[0]);
-  if (!point) throw new Error(`${fileName(params.uri)} has no point: add a "point NAME:" block`);
-  if (!names.includes(point)) throw new Error(`${fileName(params.uri)} has no point named "${point}"`);
-  return { a: ctx.analysis(params.uri) ?? a, point, settings };
-}
 
 const isNumber = (x: unknown): x is number => typeof x === 'number' && Number.isFinite(x);
 
