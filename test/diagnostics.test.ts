@@ -117,7 +117,7 @@ describe('names', () => {
       z = 2*x
       point p:
         u = 1
-    `, [{ code: 'P205', message: [`z'`, 'declare it as "var"'] }], { ignore: ['P401', 'P402', 'P403', 'P404'] });
+    `, [{ code: 'P205', message: [`z'`, 'declare it as "var"'] }], { ignore: ['P401', 'P402', 'P403', 'P404', 'P406'] });
   });
 });
 
@@ -437,5 +437,25 @@ describe('the catalogue', () => {
         q = 0.01 [m^3/s]
     `));
     expect(a.allDiagnostics()).toEqual([]);
+  });
+});
+
+describe('structure: a constraint on the states', () => {
+  // An algebraic equation in states and inputs only is a hidden constraint: the model's index is above 1
+  // (Brenan, Campbell & Petzold, Numerical Solution of Initial-Value Problems in DAEs, ch. 2: index of
+  // semi-explicit DAEs).
+  it('names the equation and says what to do', () => {
+    check(`
+      input u
+      state x
+      var ⟦z⟧
+      x' = z
+      ⟦x = u⟧
+      point p:
+        u = 1
+    `, [
+      { code: 'P403', at: 0, message: ['"z"'] },
+      { code: 'P406', at: 1, message: ['constrains the states', 'Differentiate'] },
+    ]);
   });
 });

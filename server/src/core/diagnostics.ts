@@ -79,6 +79,7 @@ export const catalogue = {
   P403: { severity: 'error', text: 'No equation determines {what} "{name}": add an equation for it or remove it.' },
   P404: { severity: 'error', text: 'Structurally singular: equations {equations} all determine only {unknowns}: {advice}' },
   P405: { severity: 'error', text: 'The model has no equations.' },
+  P406: { severity: 'error', text: 'This equation has no unknown to determine: it holds only states, inputs and constants, so it constrains the states (a model of index above 1). Differentiate it into an equation for a derivative, or declare one of its states as "var".' },
 
   // 5xx operating point
   P501: { severity: 'error', text: 'Point "{point}" is unbalanced: {equations} equation(s) for {unknowns} unknown(s). {advice}' },

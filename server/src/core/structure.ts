@@ -182,14 +182,19 @@ export function checkStructure(lm: LoweredModel): StructureResult {
     diagnostics.push(diag('P401', { start: 0, end: 0 }, { equations: nR, unknowns: nC, detail, advice }));
   }
   for (const r of unmatchedRows) {
+    if (adj[r].length === 0) {
+      // only states, inputs and constants: a constraint on the states (a hidden, higher-index constraint)
+      diagnostics.push(diag('P406', lm.equations[r].span));
+      continue;
+    }
     const over = lo.overCols.map(slotName);
-    diagnostics.push(diag('P402', lm.equations[r].span, { unknowns: over.length ? listNames(over) : 'none' }));
+    diagnostics.push(diag('P402', lm.equations[r].span, { unknowns: listNames(over) }));
   }
   for (const c of unmatchedCols) {
     const s = lm.slots[unknowns[c]];
     diagnostics.push(diag('P403', s.symbol.span, { what: kindWord(c), name: s.kind === 'deriv' ? s.symbol.name : s.name }, { data: { name: s.symbol.name } }));
   }
-  if (nR === nC && lo.overRows.length) {
+  if (nR === nC && lo.overRows.length && lo.overCols.length) {
     const eqs = lo.overRows.map((r) => `"${lm.equations[r].label}"`).join(', ');
     diagnostics.push(diag('P404', lm.equations[lo.overRows[0]].span, { equations: eqs, unknowns: listNames(lo.overCols.map(slotName)), advice: 'these equations over-determine those unknowns while others have no equation' }));
   }
