@@ -19,6 +19,7 @@ import { main, type Io } from '../server/src/cli/main';
 import { EXPORT_FORMATS, exportLinear, LINEAR_SCHEMA } from '../server/src/core/exports';
 import type { LinearModel } from '../server/src/core/linearizer';
 import { EXAMPLES, REFERENCE, ROOT } from './helpers/cli';
+import { parseCsv } from './helpers/csv';
 
 const files = [
   ...fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).map((f) => path.join(EXAMPLES, f)),
@@ -39,38 +40,6 @@ const rowsOf = (lin: LinearModel, m: M): number[][] => {
 };
 
 // ---------------------------------------------------------------- parsers written for the test
-
-/** RFC 4180: fields separated by commas, optionally quoted with "" for a quote inside. */
-function parseCsv(text: string): string[][] {
-  const out: string[][] = [];
-  let row: string[] = [];
-  let cell = '';
-  let q = false;
-  for (let i = 0; i < text.length; i++) {
-    const ch = text[i];
-    if (q) {
-      if (ch === '"' && text[i + 1] === '"') {
-        cell += '"';
-        i++;
-      } else if (ch === '"') q = false;
-      else cell += ch;
-    } else if (ch === '"') q = true;
-    else if (ch === ',') {
-      row.push(cell);
-      cell = '';
-    } else if (ch === '\n') {
-      row.push(cell);
-      out.push(row);
-      row = [];
-      cell = '';
-    } else if (ch !== '\r') cell += ch;
-  }
-  if (cell || row.length) {
-    row.push(cell);
-    out.push(row);
-  }
-  return out;
-}
 
 /** GFM tables: consecutive lines starting with "|", the second a delimiter row; cells split on unescaped "|". */
 function parseMarkdownTables(text: string): { before: string; header: string[]; rows: string[][] }[] {

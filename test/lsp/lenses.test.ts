@@ -13,6 +13,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CodeAction, CodeLens, Diagnostic } from 'vscode-languageserver-protocol';
 import { analyze } from '../../server/src/core/analysis';
 import { EXAMPLES, REFERENCE } from '../helpers/cli';
+import { readReferenceFile } from '../helpers/reference';
 import { readBlock } from './blocks';
 import { startSession, uriOf, type Session } from './session';
 
@@ -211,18 +212,6 @@ const MODELS = [
   ...fs.readdirSync(path.join(REFERENCE, 'models')).filter((f) => f.endsWith('.poise')).map((f) => ({ file: path.join(REFERENCE, 'models', f), ref: path.join(REFERENCE, f.replace(/\.poise$/, '.json')) })),
 ];
 
-interface RefModel {
-  point: string;
-  values: Record<string, number>;
-  states: string[];
-  inputs: string[];
-  outputs: string[];
-  A: number[][];
-  B: number[][];
-  C: number[][];
-  D: number[][];
-}
-
 describe.each(MODELS)('$file', ({ file, ref }) => {
   it('Solve and Linearize at every point: idempotent, valid model text, coefficients equal the linear model', async () => {
     const uri = uriOf('all-' + path.basename(file));
@@ -268,9 +257,9 @@ describe.each(MODELS)('$file', ({ file, ref }) => {
         lin.states.forEach((x, j) => expect(row.get(x) ?? 0, `C ${y} ${x}`).toBe(printed(lin.C[i * n + j])));
         lin.inputs.forEach((u, j) => expect(row.get(u) ?? 0, `D ${y} ${u}`).toBe(printed(lin.D[i * m + j])));
       });
-      if (!ref || p !== (JSON.parse(fs.readFileSync(ref, 'utf8')) as RefModel).point) continue;
+      if (!ref || p !== readReferenceFile(ref).point) continue;
       // and equal to the reference linear model (computed outside the project) to the printed digits
-      const r = JSON.parse(fs.readFileSync(ref, 'utf8')) as RefModel;
+      const r = readReferenceFile(ref);
       const close = (got: number, want: number, what: string) =>
         expect(Math.abs(got - want), `${what}: block ${got}, reference ${want}`).toBeLessThanOrEqual(5e-4 * Math.abs(want) + 1e-12 * (1 + Math.abs(want)));
       for (const [name, v] of Object.entries(r.values)) close(b.at.get(name)!.value, v, `at ${name}`);

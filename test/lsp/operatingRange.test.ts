@@ -19,6 +19,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CodeLens } from 'vscode-languageserver-protocol';
 import { analyze } from '../../server/src/core/analysis';
 import { EXAMPLES } from '../helpers/cli';
+import { parseCsv } from '../helpers/csv';
 import { startSession, uriOf, type Session } from './session';
 
 let s: Session;
@@ -181,27 +182,6 @@ function coreMatrices(text: string, point: string) {
   const dims: Record<M, [number, number]> = { A: [lin.n, lin.n], B: [lin.n, lin.m], C: [lin.p, lin.n], D: [lin.p, lin.m] };
   const rows = (m: M) => Array.from({ length: dims[m][0] }, (_, i) => Array.from(lin[m].subarray(i * dims[m][1], (i + 1) * dims[m][1])));
   return { lin, dims, rows };
-}
-
-/** RFC 4180 fields (quotes doubled inside quoted fields). */
-function parseCsv(text: string): string[][] {
-  const out: string[][] = [];
-  let row: string[] = [];
-  let cell = '';
-  let q = false;
-  for (let i = 0; i < text.length; i++) {
-    const ch = text[i];
-    if (q) {
-      if (ch === '"' && text[i + 1] === '"') (cell += '"'), i++;
-      else if (ch === '"') q = false;
-      else cell += ch;
-    } else if (ch === '"') q = true;
-    else if (ch === ',') row.push(cell), (cell = '');
-    else if (ch === '\n') row.push(cell), out.push(row), (row = []), (cell = '');
-    else if (ch !== '\r') cell += ch;
-  }
-  if (cell || row.length) row.push(cell), out.push(row);
-  return out;
 }
 
 /** The GFM table right after the paragraph `**M** (r×c)`: its rows without the header cell. */
