@@ -6,9 +6,9 @@ import { execFileSync } from 'child_process';
 import * as fs from 'fs';
 import * as os from 'os';
 import * as path from 'path';
-import { Analysis } from '../server/src/core/analysis';
+import { Analysis } from '../server/src/core/pipeline/analysis';
 import { eigenvalues } from '../server/src/core/numeric/eigen';
-import { runSweep } from '../server/src/core/sweep';
+import { runSweep } from '../server/src/core/analysis/sweep';
 import { lspLatency } from './lspLatency';
 import { massChain, reportBench } from './report';
 import { tankChain, tankChainSympy } from './models';
@@ -46,7 +46,7 @@ function runOnce(text: string, withEig: boolean): Row {
   // parse alone
   const tp = process.hrtime.bigint();
   // eslint-disable-next-line @typescript-eslint/no-require-imports
-  require('../server/src/core/parser').parse(text);
+  require('../server/src/core/syntax/parser').parse(text);
   const tParse = ms(tp);
   return { n: lin.n, parse: tParse, check: tCheck, solve: tSolve, linearize: tLin, eig: tEig, total, a00: lin.A[0] };
 }

@@ -4,8 +4,8 @@
  * nonlinear step for every input, then the validity ranges and the HTML page separately.
  * Run: `node out/bench/report.js` (after `npx tsc -p .`), or call `reportBench()` from bench.ts.
  */
-import { Analysis } from '../server/src/core/analysis';
-import { buildReport, renderReportHtml } from '../server/src/core/report';
+import { Analysis } from '../server/src/core/pipeline/analysis';
+import { buildReport, renderReportHtml } from '../server/src/core/analysis/report';
 import { tankChain } from './models';
 
 /** A chain of n masses joined by stiffening springs and dampers (2n state components), 2 inputs, 2 outputs. */

@@ -1,5 +1,5 @@
-// Writes server/src/core/unitTable.generated.ts from mathjs's own unit definitions, so that
-// server/src/core/units.ts can read unit text without creating mathjs at start-up.
+// Writes server/src/core/semantics/unitTable.generated.ts from mathjs's own unit definitions, so that
+// server/src/core/semantics/units.ts can read unit text without creating mathjs at start-up.
 //   node scripts/gen-unit-table.mjs           (re)writes the table
 //   node scripts/gen-unit-table.mjs --check   exits 1 when the table differs from what mathjs gives now
 // test/units.table.test.ts regenerates the text in memory (unitTableSource) and compares it to the file,
@@ -9,7 +9,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 
-export const TABLE_PATH = resolve(dirname(fileURLToPath(import.meta.url)), '../server/src/core/unitTable.generated.ts');
+export const TABLE_PATH = resolve(dirname(fileURLToPath(import.meta.url)), '../server/src/core/semantics/unitTable.generated.ts');
 
 const q = (s) => `'${s}'`;
 /** Shortest text that reads back as the same double (NaN for values mathjs's arithmetic turns into NaN). */

@@ -9,7 +9,7 @@
 import * as fs from 'fs';
 import * as path from 'path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
+import { analyze } from '../server/src/core/pipeline/analysis';
 import { main } from '../server/src/cli/main';
 import { ensureBuilt, EXAMPLES, runCli, scratchDir } from './helpers/cli';
 import { expectGolden } from './helpers/golden';

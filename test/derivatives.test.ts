@@ -1,5 +1,5 @@
 /**
- * The symbolic differentiation (server/src/core/expr.ts `derivative`), the model Jacobian
+ * The symbolic differentiation (server/src/core/algebra/expr.ts `derivative`), the model Jacobian
  * (jacobian.ts `compileModel`) and the linear model, each against an outside numerical reference:
  * central finite differences (Richardson-extrapolated; common practice, e.g. Burden & Faires, Numerical
  * Analysis, §4.2) at random points chosen by fast-check.
@@ -8,10 +8,10 @@ import * as fs from 'fs';
 import * as path from 'path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
-import { compileVector } from '../server/src/core/compile';
-import * as E from '../server/src/core/expr';
-import { compileModel } from '../server/src/core/jacobian';
+import { analyze } from '../server/src/core/pipeline/analysis';
+import { compileVector } from '../server/src/core/model/compile';
+import * as E from '../server/src/core/algebra/expr';
+import { compileModel } from '../server/src/core/model/jacobian';
 import { EXAMPLES, REFERENCE } from './helpers/cli';
 import { dedent } from './helpers/model';
 import { centralDiff, newtonFD } from './helpers/numeric';

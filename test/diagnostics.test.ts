@@ -5,7 +5,7 @@
  * hand in the comments beside them.
  */
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
+import { analyze } from '../server/src/core/pipeline/analysis';
 import { catalogue } from '../server/src/core/diagnostics';
 import { check } from './helpers/check';
 import { dedent } from './helpers/model';

@@ -1,5 +1,5 @@
 /**
- * Dynamics at a point (server/src/core/dynamics.ts): modes, stability, gains, transfer functions, zeros,
+ * Dynamics at a point (server/src/core/analysis/dynamics.ts): modes, stability, gains, transfer functions, zeros,
  * controllability/observability and frequency responses, checked against textbook closed forms, an
  * independent Routh–Hurwitz array, the shared reference eigenvalues, and independent solves with ml-matrix.
  */
@@ -8,10 +8,10 @@ import * as path from 'path';
 import fc from 'fast-check';
 import { Matrix, solve as mlSolve } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
+import { analyze } from '../server/src/core/pipeline/analysis';
 import {
   analyzeDynamics, evaluateFactored, frequencyGrid, frequencyResponse, linearSystem, polyEval, type Complex, type LinearSystem,
-} from '../server/src/core/dynamics';
+} from '../server/src/core/analysis/dynamics';
 import { linearStepResponse } from '../server/src/core/numeric/expm';
 import { dedent, expectClose, solve } from './helpers/model';
 

@@ -1,5 +1,5 @@
 /**
- * Exports of the linear model (server/src/core/exports.ts): each format read back by something outside
+ * Exports of the linear model (server/src/core/present/exports.ts): each format read back by something outside
  * the exporter gives the same numbers —
  * - JSON with JSON.parse (ECMA-404), checked against the field list documented in docs/exports.md;
  * - CSV with an RFC 4180 parser written here;
@@ -14,10 +14,10 @@ import { spawnSync } from 'child_process';
 import * as fs from 'fs';
 import * as path from 'path';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
+import { analyze } from '../server/src/core/pipeline/analysis';
 import { main, type Io } from '../server/src/cli/main';
-import { EXPORT_FORMATS, exportLinear, LINEAR_SCHEMA } from '../server/src/core/exports';
-import type { LinearModel } from '../server/src/core/linearizer';
+import { EXPORT_FORMATS, exportLinear, LINEAR_SCHEMA } from '../server/src/core/present/exports';
+import type { LinearModel } from '../server/src/core/solve/linearizer';
 import { EXAMPLES, REFERENCE, ROOT } from './helpers/cli';
 import { parseCsv } from './helpers/csv';
 

@@ -8,10 +8,10 @@ import * as fs from 'fs';
 import * as path from 'path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
+import { analyze } from '../server/src/core/pipeline/analysis';
 import type { Diagnostic } from '../server/src/core/diagnostics';
-import * as E from '../server/src/core/expr';
-import { parse } from '../server/src/core/parser';
+import * as E from '../server/src/core/algebra/expr';
+import { parse } from '../server/src/core/syntax/parser';
 import { EXAMPLES, REFERENCE } from './helpers/cli';
 
 const sources: { name: string; text: string }[] = [];

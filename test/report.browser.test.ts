@@ -13,8 +13,8 @@ import * as os from 'os';
 import * as path from 'path';
 import { chromium, type BrowserContext } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
-import { buildReport, renderReportHtml } from '../server/src/core/report';
+import { analyze } from '../server/src/core/pipeline/analysis';
+import { buildReport, renderReportHtml } from '../server/src/core/analysis/report';
 
 const CHROMIUM = '/usr/bin/chromium';
 const ROOT = path.resolve(__dirname, '..');

@@ -1,5 +1,5 @@
 /**
- * The dynamics report (server/src/core/report.ts, reportHtml.ts) and `poise report`: plain JSON data, the
+ * The dynamics report (server/src/core/analysis/report.ts, present/reportHtml.ts) and `poise report`: plain JSON data, the
  * validity range (checked again here by direct simulation, independently of the bisection), domain
  * problems, the standalone page (no network, cautions, content security policy) and the command on every
  * example and every shared reference model.
@@ -7,11 +7,11 @@
 import * as fs from 'fs';
 import * as path from 'path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
-import { linearSystem } from '../server/src/core/dynamics';
+import { analyze } from '../server/src/core/pipeline/analysis';
+import { linearSystem } from '../server/src/core/analysis/dynamics';
 import { linearStepResponse } from '../server/src/core/numeric/expm';
-import { buildReport, CAUTIONS, formatReportText, renderReportHtml, type ReportData } from '../server/src/core/report';
-import { createSimulator } from '../server/src/core/simulate';
+import { buildReport, CAUTIONS, formatReportText, renderReportHtml, type ReportData } from '../server/src/core/analysis/report';
+import { createSimulator } from '../server/src/core/analysis/simulate';
 import { ensureBuilt, EXAMPLES, REFERENCE, runCliAsync, scratchDir } from './helpers/cli';
 import { startSession, uriOf, type Session } from './lsp/session';
 

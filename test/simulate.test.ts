@@ -1,5 +1,5 @@
 /**
- * The nonlinear model in time (server/src/core/simulate.ts): step responses from an operating point,
+ * The nonlinear model in time (server/src/core/analysis/simulate.ts): step responses from an operating point,
  * checked against closed forms, against the exact linear response (expm) where the model is linear in the
  * stepped input, against Taylor's theorem (the nonlinear–linear difference falls with the square of the
  * step), against finite differences (the analytic Jacobian), and for domain failures.
@@ -7,10 +7,10 @@
 import * as fs from 'fs';
 import * as path from 'path';
 import { describe, expect, it } from 'vitest';
-import { analyze, type Analysis } from '../server/src/core/analysis';
-import { analyzeDynamics, linearSystem } from '../server/src/core/dynamics';
+import { analyze, type Analysis } from '../server/src/core/pipeline/analysis';
+import { analyzeDynamics, linearSystem } from '../server/src/core/analysis/dynamics';
 import { linearStepResponse } from '../server/src/core/numeric/expm';
-import { createSimulator, Simulator } from '../server/src/core/simulate';
+import { createSimulator, Simulator } from '../server/src/core/analysis/simulate';
 import { dedent, expectClose } from './helpers/model';
 
 const ROOT = path.resolve(__dirname, '..');

@@ -6,7 +6,7 @@
 import fc from 'fast-check';
 import { Matrix, solve as mlSolve } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
+import { analyze } from '../server/src/core/pipeline/analysis';
 import { sparseLU } from '../server/src/core/numeric/sparseLU';
 import { dedent, expectClose, solve } from './helpers/model';
 

@@ -19,11 +19,11 @@
 import * as fs from 'fs';
 import * as path from 'path';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
-import { linearEigen } from '../server/src/core/format';
-import { declaredSweeps, runSweep, sweepCsv, sweepJson, sweepRequest, sweepValues, type SweepResult } from '../server/src/core/sweep';
+import { analyze } from '../server/src/core/pipeline/analysis';
+import { linearEigen } from '../server/src/core/present/format';
+import { declaredSweeps, runSweep, sweepCsv, sweepJson, sweepRequest, sweepValues, type SweepResult } from '../server/src/core/analysis/sweep';
 import { main, type Io } from '../server/src/cli/main';
-import { sweepHtml } from '../server/src/core/sweepReport';
+import { sweepHtml } from '../server/src/core/present/sweepReport';
 import { EXAMPLES, scratchDir } from './helpers/cli';
 import { dedent, expectClose } from './helpers/model';
 

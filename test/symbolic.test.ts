@@ -1,5 +1,5 @@
 /**
- * Symbolic coefficients (server/src/core/symbolic.ts) and `poise linearize --symbolic`.
+ * Symbolic coefficients (server/src/core/analysis/symbolic.ts) and `poise linearize --symbolic`.
  *
  * Outside checks:
  * - every formula, printed as text and evaluated by mathjs (an independent expression evaluator) with the
@@ -14,9 +14,9 @@ import * as fs from 'fs';
 import { evaluate as mathEvaluate } from 'mathjs';
 import * as path from 'path';
 import { describe, expect, it } from 'vitest';
-import { analyze, type Analysis } from '../server/src/core/analysis';
+import { analyze, type Analysis } from '../server/src/core/pipeline/analysis';
 import { main, type Io } from '../server/src/cli/main';
-import { formatSymbolic, printFormula, symbolicCoefficient, symbolicEquations, symbolicLinear, type SymbolicLinear } from '../server/src/core/symbolic';
+import { formatSymbolic, printFormula, symbolicCoefficient, symbolicEquations, symbolicLinear, type SymbolicLinear } from '../server/src/core/analysis/symbolic';
 import { EXAMPLES } from './helpers/cli';
 import { expectClose } from './helpers/model';
 import { entryByName, matrixNames, readReferenceFile, referenceModels, REFERENCE_MODELS, rowByName } from './helpers/reference';

@@ -1,5 +1,5 @@
 /**
- * The fast unit reader (server/src/core/units.ts `parseUnitFast`, a copy of mathjs's unit grammar over
+ * The fast unit reader (server/src/core/semantics/units.ts `parseUnitFast`, a copy of mathjs's unit grammar over
  * the table scripts/gen-unit-table.mjs generates from mathjs) against mathjs itself, the reference library
  * for unit names, prefixes and grammar: the mathjs path of units.ts (`parseUnitMathjs`) and, independently
  * of Poise's code, a mathjs instance created here (its normalised value of 1 unit, its dimensions, and
@@ -10,7 +10,7 @@ import * as path from 'path';
 import fc from 'fast-check';
 import { create, unitDependencies } from 'mathjs';
 import { describe, expect, it, vi } from 'vitest';
-import { parseUnit, parseUnitFast, parseUnitMathjs, type UnitInfo } from '../server/src/core/units';
+import { parseUnit, parseUnitFast, parseUnitMathjs, type UnitInfo } from '../server/src/core/semantics/units';
 // @ts-expect-error -- a plain .mjs script without type declarations
 import { TABLE_PATH, unitTableSource } from '../scripts/gen-unit-table.mjs';
 import { expectClose } from './helpers/model';
@@ -178,7 +178,7 @@ describe('the generated table', () => {
     expect(fromExamples.length).toBeGreaterThan(20);
     const texts = [...fromExamples, ...COMMON, ...SYNTAX].filter((t) => t === '%' || typeof reference(t) !== 'string');
     vi.resetModules(); // a units module that has read nothing yet
-    const fresh = await import('../server/src/core/units');
+    const fresh = await import('../server/src/core/semantics/units');
     expect(fresh.mathjsCreated()).toBe(false);
     for (const t of texts) expect(typeof fresh.parseUnit(t), t).toBe('object');
     expect(fresh.mathjsCreated()).toBe(false);

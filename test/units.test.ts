@@ -4,8 +4,8 @@
  * unit). Sources are named beside each check.
  */
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/analysis';
-import { dimsEqual, parseUnit, type UnitInfo } from '../server/src/core/units';
+import { analyze } from '../server/src/core/pipeline/analysis';
+import { dimsEqual, parseUnit, type UnitInfo } from '../server/src/core/semantics/units';
 import { check } from './helpers/check';
 import { dedent, expectClose, solve } from './helpers/model';
 

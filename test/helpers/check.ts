@@ -8,7 +8,7 @@
  * line:column (1-based) so a failure reads like an editor position.
  */
 import { expect } from 'vitest';
-import { analyze, type Analysis } from '../../server/src/core/analysis';
+import { analyze, type Analysis } from '../../server/src/core/pipeline/analysis';
 import type { Diagnostic } from '../../server/src/core/diagnostics';
 import { dedent } from './model';
 

@@ -3,11 +3,11 @@
  * values and matrix entries by name (never by position).
  */
 import { expect } from 'vitest';
-import { analyze, located, type Analysis } from '../../server/src/core/analysis';
+import { analyze, located, type Analysis } from '../../server/src/core/pipeline/analysis';
 import type { Diagnostic } from '../../server/src/core/diagnostics';
-import { linearEigen } from '../../server/src/core/format';
-import type { LinearModel } from '../../server/src/core/linearizer';
-import type { PointSolution } from '../../server/src/core/pointSolver';
+import { linearEigen } from '../../server/src/core/present/format';
+import type { LinearModel } from '../../server/src/core/solve/linearizer';
+import type { PointSolution } from '../../server/src/core/solve/pointSolver';
 
 /** Strips the common indentation of a template literal, so snippets can be indented in test code. */
 export function dedent(s: string): string {

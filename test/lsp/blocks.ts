@@ -2,8 +2,8 @@
  * Reads a generated linear block back from model text with the core's parser (the block is model
  * language): its header, `at` values and the coefficients of its deviation equations, by name.
  */
-import { analyze } from '../../server/src/core/analysis';
-import type * as A from '../../server/src/core/ast';
+import { analyze } from '../../server/src/core/pipeline/analysis';
+import type * as A from '../../server/src/core/syntax/ast';
 
 export interface ReadBlock {
   headerLine: string;

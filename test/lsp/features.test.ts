@@ -9,7 +9,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type {
   CodeAction, CompletionItem, CompletionList, Diagnostic, DocumentSymbol, FoldingRange, Location, SemanticTokens, WorkspaceEdit,
 } from 'vscode-languageserver-protocol';
-import { analyze } from '../../server/src/core/analysis';
+import { analyze } from '../../server/src/core/pipeline/analysis';
 import { EXAMPLES } from '../helpers/cli';
 import { readBlock } from './blocks';
 import { startSession, uriOf, type Session } from './session';

@@ -7,7 +7,7 @@
 import * as fs from 'fs';
 import * as path from 'path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { BUILTIN_DOC } from '../../server/src/core/expr';
+import { BUILTIN_DOC } from '../../server/src/core/algebra/expr';
 import { EXAMPLES, REFERENCE } from '../helpers/cli';
 import { startSession, uriOf, type Session } from './session';
 

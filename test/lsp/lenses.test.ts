@@ -11,7 +11,7 @@ import * as fs from 'fs';
 import * as path from 'path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CodeAction, CodeLens, Diagnostic } from 'vscode-languageserver-protocol';
-import { analyze } from '../../server/src/core/analysis';
+import { analyze } from '../../server/src/core/pipeline/analysis';
 import { EXAMPLES, REFERENCE } from '../helpers/cli';
 import { readReferenceFile } from '../helpers/reference';
 import { readBlock } from './blocks';

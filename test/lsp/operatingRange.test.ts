@@ -17,7 +17,7 @@ import { evaluate } from 'mathjs';
 import * as path from 'path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CodeLens } from 'vscode-languageserver-protocol';
-import { analyze } from '../../server/src/core/analysis';
+import { analyze } from '../../server/src/core/pipeline/analysis';
 import { EXAMPLES } from '../helpers/cli';
 import { parseCsv } from '../helpers/csv';
 import { startSession, uriOf, type Session } from './session';

@@ -4,11 +4,11 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import { analyze, located, type Analysis } from '../core/analysis';
+import { analyze, located, type Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
-import { EXPORT_FORMATS, exportLinearModel, type ExportFormat } from '../core/exports';
-import { formatLinearText, formatValues } from '../core/format';
-import { formatSymbolic, symbolicLinear } from '../core/symbolic';
+import { EXPORT_FORMATS, exportLinearModel, type ExportFormat } from '../core/present/exports';
+import { formatLinearText, formatValues } from '../core/present/format';
+import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
 import { reportCommand } from './report';
 

@@ -6,7 +6,7 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import { buildReport, formatReportText, renderReportHtml } from '../core/report';
+import { buildReport, formatReportText, renderReportHtml } from '../core/analysis/report';
 import type { CliHelpers, Io, Parsed } from './main';
 
 export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {

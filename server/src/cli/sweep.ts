@@ -10,10 +10,10 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import { analyze, type Analysis } from '../core/analysis';
+import { analyze, type Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
-import { sweepHtml } from '../core/sweepReport';
-import { declaredSweeps, formatSweepText, runSweep, sweepCsv, sweepJson, sweepRequest, type SweepSpec } from '../core/sweep';
+import { sweepHtml } from '../core/present/sweepReport';
+import { declaredSweeps, formatSweepText, runSweep, sweepCsv, sweepJson, sweepRequest, type SweepSpec } from '../core/analysis/sweep';
 import type { CliHelpers, Io, Parsed } from './main';
 
 function where(a: Analysis, file: string, d: Diagnostic): string {

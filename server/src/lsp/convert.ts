@@ -6,7 +6,7 @@ import {
   CompletionItemKind, DiagnosticSeverity, DiagnosticTag, InsertTextFormat, SymbolKind,
   type CompletionItem, type Diagnostic as LspDiagnostic, type DocumentSymbol, type Range, type TextEdit as LspTextEdit,
 } from 'vscode-languageserver/node';
-import type { Analysis } from '../core/analysis';
+import type { Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
 import type { CompletionCandidate } from '../core/services/completion';
 import type { TextEdit } from '../core/services/edits';

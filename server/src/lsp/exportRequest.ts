@@ -1,11 +1,11 @@
 /**
  * The `poise/export` request: `{uri, point, format, digits?}` → `{text}`, the linear model at a point of an
- * open document in one export format (json, csv, markdown, latex, numpy; see server/src/core/exports.ts and
+ * open document in one export format (json, csv, markdown, latex, numpy; see server/src/core/present/exports.ts and
  * docs/exports.md). Numbers are written exactly (the shortest text that reads back to the same double)
  * unless `digits` asks for fewer significant digits. A point that does not solve or cannot be linearized,
  * an unknown format or a closed document answer with a JSON-RPC error whose message says why.
  */
-import { EXPORT_FORMATS, exportLinear, type ExportFormat } from '../core/exports';
+import { EXPORT_FORMATS, exportLinear, type ExportFormat } from '../core/present/exports';
 import { documentPoint, fileName } from './documentPoint';
 import { registerRequest } from './registry';
 

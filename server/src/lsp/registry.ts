@@ -4,7 +4,7 @@
  */
 import type { CancellationToken, Connection, TextDocuments } from 'vscode-languageserver/node';
 import type { TextDocument } from 'vscode-languageserver-textdocument';
-import type { Analysis } from '../core/analysis';
+import type { Analysis } from '../core/pipeline/analysis';
 import type { PoiseSettings } from './settings';
 
 /** What a custom request handler can use. */

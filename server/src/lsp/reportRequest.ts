@@ -1,10 +1,10 @@
 /**
  * The `poise/report` request: `{uri, point}` → `{html, title}`, the standalone report page of one point of
- * an open document (see server/src/core/report.ts). The page is rendered without a nonce: the VS Code
+ * an open document (see server/src/core/analysis/report.ts). The page is rendered without a nonce: the VS Code
  * client stamps its own nonce on the inline script and adds its policy (client/src/html.ts); the page's
  * own policy allows nothing from the network either.
  */
-import { buildReport, renderReportHtml } from '../core/report';
+import { buildReport, renderReportHtml } from '../core/analysis/report';
 import { documentPoint, fileName } from './documentPoint';
 import { registerRequest } from './registry';
 

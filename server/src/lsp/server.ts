@@ -32,7 +32,7 @@ import {
   type TextEdit as LspTextEdit, type WorkspaceEdit,
 } from 'vscode-languageserver/node';
 import { TextDocument } from 'vscode-languageserver-textdocument';
-import { analyze, type Analysis } from '../core/analysis';
+import { analyze, type Analysis } from '../core/pipeline/analysis';
 import { completions } from '../core/services/completion';
 import type { TextEdit } from '../core/services/edits';
 import { foldingRanges } from '../core/services/folding';

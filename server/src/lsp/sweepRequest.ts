@@ -1,5 +1,5 @@
 /**
- * Sweep requests for the editor (see server/src/core/sweep.ts and sweepReport.ts):
+ * Sweep requests for the editor (see server/src/core/analysis/sweep.ts and present/sweepReport.ts):
  *
  * - `poise/sweep` `{uri, point, vary, from, to, steps, log, sweep?}` → `{html, title}`: solves the point by
  *   continuation while `vary` moves from `from` to `to` (numbers in the declared unit of `vary`) in `steps`
@@ -14,8 +14,8 @@
  * Problems (document not open, unknown point, a name that cannot be varied, a bad range) answer with a
  * JSON-RPC error whose message says what is wrong; the registry keeps the server running.
  */
-import { declaredSweeps, runSweep, sweepCandidates, variedProblem, type SweepSpec } from '../core/sweep';
-import { sweepHtml } from '../core/sweepReport';
+import { declaredSweeps, runSweep, sweepCandidates, variedProblem, type SweepSpec } from '../core/analysis/sweep';
+import { sweepHtml } from '../core/present/sweepReport';
 import { documentPoint, fileName } from './documentPoint';
 import { registerRequest } from './registry';
 

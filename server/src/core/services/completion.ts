@@ -3,8 +3,8 @@
  * declared names with their kinds, built-in functions and `pi` in expressions, keywords at the start of a
  * line. Nothing inside comments. Pure: plain data the shell maps to protocol items.
  */
-import type { Analysis } from '../analysis';
-import { BUILTIN_ARITY, BUILTIN_DOC } from '../expr';
+import type { Analysis } from '../pipeline/analysis';
+import { BUILTIN_ARITY, BUILTIN_DOC } from '../algebra/expr';
 import type { Span } from '../text';
 import { inComment, statementAt, unitBracketAt } from './locate';
 import { KEYWORD_DOC } from './hover';

@@ -1,5 +1,5 @@
 /** Folding ranges: point, linear and sweep blocks, and runs of two or more comment lines. Pure. */
-import type { Analysis } from '../analysis';
+import type { Analysis } from '../pipeline/analysis';
 
 export interface Fold {
   startLine: number;

@@ -5,17 +5,17 @@
  * linear block, or a coefficient of a generated deviation equation (its formula in the constants and
  * operating values, its value and unit). Pure.
  */
-import type { Analysis } from '../analysis';
-import type * as A from '../ast';
-import type { ModelSymbol } from '../binder';
-import * as E from '../expr';
-import { AXIS_TOL, analyzeDynamics, type Dynamics } from '../dynamics';
-import { formatEigen, linearEigen } from '../format';
-import { declaredValue } from '../linearizer';
-import { symbolicCoefficient } from '../symbolic';
-import type { Slot } from '../model';
+import type { Analysis } from '../pipeline/analysis';
+import type * as A from '../syntax/ast';
+import type { ModelSymbol } from '../semantics/binder';
+import * as E from '../algebra/expr';
+import { AXIS_TOL, analyzeDynamics, type Dynamics } from '../analysis/dynamics';
+import { formatEigen, linearEigen } from '../present/format';
+import { declaredValue } from '../solve/linearizer';
+import { symbolicCoefficient } from '../analysis/symbolic';
+import type { Slot } from '../model/model';
 import type { Span } from '../text';
-import { formatDims, isDimensionless, parseUnit } from '../units';
+import { formatDims, isDimensionless, parseUnit } from '../semantics/units';
 import { inComment, statementAt, targetAt, type Target } from './locate';
 import { pointStatus } from './solve';
 import { dimsOf } from './unitInference';

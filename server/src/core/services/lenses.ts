@@ -3,8 +3,8 @@
  * the solution to the displayed digits, or why it cannot be solved), Linearize (or that the generated block
  * is stale), Report and Sweep; and above each declared `sweep` block, Run sweep. The shell adds the commands. Pure.
  */
-import type { Analysis } from '../analysis';
-import { declaredSweeps } from '../sweep';
+import type { Analysis } from '../pipeline/analysis';
+import { declaredSweeps } from '../analysis/sweep';
 import type { Span } from '../text';
 import { linearBlockFor } from './linearBlock';
 import { solveEdits } from './solve';

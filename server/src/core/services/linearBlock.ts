@@ -9,11 +9,11 @@
  * replaces the existing block for that point in place. Also the stale-block check (P601) on its own, so a
  * shell can report it before any point is solved. Pure.
  */
-import type { Analysis } from '../analysis';
-import type * as A from '../ast';
+import type { Analysis } from '../pipeline/analysis';
+import type * as A from '../syntax/ast';
 import { diag, type Diagnostic } from '../diagnostics';
-import { formatNumber } from '../expr';
-import { declaredValue } from '../linearizer';
+import { formatNumber } from '../algebra/expr';
+import { declaredValue } from '../solve/linearizer';
 import { eol, type TextEdit } from './edits';
 import { pointStatus } from './solve';
 

@@ -3,11 +3,11 @@
  * a built-in function, a keyword, a unit bracket, or an equation line. Shared by hover, definition,
  * references, rename and the point lookup the editor commands use. Pure.
  */
-import type { Analysis } from '../analysis';
-import type * as A from '../ast';
-import type { ModelSymbol, Reference } from '../binder';
-import { BUILTIN_ARITY } from '../expr';
-import { KEYWORDS } from '../parser';
+import type { Analysis } from '../pipeline/analysis';
+import type * as A from '../syntax/ast';
+import type { ModelSymbol, Reference } from '../semantics/binder';
+import { BUILTIN_ARITY } from '../algebra/expr';
+import { KEYWORDS } from '../syntax/parser';
 import type { Span } from '../text';
 
 export type Target =

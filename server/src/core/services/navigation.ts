@@ -4,10 +4,10 @@
  * generated linear blocks consistent: their Δ names and `at` names are references too, and a block that
  * was up to date gets its digest recomputed for the renamed model. Pure.
  */
-import { analyze, type Analysis } from '../analysis';
-import { BUILTIN_CONSTANTS } from '../binder';
-import { BUILTIN_ARITY } from '../expr';
-import { KEYWORDS, RESERVED } from '../parser';
+import { analyze, type Analysis } from '../pipeline/analysis';
+import { BUILTIN_CONSTANTS } from '../semantics/binder';
+import { BUILTIN_ARITY } from '../algebra/expr';
+import { KEYWORDS, RESERVED } from '../syntax/parser';
 import type { Span } from '../text';
 import { applyEdits, type TextEdit } from './edits';
 import { targetAt, type Target } from './locate';

@@ -7,15 +7,15 @@
  * - P601 stale generated block → regenerate it.
  * Pure: returns titles and text edits.
  */
-import type { Analysis } from '../analysis';
-import type * as A from '../ast';
-import { BUILTIN_ARITY } from '../expr';
+import type { Analysis } from '../pipeline/analysis';
+import type * as A from '../syntax/ast';
+import { BUILTIN_ARITY } from '../algebra/expr';
 import type { Span } from '../text';
 import { eol, type TextEdit } from './edits';
 import { linearizeEdit } from './linearBlock';
 import { blockIndent } from './solve';
 import { requiredDims, unitTextFor } from './unitInference';
-import { dimsMul, dimsPow } from '../units';
+import { dimsMul, dimsPow } from '../semantics/units';
 
 export interface DiagnosticRef {
   code: string;

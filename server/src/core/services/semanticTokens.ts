@@ -6,10 +6,10 @@
  *   built-in functions → function+defaultLibrary, pi → variable+readonly+defaultLibrary.
  * Uses with primes carry `derivative`, Δ names `deviation`, declarations `declaration`. Pure.
  */
-import type { Analysis } from '../analysis';
-import type { SymbolKind } from '../binder';
+import type { Analysis } from '../pipeline/analysis';
+import type { SymbolKind } from '../semantics/binder';
 import type { Span } from '../text';
-import { BUILTIN_ARITY } from '../expr';
+import { BUILTIN_ARITY } from '../algebra/expr';
 import { walkExpressions } from './locate';
 
 export const TOKEN_TYPES = ['variable', 'parameter', 'property', 'function', 'namespace'] as const;

@@ -4,13 +4,13 @@
  * `name ~ value [unit]` line, `=` lines never change. Applying the edits twice equals applying them once.
  * Also the brief status of a point that the Solve lens shows. Pure.
  */
-import type { Analysis } from '../analysis';
-import type * as A from '../ast';
+import type { Analysis } from '../pipeline/analysis';
+import type * as A from '../syntax/ast';
 import type { Diagnostic } from '../diagnostics';
-import { formatNumber } from '../expr';
-import { declaredValue } from '../linearizer';
-import type { PointSolution } from '../pointSolver';
-import { dimsEqual, parseUnit } from '../units';
+import { formatNumber } from '../algebra/expr';
+import { declaredValue } from '../solve/linearizer';
+import type { PointSolution } from '../solve/pointSolver';
+import { dimsEqual, parseUnit } from '../semantics/units';
 import { eol, type TextEdit } from './edits';
 
 export type PointStatus =

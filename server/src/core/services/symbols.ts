@@ -2,7 +2,7 @@
  * The outline of a model file, grouped by kind: constants, inputs, states, vars, outputs, equations,
  * points, linear blocks, sweeps (groups in that order, items in file order). Pure.
  */
-import type { Analysis } from '../analysis';
+import type { Analysis } from '../pipeline/analysis';
 import type { Span } from '../text';
 
 export type OutlineKind = 'group' | 'const' | 'input' | 'state' | 'var' | 'output' | 'equation' | 'point' | 'pointLine' | 'linear' | 'sweep';

@@ -4,10 +4,10 @@
  * down to the name, e.g. in `outflow = k*sqrt(level) + leak` the name `leak` needs the unit of `outflow`.
  * Pure.
  */
-import type { Analysis } from '../analysis';
-import type * as A from '../ast';
+import type { Analysis } from '../pipeline/analysis';
+import type * as A from '../syntax/ast';
 import type { Span } from '../text';
-import { DIMENSIONLESS, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit, type Dims } from '../units';
+import { DIMENSIONLESS, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit, type Dims } from '../semantics/units';
 
 /** Dimension of an expression from the declared units (null when unknown, e.g. an undeclared name). */
 export function dimsOf(a: Analysis, e: A.Expr): Dims | null {

@@ -2,10 +2,10 @@
  * Plain-text, Markdown and JSON renderings of the core's results, shared by the CLI, the language
  * server and the exports. Pure.
  */
-import type { Analysis, VariableValue } from './analysis';
-import { formatNumber } from './expr';
-import type { DeviationEquation, LinearModel } from './linearizer';
-import { eigenvalues, sortEigen } from './numeric/eigen';
+import type { Analysis, VariableValue } from '../pipeline/analysis';
+import { formatNumber } from '../algebra/expr';
+import type { DeviationEquation, LinearModel } from '../solve/linearizer';
+import { eigenvalues, sortEigen } from '../numeric/eigen';
 
 export interface LinearJson {
   point: string;

@@ -2,8 +2,8 @@
  * Structure checker: counts equations against unknowns and, from a maximum bipartite matching
  * (equations × unknowns), names what is left over. The same matching serves the point solver.
  */
-import { diag, type Diagnostic } from './diagnostics';
-import * as E from './expr';
+import { diag, type Diagnostic } from '../diagnostics';
+import * as E from '../algebra/expr';
 import type { LoweredModel } from './model';
 
 export interface Matching {

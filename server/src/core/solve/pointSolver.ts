@@ -4,16 +4,16 @@
  * Newton's method with the analytic sparse Jacobian, scaled by each unknown's magnitude, a backtracking
  * line search and a Levenberg–Marquardt fallback; deterministic, with an iteration cap.
  */
-import type * as A from './ast';
-import type { BoundModel } from './binder';
-import { diag, type Diagnostic } from './diagnostics';
-import * as E from './expr';
-import { compileModel, type CompiledModel } from './jacobian';
-import { constExprValue, type LoweredModel } from './model';
-import { sparseLU } from './numeric/sparseLU';
-import { isDimensionless } from './units';
-import { leftovers, listNames, maximumMatching } from './structure';
-import type { Span } from './text';
+import type * as A from '../syntax/ast';
+import type { BoundModel } from '../semantics/binder';
+import { diag, type Diagnostic } from '../diagnostics';
+import * as E from '../algebra/expr';
+import { compileModel, type CompiledModel } from '../model/jacobian';
+import { constExprValue, type LoweredModel } from '../model/model';
+import { sparseLU } from '../numeric/sparseLU';
+import { isDimensionless } from '../semantics/units';
+import { leftovers, listNames, maximumMatching } from '../model/structure';
+import type { Span } from '../text';
 
 export interface PointSolution {
   name: string;

@@ -3,11 +3,11 @@
  * outputs, constants, points, linear blocks, sweeps) and reports name errors: unknown, duplicate, unused,
  * derivative of a non-state, a state never differentiated.
  */
-import type * as A from './ast';
-import { diag, type Diagnostic } from './diagnostics';
-import { BUILTIN_ARITY } from './expr';
-import { RESERVED } from './parser';
-import type { Span } from './text';
+import type * as A from '../syntax/ast';
+import { diag, type Diagnostic } from '../diagnostics';
+import { BUILTIN_ARITY } from '../algebra/expr';
+import { RESERVED } from '../syntax/parser';
+import type { Span } from '../text';
 
 export type SymbolKind = 'const' | 'input' | 'state' | 'var' | 'output';
 

@@ -3,7 +3,7 @@
  * reportHtml.ts, and the sweep page, sweepReport.ts): the one home of the chart code, the style sheet and
  * the cursor script, so both pages look alike. Pure: returns strings.
  */
-import { formatNumber } from './expr';
+import { formatNumber } from '../algebra/expr';
 
 export const esc = (s: string): string => s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 

@@ -4,7 +4,7 @@
  * writes readable infix text. Nodes are immutable plain objects; `src` keeps the source span of the
  * model text they came from (for domain errors).
  */
-import type { Span } from './text';
+import type { Span } from '../text';
 
 export type Node = Num | Sym | Add | Mul | Pow | Fn;
 export interface Num { t: 'num'; v: number; src?: Span }

@@ -4,8 +4,8 @@
  * stability changes and where the sweep stopped marked; a table of the points; the usual cautions.
  * Charts and page shell are the shared ones (svgCharts.ts). Pure: returns a string.
  */
-import { CAUTIONS } from './report';
-import type { SweepResult } from './sweep';
+import { CAUTIONS } from '../analysis/report';
+import type { SweepResult } from '../analysis/sweep';
 import { chart, esc, htmlPage, legend, linRange, num, resetCharts, type AxisSpec, type Series } from './svgCharts';
 
 export interface SweepHtmlOptions {

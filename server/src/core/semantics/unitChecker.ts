@@ -4,10 +4,10 @@
  * every unit text is known. Also evaluates the constants (in SI), since that needs the same unit facts.
  * A file without any unit bracket is nondimensional: nothing is checked and time is dimensionless.
  */
-import type * as A from './ast';
+import type * as A from '../syntax/ast';
 import type { BoundModel, ModelSymbol } from './binder';
 import { BUILTIN_CONSTANTS } from './binder';
-import { diag, type Diagnostic } from './diagnostics';
+import { diag, type Diagnostic } from '../diagnostics';
 import {
   DIMENSIONLESS, ONE_UNIT, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit,
   type Dims, type UnitInfo,

@@ -3,12 +3,12 @@
  * (constants, state components and their highest derivatives, inputs, vars, outputs), all in SI.
  * Model equations come first (residual lhs − rhs), then one definition per output (y − h = 0).
  */
-import type * as A from './ast';
-import { BUILTIN_CONSTANTS, type BoundModel, type ModelSymbol } from './binder';
-import * as E from './expr';
-import type { Span } from './text';
-import { constantValue, literalSI, type UnitFacts } from './unitChecker';
-import { ONE_UNIT, type UnitInfo } from './units';
+import type * as A from '../syntax/ast';
+import { BUILTIN_CONSTANTS, type BoundModel, type ModelSymbol } from '../semantics/binder';
+import * as E from '../algebra/expr';
+import type { Span } from '../text';
+import { constantValue, literalSI, type UnitFacts } from '../semantics/unitChecker';
+import { ONE_UNIT, type UnitInfo } from '../semantics/units';
 
 export type SlotKind = 'const' | 'state' | 'deriv' | 'input' | 'var' | 'output';
 

@@ -18,11 +18,11 @@
  * numeric-constant pivots, then the smallest formula. A formula that grows beyond a size limit is dropped
  * ("too large") and only its number kept. Pure.
  */
-import type { Analysis } from './analysis';
-import * as E from './expr';
-import { compileModel } from './jacobian';
-import type { LinearModel } from './linearizer';
-import type { LoweredModel, Slot } from './model';
+import type { Analysis } from '../pipeline/analysis';
+import * as E from '../algebra/expr';
+import { compileModel } from '../model/jacobian';
+import type { LinearModel } from '../solve/linearizer';
+import type { LoweredModel, Slot } from '../model/model';
 
 export interface SymbolicOptions {
   /** Largest formula kept, in expression nodes (default 250). */

@@ -5,9 +5,9 @@
  * nonce-based. Theme-aware: light and dark from prefers-color-scheme, and VS Code's body classes and
  * --vscode-* colours when present. Pure: returns a string.
  */
-import { formatNumber } from './expr';
-import type { Complex, TransferFunction } from './dynamics';
-import type { ReportData, StepReport, ValidityLimit, ValidityReport } from './report';
+import { formatNumber } from '../algebra/expr';
+import type { Complex, TransferFunction } from '../analysis/dynamics';
+import type { ReportData, StepReport, ValidityLimit, ValidityReport } from '../analysis/report';
 import { chart, esc, htmlPage, legend, linRange, num, r1, resetCharts, type AxisSpec, type Series } from './svgCharts';
 
 export interface RenderOptions {

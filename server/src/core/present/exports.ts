@@ -5,11 +5,11 @@
  * deviation equations) and a Python/NumPy snippet. Numbers are written exactly (shortest text that reads
  * back to the same double) unless a number of significant digits is asked for. Pure.
  */
-import type { Analysis, VariableValue } from './analysis';
-import { formatNumber } from './expr';
+import type { Analysis, VariableValue } from '../pipeline/analysis';
+import { formatNumber } from '../algebra/expr';
 import { linearEigen, linearJson, rows, type LinearJson } from './format';
-import { deviationEquations, type LinearModel } from './linearizer';
-import { coefficientUnit } from './symbolic';
+import { deviationEquations, type LinearModel } from '../solve/linearizer';
+import { coefficientUnit } from '../analysis/symbolic';
 
 export const EXPORT_FORMATS = ['json', 'csv', 'markdown', 'latex', 'numpy'] as const;
 export type ExportFormat = (typeof EXPORT_FORMATS)[number];

@@ -9,21 +9,21 @@
  * Jacobian becomes singular) or continuation fails even at the smallest step, the sweep stops cleanly
  * and returns what it has. Pure: takes an Analysis, returns plain data.
  */
-import type { Analysis } from './analysis';
-import type * as A from './ast';
-import { diag, type Diagnostic } from './diagnostics';
-import { formatNumber } from './expr';
-import { compileModel } from './jacobian';
-import { declaredValue, linearize, type LinearModel } from './linearizer';
-import { constExprValue, type Slot } from './model';
-import { luFactor } from './numeric/dense';
+import type { Analysis } from '../pipeline/analysis';
+import type * as A from '../syntax/ast';
+import { diag, type Diagnostic } from '../diagnostics';
+import { formatNumber } from '../algebra/expr';
+import { compileModel } from '../model/jacobian';
+import { declaredValue, linearize, type LinearModel } from '../solve/linearizer';
+import { constExprValue, type Slot } from '../model/model';
+import { luFactor } from '../numeric/dense';
 import { AXIS_TOL } from './dynamics';
-import { eigenvalues, sortEigen } from './numeric/eigen';
-import { sparseLU } from './numeric/sparseLU';
-import { pointSetup, solvePoint, type PointSolution } from './pointSolver';
-import type { Span } from './text';
-import { hasUnitLiteral } from './unitChecker';
-import { dimsEqual, parseUnit } from './units';
+import { eigenvalues, sortEigen } from '../numeric/eigen';
+import { sparseLU } from '../numeric/sparseLU';
+import { pointSetup, solvePoint, type PointSolution } from '../solve/pointSolver';
+import type { Span } from '../text';
+import { hasUnitLiteral } from '../semantics/unitChecker';
+import { dimsEqual, parseUnit } from '../semantics/units';
 
 /** What to sweep. `from` and `to` are in the declared unit of the varied name. */
 export interface SweepSpec {

@@ -9,9 +9,9 @@
  * them), time in the model's time unit; eigenvalues, poles and zeros in 1/time unit, frequencies in
  * rad per time unit.
  */
-import type { LinearModel } from './linearizer';
-import { complexSolve, luFactor, svdValues, type DenseMatrix } from './numeric/dense';
-import { eigenvalues, eigenvectors } from './numeric/eigen';
+import type { LinearModel } from '../solve/linearizer';
+import { complexSolve, luFactor, svdValues, type DenseMatrix } from '../numeric/dense';
+import { eigenvalues, eigenvectors } from '../numeric/eigen';
 
 export interface Complex {
   re: number;

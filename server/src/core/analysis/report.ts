@@ -4,17 +4,17 @@
  * nonlinear step responses and the validity range of the linear model per input. `renderReportHtml`
  * (reportHtml.ts) turns it into one standalone page; `formatReportText` into a readable summary. Pure.
  */
-import type { Analysis } from './analysis';
+import type { Analysis } from '../pipeline/analysis';
 import {
   analyzeDynamics, frequencyGrid, frequencyResponse,
   type Complex, type DcGain, type FrequencyResponse, type Horizon, type Mode, type RankTest, type StabilityVerdict, type TransferFunction,
 } from './dynamics';
-import { formatNumber } from './expr';
-import { declaredValue } from './linearizer';
-import { linearStepResponse } from './numeric/expm';
+import { formatNumber } from '../algebra/expr';
+import { declaredValue } from '../solve/linearizer';
+import { linearStepResponse } from '../numeric/expm';
 import { Simulator } from './simulate';
 
-export { renderReportHtml, type RenderOptions } from './reportHtml';
+export { renderReportHtml, type RenderOptions } from '../present/reportHtml';
 
 export interface ReportOptions {
   /** Step size per input (declared unit) for the step-response plots; default 10 % of the operating value (of one unit when it is 0). */

@@ -2,18 +2,18 @@
  * The pipeline: text → parse → bind → check units → lower → check structure, with point solving and
  * linearization on demand (cached per analysis). Pure: takes text, returns plain data.
  */
-import type * as A from './ast';
-import { bind, type BoundModel } from './binder';
-import type { Diagnostic } from './diagnostics';
-import { diag } from './diagnostics';
-import { declaredValue, deviationEquations, linearize, type DeviationEquation, type LinearModel } from './linearizer';
-import { lower, type LoweredModel } from './model';
-import { parse, type ParseResult } from './parser';
-import { solvePoint, type PointSolution } from './pointSolver';
-import { sweepDiagnostics } from './sweep';
-import { checkStructure, type StructureResult } from './structure';
-import { LineMap } from './text';
-import { checkUnits, type UnitFacts } from './unitChecker';
+import type * as A from '../syntax/ast';
+import { bind, type BoundModel } from '../semantics/binder';
+import type { Diagnostic } from '../diagnostics';
+import { diag } from '../diagnostics';
+import { declaredValue, deviationEquations, linearize, type DeviationEquation, type LinearModel } from '../solve/linearizer';
+import { lower, type LoweredModel } from '../model/model';
+import { parse, type ParseResult } from '../syntax/parser';
+import { solvePoint, type PointSolution } from '../solve/pointSolver';
+import { sweepDiagnostics } from '../analysis/sweep';
+import { checkStructure, type StructureResult } from '../model/structure';
+import { LineMap } from '../text';
+import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;

@@ -16,12 +16,12 @@
  * integrator shrinks its step, and when it cannot get past, the result has status 'domain' with a message
  * naming the function and the states that left their sign. Never throws for model failures.
  */
-import type { Analysis } from './analysis';
-import { compileModel, type CompiledModel } from './jacobian';
-import type { LoweredModel } from './model';
-import { integrateStiff } from './numeric/ode';
-import { sparseLU, type SparseLUResult } from './numeric/sparseLU';
-import { pointChecks } from './pointSolver';
+import type { Analysis } from '../pipeline/analysis';
+import { compileModel, type CompiledModel } from '../model/jacobian';
+import type { LoweredModel } from '../model/model';
+import { integrateStiff } from '../numeric/ode';
+import { sparseLU, type SparseLUResult } from '../numeric/sparseLU';
+import { pointChecks } from '../solve/pointSolver';
 
 export interface StepOptions {
   /** Input steps (deviations) in each input's declared unit, in input order. */

@@ -1,5 +1,5 @@
 /** Syntax tree produced by the parser. Plain data with spans; no semantic information. */
-import type { Span } from './text';
+import type { Span } from '../text';
 
 export type Expr = NumberExpr | NameExpr | CallExpr | UnaryExpr | BinaryExpr | ErrorExpr;
 

@@ -2,7 +2,7 @@
  * Compiles symbolic expressions to fast JavaScript functions. The generated source is built only from
  * our own expression tree (numbers, slot indices and a fixed set of operators), never from model text.
  */
-import type { Node } from './expr';
+import type { Node } from '../algebra/expr';
 
 const MATH_FN: Record<string, string> = {
   sqrt: 'M.sqrt', exp: 'M.exp', log: 'M.log', log10: 'M.log10', sin: 'M.sin', cos: 'M.cos', tan: 'M.tan',

@@ -3,7 +3,7 @@
  * compiled once per model and reused by the point solver, the linearizer and sweeps.
  */
 import { compileVector, type VectorFn } from './compile';
-import * as E from './expr';
+import * as E from '../algebra/expr';
 import type { LoweredModel } from './model';
 
 export interface CompiledModel {

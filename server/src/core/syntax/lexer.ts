@@ -2,8 +2,8 @@
  * Lexer: text → tokens. Never throws. Newlines are tokens, except where a line continues
  * (an open parenthesis, or a line ending in a binary operator or comma). Comments are kept aside.
  */
-import { diag, type Diagnostic } from './diagnostics';
-import type { Span } from './text';
+import { diag, type Diagnostic } from '../diagnostics';
+import type { Span } from '../text';
 
 export type TokenKind =
   | 'name' // identifier; `delta` set when written with a leading Δ

@@ -3,9 +3,9 @@
  * and resumes at the next logical line, so the rest of the file is still analysed.
  */
 import type * as A from './ast';
-import { diag, type Diagnostic } from './diagnostics';
+import { diag, type Diagnostic } from '../diagnostics';
 import { lex, type Token } from './lexer';
-import type { Span } from './text';
+import type { Span } from '../text';
 
 export interface ParseResult {
   file: A.ModelFile;

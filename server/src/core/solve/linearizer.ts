@@ -5,13 +5,13 @@
  * algebraic unknowns are eliminated:  [Δw; Δz] = −[F_w F_z]⁻¹ (F_x Δx + F_u Δu).
  * A, B, C, D are returned in the declared units of each variable, time in the model's time unit.
  */
-import { diag, type Diagnostic } from './diagnostics';
-import { formatNumber } from './expr';
-import { compileModel } from './jacobian';
-import type { LoweredModel, Slot } from './model';
-import { sparseLU } from './numeric/sparseLU';
-import { listNames } from './structure';
-import type { Span } from './text';
+import { diag, type Diagnostic } from '../diagnostics';
+import { formatNumber } from '../algebra/expr';
+import { compileModel } from '../model/jacobian';
+import type { LoweredModel, Slot } from '../model/model';
+import { sparseLU } from '../numeric/sparseLU';
+import { listNames } from '../model/structure';
+import type { Span } from '../text';
 
 export interface LinearModel {
   point: string;
