@@ -5,7 +5,8 @@
  * Run: `node out/bench/report.js` (after `npx tsc -p .`), or call `reportBench()` from bench.ts.
  */
 import { Analysis } from '../server/src/core/pipeline/analysis';
-import { buildReport, renderReportHtml } from '../server/src/core/analysis/report';
+import { buildReport } from '../server/src/core/analysis/report';
+import { renderReportHtml } from '../server/src/core/present/reportHtml';
 import { tankChain } from './models';
 
 /** A chain of n masses joined by stiffening springs and dampers (2n state components), 2 inputs, 2 outputs. */

@@ -14,7 +14,8 @@ import * as path from 'path';
 import { chromium, type BrowserContext } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { analyze } from '../server/src/core/pipeline/analysis';
-import { buildReport, renderReportHtml } from '../server/src/core/analysis/report';
+import { buildReport } from '../server/src/core/analysis/report';
+import { renderReportHtml } from '../server/src/core/present/reportHtml';
 
 const CHROMIUM = '/usr/bin/chromium';
 const ROOT = path.resolve(__dirname, '..');

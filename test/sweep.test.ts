@@ -21,9 +21,11 @@ import * as path from 'path';
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../server/src/core/pipeline/analysis';
 import { linearEigen } from '../server/src/core/present/format';
-import { declaredSweeps, runSweep, sweepCsv, sweepJson, sweepRequest, sweepValues, type SweepResult } from '../server/src/core/analysis/sweep';
+import { declaredSweeps, runSweep, sweepRequest, sweepValues, type SweepResult } from '../server/src/core/analysis/sweep';
+import { sweepCsv } from '../server/src/core/present/sweepCsv';
+import { sweepJson } from '../server/src/core/present/sweepJson';
 import { main, type Io } from '../server/src/cli/main';
-import { sweepHtml } from '../server/src/core/present/sweepReport';
+import { sweepHtml } from '../server/src/core/present/sweepHtml';
 import { EXAMPLES, scratchDir } from './helpers/cli';
 import { dedent, expectClose } from './helpers/model';
 

@@ -11,11 +11,9 @@ import { formatLinearText, formatValues } from '../core/present/format';
 import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
 import { reportCommand } from './report';
+import { UsageError, type CliHelpers, type Io, type Parsed } from './shared';
 
-export interface Io {
-  out(s: string): void;
-  err(s: string): void;
-}
+export type { CliHelpers, Io, Parsed } from './shared';
 
 const stdio: Io = {
   out: (s) => process.stdout.write(s.endsWith('\n') ? s : s + '\n'),
@@ -40,14 +38,6 @@ Commands:
 Options:
   --help, -h      this text
   --version       print the version`;
-
-class UsageError extends Error {}
-
-export interface Parsed {
-  cmd: string;
-  files: string[];
-  opts: Map<string, string | true>;
-}
 
 export function parseArgs(argv: string[]): Parsed {
   const [cmd = '', ...rest] = argv;
@@ -199,14 +189,6 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
     }
     throw e;
   }
-}
-
-export interface CliHelpers {
-  readModel: typeof readModel;
-  prepare: typeof prepare;
-  opt: typeof opt;
-  oneFile: typeof oneFile;
-  UsageError: typeof UsageError;
 }
 
 /** Commands added by other modules (report, sweep): name → handler. */

@@ -6,8 +6,10 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import { buildReport, formatReportText, renderReportHtml } from '../core/analysis/report';
-import type { CliHelpers, Io, Parsed } from './main';
+import { buildReport } from '../core/analysis/report';
+import { renderReportHtml } from '../core/present/reportHtml';
+import { formatReportText } from '../core/present/reportText';
+import type { CliHelpers, Io, Parsed } from './shared';
 
 export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
   const file = h.oneFile(p);

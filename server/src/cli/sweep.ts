@@ -12,9 +12,12 @@ import * as fs from 'fs';
 import * as path from 'path';
 import { analyze, type Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
-import { sweepHtml } from '../core/present/sweepReport';
-import { declaredSweeps, formatSweepText, runSweep, sweepCsv, sweepJson, sweepRequest, type SweepSpec } from '../core/analysis/sweep';
-import type { CliHelpers, Io, Parsed } from './main';
+import { sweepHtml } from '../core/present/sweepHtml';
+import { declaredSweeps, runSweep, sweepRequest, type SweepSpec } from '../core/analysis/sweep';
+import { formatSweepText } from '../core/present/sweepText';
+import { sweepCsv } from '../core/present/sweepCsv';
+import { sweepJson } from '../core/present/sweepJson';
+import type { CliHelpers, Io, Parsed } from './shared';
 
 function where(a: Analysis, file: string, d: Diagnostic): string {
   const p = a.lines.position(d.span.start);

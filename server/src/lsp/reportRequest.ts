@@ -4,7 +4,8 @@
  * client stamps its own nonce on the inline script and adds its policy (client/src/html.ts); the page's
  * own policy allows nothing from the network either.
  */
-import { buildReport, renderReportHtml } from '../core/analysis/report';
+import { buildReport } from '../core/analysis/report';
+import { renderReportHtml } from '../core/present/reportHtml';
 import { documentPoint, fileName } from './documentPoint';
 import { registerRequest } from './registry';
 

@@ -15,7 +15,7 @@
  * JSON-RPC error whose message says what is wrong; the registry keeps the server running.
  */
 import { declaredSweeps, runSweep, sweepCandidates, variedProblem, type SweepSpec } from '../core/analysis/sweep';
-import { sweepHtml } from '../core/present/sweepReport';
+import { sweepHtml } from '../core/present/sweepHtml';
 import { documentPoint, fileName } from './documentPoint';
 import { registerRequest } from './registry';
 

@@ -2,19 +2,17 @@
  * The dynamics report of one operating point as plain, JSON-serialisable data: the point, the modes and
  * stability, gains, transfer functions, controllability/observability, frequency responses, linear versus
  * nonlinear step responses and the validity range of the linear model per input. `renderReportHtml`
- * (reportHtml.ts) turns it into one standalone page; `formatReportText` into a readable summary. Pure.
+ * (present/reportHtml.ts) turns it into one standalone page; `formatReportText` (present/reportText.ts) into a
+ * readable summary. Pure.
  */
 import type { Analysis } from '../pipeline/analysis';
 import {
   analyzeDynamics, frequencyGrid, frequencyResponse,
   type Complex, type DcGain, type FrequencyResponse, type Horizon, type Mode, type RankTest, type StabilityVerdict, type TransferFunction,
 } from './dynamics';
-import { formatNumber } from '../algebra/expr';
 import { declaredValue } from '../solve/linearizer';
 import { linearStepResponse } from '../numeric/expm';
 import { Simulator } from './simulate';
-
-export { renderReportHtml, type RenderOptions } from '../present/reportHtml';
 
 export interface ReportOptions {
   /** Step size per input (declared unit) for the step-response plots; default 10 % of the operating value (of one unit when it is 0). */
@@ -399,129 +397,4 @@ function maxAbsCols(x: Float64Array[], n: number): number[] {
   const out = new Array<number>(n).fill(0);
   for (const v of x) for (let i = 0; i < n; i++) out[i] = Math.max(out[i], Math.abs(v[i]));
   return out;
-}
-
-// ------------------------------------------------------------------------------------- text
-
-const f = (v: number | null | undefined, d = 4): string => (v === null || v === undefined ? '—' : formatNumber(v, d));
-const u = (unit: string) => (unit ? ` ${unit}` : '');
-
-export function complexText(c: Complex, d = 4): string {
-  if (c.im === 0) return f(c.re, d);
-  return `${f(c.re, d)} ${c.im < 0 ? '-' : '+'} ${f(Math.abs(c.im), d)}i`;
-}
-
-/** Polynomial in s as text: "0.5 s^2 + 1.2 s + 3". */
-export function polyText(c: number[], d = 4, v = 's'): string {
-  const deg = c.length - 1;
-  const parts: string[] = [];
-  c.forEach((a, k) => {
-    if (a === 0) return;
-    const pw = deg - k;
-    const mag = Math.abs(a);
-    const coef = mag === 1 && pw > 0 ? '' : f(mag, d);
-    const term = pw === 0 ? coef : `${coef}${coef ? ' ' : ''}${v}${pw > 1 ? `^${pw}` : ''}`;
-    parts.push(`${parts.length ? (a < 0 ? ' - ' : ' + ') : a < 0 ? '-' : ''}${term}`);
-  });
-  return parts.join('') || '0';
-}
-
-/** Factored form: "0.03125 / (s + 0.0003375)". */
-export function factoredText(tf: TransferFunction, d = 4): string {
-  if (tf.identicallyZero) return '0';
-  const fac = (rs: Complex[]): string[] => {
-    const out: string[] = [];
-    for (const r of rs) {
-      if (r.im < 0) continue;
-      if (r.im > 0) out.push(`(s^2 ${-2 * r.re < 0 ? '-' : '+'} ${f(Math.abs(2 * r.re), d)} s + ${f(r.re * r.re + r.im * r.im, d)})`);
-      else if (r.re === 0) out.push('s');
-      else out.push(`(s ${r.re > 0 ? '-' : '+'} ${f(Math.abs(r.re), d)})`);
-    }
-    return out;
-  };
-  const num = fac(tf.zeros);
-  const den = fac(tf.poles);
-  const top = [f(tf.gain, d), ...num].join('·');
-  return den.length ? `${top} / ${den.length > 1 ? `[${den.join('·')}]` : den[0]}` : top;
-}
-
-export function formatReportText(r: ReportData, d = 4): string {
-  const out: string[] = [];
-  const t = r.timeUnit;
-  out.push(`${r.title} — report of point "${r.point}" (time in ${t})`);
-  if (!r.ok) {
-    out.push('', 'The report could not be made:', ...r.problems.map((p) => `  ${p}`));
-    return out.join('\n');
-  }
-  out.push('', 'Operating point:');
-  const w = Math.max(4, ...r.values.filter((v) => v.kind !== 'const').map((v) => v.name.length));
-  for (const v of r.values) if (v.kind !== 'const') out.push(`  ${v.name.padEnd(w)}  ${f(v.value, 6).padStart(12)}${u(v.unit ? `[${v.unit}]` : '')}${v.role === 'fixed' ? '  (fixed)' : ''}`);
-  out.push('', `Stability: ${r.stability!.verdict}. ${r.stability!.reason}`);
-  out.push('', `Modes (eigenvalues in 1/${t}):`);
-  for (const md of r.modes) {
-    const lam = md.multiplicity === 2 ? `${f(md.re, d)} ± ${f(md.im, d)}i` : f(md.re, d);
-    let desc = md.description;
-    if (md.kind === 'real') desc += `, τ = ${f(md.timeConstant, d)} ${t}`;
-    if (md.kind === 'oscillatory' || md.kind === 'undamped') desc += `, ωn = ${f(md.naturalFrequency, d)} rad/${t}, period ${f(md.period, d)} ${t}`;
-    const flags = [!md.controllable ? 'uncontrollable' : '', !md.observable ? 'unobservable' : ''].filter(Boolean).join(', ');
-    out.push(`  ${String(md.number).padStart(2)}. λ = ${lam}: ${desc}; lives in ${md.dominant.join(', ')}${flags ? ` [${flags}]` : ''}`);
-  }
-  if (!r.modes.length) out.push('  (none: the model has no states)');
-  const ctl = r.controllability!;
-  const obs = r.observability!;
-  out.push('', `Controllability (PBH): rank ${ctl.rank} of ${ctl.n}${r.inputs.length ? '' : ' (the model has no inputs)'}${ctl.failing.length ? `; uncontrollable: ${ctl.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}`);
-  out.push(`Observability (PBH): rank ${obs.rank} of ${obs.n}${obs.failing.length ? `; unobservable: ${obs.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}${r.outputsAreStates ? ' (no outputs declared: the states are the outputs)' : ''}`);
-  const g = r.dcGain!;
-  out.push('', `Steady-state gains (output change per input change${g.method === 'per-pair' ? '; A is singular, so pairs through an integrator have no steady state' : ''}):`);
-  for (let i = 0; i < r.outputs.length; i++) {
-    for (let j = 0; j < r.inputs.length; j++) {
-      const v = g.gain[i][j];
-      const integ = g.integrating.find((x) => x.input === r.inputs[j] && x.output === r.outputs[i]);
-      const val = v !== null ? `${f(v, d)}${u(g.units[i][j])}` : integ ? `integrates${integ.rate !== null ? ` at ${f(integ.rate, d)} ${integ.rateUnit}` : ` (${integ.order} integrators)`}` : '—';
-      out.push(`  Δ${r.outputs[i]} / Δ${r.inputs[j]}: ${val}`);
-    }
-  }
-  if (!r.inputs.length) out.push('  (the model has no inputs)');
-  out.push('', 'Transfer functions G(s) = K·Π(s − z)/Π(s − p):');
-  if (!r.inputs.length) out.push('  (the model has no inputs)');
-  for (const tf of r.transfer) {
-    out.push(`  ${tf.input} → ${tf.output}: ${factoredText(tf, d)}${tf.unit ? `   [${tf.unit}]` : ''}`);
-    if (!tf.identicallyZero && tf.order > 0) {
-      out.push(`      = (${polyText(tf.num, d)}) / (${polyText(tf.den, d)})`);
-      out.push(`      poles: ${tf.poles.map((x) => complexText(x, d)).join(', ') || 'none'}; zeros: ${tf.zeros.map((x) => complexText(x, d)).join(', ') || 'none'}${tf.cancelled ? `; ${tf.cancelled} mode(s) do not appear` : ''}`);
-    }
-  }
-  if (r.frequency) {
-    const w = r.frequency.omega;
-    out.push('', `Frequency response: ${w.length} frequencies from ${f(w[0], 3)} to ${f(w[w.length - 1], 3)} ${r.frequency.unit} (in the JSON and HTML output).`);
-  }
-  out.push('', `Step responses over ${f(r.horizon!.value, d)} ${t} (${r.horizon!.reason}):`);
-  if (!r.inputs.length) out.push('  (the model has no inputs)');
-  for (const s of r.steps) {
-    out.push(`  step of ${f(s.step, d)}${u(s.inputUnit)} in ${s.input} (${f(s.stepPercent, 3)} % of ${s.percentBasis === 'unit' ? 'one unit' : 'the operating value'}): ${s.status === 'ok' ? (s.error === null ? 'no linked output' : `linear vs nonlinear differ by ${f(100 * s.error, 3)} % of the change${s.withinTolerance ? ' (within tolerance)' : ' (beyond tolerance)'}`) : s.message ?? s.status}`);
-    for (const o of s.outputs) {
-      if (!o.linked) continue;
-      const L = o.linear[o.linear.length - 1];
-      const N = o.nonlinear.length === o.linear.length ? o.nonlinear[o.nonlinear.length - 1] : null;
-      out.push(`      Δ${o.name} at the end: linear ${f(L, d)}, nonlinear ${N === null ? '—' : f(N, d)}${u(o.unit)}`);
-    }
-  }
-  if (r.validity) {
-    out.push('', `Validity range (linear within ${f(100 * r.tolerance, 3)} % of the nonlinear change over the horizon):`);
-    for (const v of r.validity) {
-      if (!v.up && !v.down) {
-        out.push(`  ${v.input}: ${v.note ?? ''}`);
-        continue;
-      }
-      const lim = (l: ValidityLimit | null, sign: string) =>
-        !l ? '—' : l.limitedBy === 'nothing valid' ? `${sign}: no step found valid` : `${sign}${f(l.step, 3)}${u(v.unit)} (${f(l.percent, 3)} %)${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' ? ' or more' : l.limitedBy === 'domain' ? ', then out of the domain' : ''}`;
-      const basis = v.percentBasis === 'unit' ? `% of one unit; the operating value is 0${u(v.unit)}` : `% of the operating value ${f(v.operatingValue, 4)}${u(v.unit)}`;
-      out.push(`  ${v.input}: up to ${lim(v.up, '+')}, down to ${lim(v.down, '-')}  (${basis})`);
-      const dm = v.up?.domainMessage ?? v.down?.domainMessage;
-      if (dm) out.push(`      ${dm}`);
-      if (v.note) out.push(`      ${v.note}`);
-    }
-  }
-  out.push('', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`));
-  return out.join('\n');
 }

@@ -7,36 +7,24 @@
  * bisection on the swept value and named (a real eigenvalue through zero, or a complex pair through the
  * imaginary axis with its frequency). Where the steady state ends or turns back (a fold: the steady-state
  * Jacobian becomes singular) or continuation fails even at the smallest step, the sweep stops cleanly
- * and returns what it has. Pure: takes an Analysis, returns plain data.
+ * and returns what it has. Pure: takes an Analysis, returns plain data. Declared `sweep` blocks are checked in
+ * pipeline/sweepChecks.ts; modes, verdicts and gains come from analysis/dynamics/; the renderings are in
+ * present/ (sweepText.ts, sweepCsv.ts, sweepJson.ts, sweepHtml.ts).
  */
 import type { Analysis } from '../pipeline/analysis';
-import type * as A from '../syntax/ast';
-import { diag, type Diagnostic } from '../diagnostics';
+import type { Diagnostic } from '../diagnostics';
 import { formatNumber } from '../algebra/expr';
 import { compileModel } from '../model/jacobian';
 import { declaredValue, linearize, type LinearModel } from '../solve/linearizer';
-import { constExprValue, type Slot } from '../model/model';
-import { luFactor } from '../numeric/dense';
-import { AXIS_TOL } from './dynamics';
+import { AXIS_TOL, eigenFigures, linearSystem, stabilityOf, type Mode, type StabilityClass } from './dynamics';
+import { steadyStateGain } from './dynamics/dcGain';
 import { eigenvalues, sortEigen } from '../numeric/eigen';
 import { sparseLU } from '../numeric/sparseLU';
-import { pointSetup, solvePoint, type PointSolution } from '../solve/pointSolver';
-import type { Span } from '../text';
-import { hasUnitLiteral } from '../semantics/unitChecker';
+import { solvePoint, type PointSolution } from '../solve/pointSolver';
 import { dimsEqual, parseUnit } from '../semantics/units';
-
-/** What to sweep. `from` and `to` are in the declared unit of the varied name. */
-export interface SweepSpec {
-  point: string;
-  vary: string;
-  from: number;
-  to: number;
-  /** Number of intervals: the sweep has steps + 1 values, both ends included. */
-  steps: number;
-  log?: boolean;
-  /** Name of the declared `sweep` block, if it came from one. */
-  name?: string;
-}
+import { MAX_STEPS, declaredSweeps, varSlot, variedProblem, type SweepSpec } from '../pipeline/sweepChecks';
+// declared sweeps are checked in the pipeline; re-exported for the shells
+export { MAX_STEPS, declaredSweeps, sweepCandidates, sweepDiagnostics, variedProblem, type DeclaredSweep, type SweepSpec } from '../pipeline/sweepChecks';
 
 export interface SweepOptions {
   /** A failed continuation step is halved at most this many times (default 12). */
@@ -47,19 +35,12 @@ export interface SweepOptions {
   maxRelativeChange?: number;
 }
 
-/** One eigenvalue (a complex pair appears once, with im > 0) and what it means for the response. */
-export interface Mode {
-  re: number;
-  im: number;
-  /** 1/|re| in the model's time unit (decay time; for an unstable mode the e-folding growth time); null on the imaginary axis. */
-  timeConstant: number | null;
-  /** −re/|λ| for a complex pair (negative when it grows); null for a real eigenvalue. */
-  damping: number | null;
-  /** |λ| of a complex pair, rad per model time unit; null for a real eigenvalue. */
-  naturalFrequency: number | null;
-}
-
-export type Verdict = 'stable' | 'marginal' | 'unstable';
+/**
+ * One eigenvalue (a complex pair appears once, with im > 0) and its figures, computed by
+ * analysis/dynamics/modes.ts (`eigenFigures`). `damping` is the mode's damping ratio ζ (`dampingRatio` of
+ * a dynamics Mode), under the name the sweep schema poise-sweep/1 gives it.
+ */
+export type SweepMode = Pick<Mode, 're' | 'im' | 'timeConstant' | 'naturalFrequency'> & { damping: Mode['dampingRatio'] };
 
 export interface SweepPoint {
   /** Swept value, declared unit. */
@@ -68,10 +49,10 @@ export interface SweepPoint {
   values: number[];
   /** Eigenvalues of A (per model time unit), sorted by real part. */
   eigenvalues: { re: number; im: number }[];
-  modes: Mode[];
+  modes: SweepMode[];
   /** Steady-state gains −C·A⁻¹·B + D (rows SweepResult.gainRows, columns the inputs); null when A is singular. */
   dcGain: number[][] | null;
-  stability: Verdict;
+  stability: StabilityClass;
   /** Eigenvalues with a real part above the tolerance. */
   unstableCount: number;
   /** Newton iterations of the solve that produced this point. */
@@ -91,8 +72,8 @@ export interface Crossing {
   /** The eigenvalue at the crossing (from the side with more unstable eigenvalues). */
   eigenvalue: { re: number; im: number };
   /** Verdicts and unstable counts just before and after, in the direction of the sweep. */
-  before: Verdict;
-  after: Verdict;
+  before: StabilityClass;
+  after: StabilityClass;
   unstableBefore: number;
   unstableAfter: number;
   bisections: number;
@@ -131,134 +112,11 @@ export interface SweepResult {
   stats: { solves: number; linearizations: number; bisections: number };
 }
 
-const MAX_STEPS = 100000;
-
-// ---------------------------------------------------------------- validation of declared sweeps
-
-export interface DeclaredSweep {
-  block: A.SweepBlock;
-  spec?: SweepSpec;
-  diagnostics: Diagnostic[];
-}
-
-const kindWord: Record<string, string> = { const: 'a constant', input: 'an input', state: 'a state', var: 'a variable', output: 'an output' };
-
-/**
- * Checks the varied name against a point: returns a message when it cannot be swept there (it must be
- * a constant, or an input, state, var or output the point fixes with "=").
- */
-export function variedProblem(a: Analysis, point: string, name: string): string | undefined {
-  const s = a.bound.symbols.get(name);
-  if (!s) return `unknown name "${name}"`;
-  if (s.kind === 'const') return undefined;
-  const block = a.pointBlock(point);
-  if (!block) return `no point named "${point}"`;
-  const line = block.lines.find((l) => l.name.name === name);
-  if (!line || line.mode !== 'fixed') {
-    return `"${name}" is ${kindWord[s.kind]} that point "${point}" ${line ? 'solves for (written with "~")' : 'does not fix'}; vary a constant, or a value the point fixes with "=" (add "${name} = …" to the point).`;
-  }
-  return undefined;
-}
-
-function varSlot(a: Analysis, name: string): Slot | undefined {
-  const s = a.bound.symbols.get(name);
-  if (!s) return undefined;
-  const id = a.lowered.slotOf(s, 0);
-  return id >= 0 ? a.lowered.slots[id] : undefined;
-}
-
-/** The declared sweep blocks with their resolved specs and P602 problems (static: no solving). */
-export function declaredSweeps(a: Analysis): DeclaredSweep[] {
-  const out: DeclaredSweep[] = [];
-  for (const block of a.bound.sweeps) {
-    const ds: Diagnostic[] = [];
-    const res: DeclaredSweep = { block, diagnostics: ds };
-    out.push(res);
-    const name = block.name.name;
-    const v = block.vary;
-    // unknown points and names and unit mismatches are reported by the binder and unit checker (P213, P201, P308)
-    if (!name || !block.point || !v || !a.pointBlock(block.point.name)) continue;
-    const s = a.bound.symbols.get(v.name.name);
-    if (!s) continue;
-    const point = block.point.name;
-    const problem = variedProblem(a, point, v.name.name);
-    if (problem) {
-      ds.push(diag('P602', v.name.span, { name, detail: problem }, { data: { sweep: name, point, vary: v.name.name } }));
-      continue;
-    }
-    const slot = varSlot(a, v.name.name);
-    if (!slot) continue;
-    const pb = a.pointBlock(point)!;
-    let consts: Float64Array;
-    try {
-      consts = pointSetup(a.bound, a.lowered, pb).values;
-    } catch {
-      continue;
-    }
-    const bound = (e: A.Expr): number => {
-      const x = constExprValue(e, a.bound, a.lowered, consts);
-      return hasUnitLiteral(e) ? declaredValue(slot, x) : x;
-    };
-    const from = bound(v.from);
-    const to = bound(v.to);
-    const unit = slot.unit.text === '1' ? '' : ` [${slot.unit.text}]`;
-    const spanOf = (which: 'from' | 'to'): Span => (which === 'from' ? v.from.span : v.to.span);
-    let bad = false;
-    for (const [w, x] of [['from', from], ['to', to]] as const) {
-      if (!Number.isFinite(x)) {
-        ds.push(diag('P602', spanOf(w), { name, detail: `the ${w === 'from' ? 'start' : 'end'} value is not a finite number.` }));
-        bad = true;
-      } else if (v.log && x <= 0) {
-        ds.push(diag('P602', spanOf(w), { name, detail: `a "log" sweep needs values above zero, but the ${w === 'from' ? 'start' : 'end'} is ${formatNumber(x, 6)}${unit}; remove "log" or start above zero.` }));
-        bad = true;
-      }
-    }
-    if (!bad && from === to) {
-      ds.push(diag('P602', v.span, { name, detail: `the range is empty: it starts and ends at ${formatNumber(from, 6)}${unit}.` }));
-      bad = true;
-    }
-    if (v.steps > MAX_STEPS) {
-      ds.push(diag('P602', v.stepsSpan, { name, detail: `${v.steps} steps is too many; use at most ${MAX_STEPS}.` }));
-      bad = true;
-    }
-    if (!bad) res.spec = { name, point, vary: v.name.name, from, to, steps: v.steps, log: v.log };
-  }
-  return out;
-}
 
 /** Runs the declared sweep `name`; undefined when there is no such sweep or it has problems (see declaredSweeps). */
 export function runDeclaredSweep(a: Analysis, name: string, opts: SweepOptions = {}): SweepResult | undefined {
   const d = declaredSweeps(a).find((x) => x.block.name.name === name);
   return d && d.spec && !d.diagnostics.length ? runSweep(a, d.spec, opts) : undefined;
-}
-
-/** P602 diagnostics of every declared sweep (for the language server and `poise check`). */
-export function sweepDiagnostics(a: Analysis): Diagnostic[] {
-  return declaredSweeps(a).flatMap((d) => d.diagnostics);
-}
-
-/** What can be swept at a point (for an editor's pick list): constants and the values the point fixes, with a suggested range. */
-export function sweepCandidates(a: Analysis, point: string): { name: string; kind: string; unit: string; value: number; from: number; to: number }[] {
-  const block = a.pointBlock(point);
-  if (!block) return [];
-  let values: Float64Array;
-  try {
-    values = pointSetup(a.bound, a.lowered, block).values;
-  } catch {
-    return [];
-  }
-  const out: { name: string; kind: string; unit: string; value: number; from: number; to: number }[] = [];
-  const fixedFirst = [...a.bound.inputs, ...a.bound.states, ...a.bound.vars, ...a.bound.outputs, ...a.bound.consts];
-  for (const s of fixedFirst) {
-    if (variedProblem(a, point, s.name)) continue;
-    const slot = varSlot(a, s.name);
-    if (!slot) continue;
-    const v = declaredValue(slot, values[slot.id]);
-    if (!Number.isFinite(v)) continue;
-    const half = v !== 0 ? Math.abs(v) / 2 : 1;
-    out.push({ name: s.name, kind: s.kind, unit: slot.unit.text === '1' ? '' : slot.unit.text, value: v, from: v - half, to: v + half });
-  }
-  return out;
 }
 
 // ---------------------------------------------------------------- command-line requests
@@ -307,55 +165,18 @@ export function sweepRequest(a: Analysis, point: string, vary: string, log = fal
 
 // ---------------------------------------------------------------- analysis of one linear model
 
-/** Modes of a sorted eigenvalue list: complex pairs once (im > 0). */
-export function modesOf(eig: { re: number; im: number }[]): Mode[] {
-  const out: Mode[] = [];
-  for (const e of eig) {
-    if (e.im < 0) continue;
-    const mag = Math.hypot(e.re, e.im);
-    const pair = e.im > 0;
-    out.push({
-      re: e.re, im: e.im,
-      timeConstant: e.re === 0 ? null : 1 / Math.abs(e.re),
-      damping: pair ? -e.re / mag : null,
-      naturalFrequency: pair ? mag : null,
-    });
-  }
-  return out;
+/** Modes of a sorted eigenvalue list: complex pairs once (im > 0); a time constant wherever Re λ ≠ 0. */
+function modesOf(eig: { re: number; im: number }[]): SweepMode[] {
+  return eig.filter((e) => e.im >= 0).map((e) => {
+    const f = eigenFigures(e, e.re === 0);
+    return { re: e.re, im: e.im, timeConstant: f.timeConstant, damping: f.dampingRatio, naturalFrequency: f.naturalFrequency };
+  });
 }
 
 /** −C·A⁻¹·B + D (or −A⁻¹·B when there are no outputs); null when A is singular. */
-export function dcGain(lin: LinearModel): number[][] | null {
-  const { n, m, p } = lin;
-  if (m === 0) return (p > 0 ? new Array(p) : new Array(n)).fill(0).map(() => []);
-  if (n === 0) {
-    const out: number[][] = [];
-    for (let i = 0; i < p; i++) out.push(Array.from(lin.D.subarray(i * m, i * m + m)));
-    return out;
-  }
-  const lu = luFactor({ rows: n, cols: n, data: lin.A });
-  if (!lu.ok) return null;
-  const X: Float64Array[] = [];
-  const b = new Float64Array(n);
-  for (let j = 0; j < m; j++) {
-    for (let i = 0; i < n; i++) b[i] = lin.B[i * m + j];
-    X.push(lu.solve(b));
-  }
-  const out: number[][] = [];
-  if (p === 0) {
-    for (let i = 0; i < n; i++) out.push(X.map((x) => -x[i] + 0));
-    return out;
-  }
-  for (let i = 0; i < p; i++) {
-    const row: number[] = [];
-    for (let j = 0; j < m; j++) {
-      let s = lin.D[i * m + j];
-      for (let k = 0; k < n; k++) s -= lin.C[i * n + k] * X[j][k];
-      row.push(s);
-    }
-    out.push(row);
-  }
-  return out;
+function dcGain(lin: LinearModel): number[][] | null {
+  if (lin.m === 0) return new Array(lin.p > 0 ? lin.p : lin.n).fill(0).map(() => []);
+  return steadyStateGain(linearSystem(lin));
 }
 
 /**
@@ -381,12 +202,13 @@ function countAbove(eig: { re: number; im: number }[], tol: number): number {
   return k;
 }
 
-function classify(eig: { re: number; im: number }[], tol: number): { verdict: Verdict; unstable: number } {
+function classify(eig: { re: number; im: number }[], tol: number): { verdict: StabilityClass; unstable: number } {
   let unstable = 0;
   let marginal = 0;
   for (const e of eig) {
-    if (!(e.re <= tol)) unstable++; // NaN counts as unstable: nothing is known
-    else if (e.re >= -tol) marginal++;
+    const c = stabilityOf(e.re, tol); // NaN counts as unstable: nothing is known
+    if (c === 'unstable') unstable++;
+    else if (c === 'marginal') marginal++;
   }
   return { verdict: unstable ? 'unstable' : marginal ? 'marginal' : 'stable', unstable };
 }
@@ -401,7 +223,7 @@ interface State {
 interface Evaluated {
   lin: LinearModel;
   eig: { re: number; im: number }[];
-  verdict: Verdict;
+  verdict: StabilityClass;
   unstable: number;
   tol: number;
   fineTol: number;
@@ -752,88 +574,4 @@ function jacobianMeasure(a: Analysis, sol: PointSolution, ref?: JacobianMeasure)
   for (let j = 0; j < nU; j++) norm = Math.max(norm, colSum[j]);
   const cond = lu.conditionEstimate();
   return { rowScale, sigma: Number.isFinite(cond) && cond > 0 ? norm / cond : 0 };
-}
-
-// ---------------------------------------------------------------- output
-
-/** JSON-safe copy (non-finite numbers become null) with a schema tag. */
-export function sweepJson(r: SweepResult): unknown {
-  return JSON.parse(JSON.stringify({ schema: 'poise-sweep/1', ...r, diagnostics: r.diagnostics.map((d) => ({ code: d.code, severity: d.severity, message: d.message })) }, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v)));
-}
-
-const csvCell = (s: string) => (/[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s);
-const num = (v: number | null | undefined) => (v === null || v === undefined || Number.isNaN(v) ? '' : String(v));
-
-/** One row per swept value: value, verdict, the operating point, eigenvalues (re, im, τ, ζ) and DC gains. */
-export function sweepCsv(r: SweepResult): string {
-  const u = (x: string) => (x ? ` [${x}]` : '');
-  const n = r.states.length;
-  const head = [`${r.vary.name}${u(r.vary.unit)}`, 'stability', 'unstable_count'];
-  for (const c of r.columns) head.push(`${c.name}${u(c.unit)}`);
-  for (let k = 0; k < n; k++) head.push(`eig${k + 1}_re [1/${r.timeUnit}]`, `eig${k + 1}_im [1/${r.timeUnit}]`, `eig${k + 1}_tau [${r.timeUnit}]`, `eig${k + 1}_zeta`);
-  for (const row of r.gainRows) for (const inp of r.inputs) head.push(`gain ${row}/${inp}`);
-  const lines = [head.map(csvCell).join(',')];
-  for (const p of r.points) {
-    const cells = [num(p.value), p.stability, String(p.unstableCount), ...p.values.map(num)];
-    for (let k = 0; k < n; k++) {
-      const e = p.eigenvalues[k];
-      if (!e) {
-        cells.push('', '', '', '');
-        continue;
-      }
-      const mag = Math.hypot(e.re, e.im);
-      cells.push(num(e.re), num(e.im), e.re === 0 ? '' : num(1 / Math.abs(e.re)), e.im === 0 ? '' : num(-e.re / mag));
-    }
-    for (let i = 0; i < r.gainRows.length; i++) for (let j = 0; j < r.inputs.length; j++) cells.push(p.dcGain ? num(p.dcGain[i]?.[j]) : '');
-    lines.push(cells.join(','));
-  }
-  return lines.join('\n') + '\n';
-}
-
-function eigText(eig: { re: number; im: number }[], digits: number, max = 4): string {
-  if (!eig.length) return '(none)';
-  // the ones nearest instability first
-  const shown: string[] = [];
-  const sorted = [...eig].filter((e) => e.im >= 0).sort((x, y) => y.re - x.re);
-  for (const e of sorted.slice(0, max)) shown.push(e.im === 0 ? formatNumber(e.re, digits) : `${formatNumber(e.re, digits)} ± ${formatNumber(e.im, digits)}i`);
-  if (sorted.length > max) shown.push(`… ${sorted.length - max} more`);
-  return shown.join(', ');
-}
-
-/** Plain-text table of a sweep, with the stability changes and where it stopped. */
-export function formatSweepText(r: SweepResult, digits = 5): string {
-  const u = (x: string) => (x ? ` [${x}]` : '');
-  const out: string[] = [];
-  const title = r.name ? `Sweep ${r.name} from point ${r.point}` : `Sweep from point ${r.point}`;
-  out.push(`${title}: ${r.vary.name} from ${formatNumber(r.vary.from, 6)} to ${formatNumber(r.vary.to, 6)}${u(r.vary.unit)}, ${r.vary.steps + 1} values (${r.vary.log ? 'logarithmic' : 'linear'} spacing), time in ${r.timeUnit}`);
-  const shownCols = r.columns.map((c, i) => ({ c, i })).filter(({ c }) => c.name !== r.vary.name).slice(0, 6);
-  const headers = [`${r.vary.name}${u(r.vary.unit)}`, 'stability', `eigenvalues [1/${r.timeUnit}] (largest real part first)`, `slowest τ [${r.timeUnit}]`, 'min ζ', ...shownCols.map(({ c }) => `${c.name}${u(c.unit)}`)];
-  const rows: string[][] = r.points.map((p) => {
-    const timed = p.modes.filter((m) => m.timeConstant !== null);
-    const slow = timed.length ? Math.max(...timed.map((m) => m.timeConstant!)) : NaN;
-    const pairs = p.modes.filter((m) => m.im > 0 && m.damping !== null);
-    const zmin = pairs.length ? Math.min(...pairs.map((m) => m.damping!)) : NaN;
-    return [
-      formatNumber(p.value, 6), p.stability, eigText(p.eigenvalues, digits), Number.isNaN(slow) ? '-' : formatNumber(slow, digits), Number.isNaN(zmin) ? '-' : formatNumber(zmin, digits),
-      ...shownCols.map(({ i }) => formatNumber(p.values[i], digits)),
-    ];
-  });
-  const w = headers.map((h, j) => Math.max(h.length, ...rows.map((row) => row[j].length)));
-  out.push('  ' + headers.map((h, j) => h.padEnd(w[j])).join('  ').trimEnd());
-  for (const row of rows) out.push('  ' + row.map((c, j) => (j === 1 || j === 2 ? c.padEnd(w[j]) : c.padStart(w[j]))).join('  ').trimEnd());
-  if (r.columns.length - 1 > shownCols.length) out.push(`  (${r.columns.length - 1 - shownCols.length} more variables in --format json or csv)`);
-  if (r.inputs.length && r.gainRows.length && r.points.length) {
-    const last = r.points[r.points.length - 1];
-    const first = r.points[0];
-    const g = (p: SweepPoint) => (p.dcGain ? p.dcGain.map((row, i) => row.map((v, j) => `${r.gainRows[i]}/${r.inputs[j]} ${formatNumber(v, digits)}`).join(', ')).join(', ') : 'none (A is singular: an integrator)');
-    out.push('', `DC gains at ${formatNumber(first.value, 6)}: ${g(first)}`, `DC gains at ${formatNumber(last.value, 6)}: ${g(last)}`);
-  }
-  out.push('');
-  if (r.crossings.length) {
-    out.push('Stability changes:');
-    for (const c of r.crossings) out.push('  ' + c.message);
-  } else out.push('No stability change over the points computed.');
-  if (r.stop) out.push('', `Stopped: ${r.stop.message}`);
-  out.push('', 'Each row is a linear model valid only near its own operating point; check conclusions on the nonlinear model and the plant.');
-  return out.join('\n');
 }

@@ -10,7 +10,7 @@ import { declaredValue, deviationEquations, linearize, type DeviationEquation, t
 import { lower, type LoweredModel } from '../model/model';
 import { parse, type ParseResult } from '../syntax/parser';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
-import { sweepDiagnostics } from '../analysis/sweep';
+import { sweepDiagnostics } from './sweepChecks';
 import { checkStructure, type StructureResult } from '../model/structure';
 import { LineMap } from '../text';
 import { checkUnits, type UnitFacts } from '../semantics/unitChecker';

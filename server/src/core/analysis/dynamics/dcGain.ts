@@ -5,26 +5,14 @@ import { perUnit } from './system';
 import { evaluateFactored } from './transfer';
 
 export function dcGains(sys: LinearSystem, tfs: TransferFunction[], modes: Mode[]): DcGain {
-  const { n, m, p } = sys;
+  const { m, p } = sys;
   const units: string[][] = [];
   for (let i = 0; i < p; i++) units.push(sys.inputUnits.map((u) => perUnit(sys.outputUnits[i], u)));
   const gain: (number | null)[][] = Array.from({ length: p }, () => new Array<number | null>(m).fill(null));
   const hasIntegrator = modes.some((md) => md.kind === 'integrator');
   if (!hasIntegrator) {
-    const lu = n ? luFactor({ rows: n, cols: n, data: sys.A }) : undefined;
-    if (!lu || lu.ok) {
-      for (let j = 0; j < m; j++) {
-        const bj = new Float64Array(n);
-        for (let k = 0; k < n; k++) bj[k] = sys.B[k * m + j];
-        const x = lu ? lu.solve(bj) : bj;
-        for (let i = 0; i < p; i++) {
-          let g = sys.D[i * m + j];
-          for (let k = 0; k < n; k++) g -= sys.C[i * n + k] * x[k];
-          gain[i][j] = g;
-        }
-      }
-      return { gain, units, integrating: [], method: 'solve' };
-    }
+    const g = steadyStateGain(sys);
+    if (g) return { gain: g, units, integrating: [], method: 'solve' };
   }
   const integrating: IntegratingPair[] = [];
   const rho = modes.reduce((a, md) => Math.max(a, Math.hypot(md.re, md.im)), 0);
@@ -47,4 +35,23 @@ export function dcGains(sys: LinearSystem, tfs: TransferFunction[], modes: Mode[
     });
   }
   return { gain, units, integrating, method: 'per-pair' };
+}
+
+/** −C·A⁻¹·B + D by one LU factorisation of A (p×m, output-unit per input-unit); null when A is singular. */
+export function steadyStateGain(sys: Pick<LinearSystem, 'n' | 'm' | 'p' | 'A' | 'B' | 'C' | 'D'>): number[][] | null {
+  const { n, m, p } = sys;
+  const lu = n ? luFactor({ rows: n, cols: n, data: sys.A }) : undefined;
+  if (lu && !lu.ok) return null;
+  const gain: number[][] = Array.from({ length: p }, () => new Array<number>(m).fill(0));
+  for (let j = 0; j < m; j++) {
+    const bj = new Float64Array(n);
+    for (let k = 0; k < n; k++) bj[k] = sys.B[k * m + j];
+    const x = lu ? lu.solve(bj) : bj;
+    for (let i = 0; i < p; i++) {
+      let g = sys.D[i * m + j];
+      for (let k = 0; k < n; k++) g -= sys.C[i * n + k] * x[k];
+      gain[i][j] = g;
+    }
+  }
+  return gain;
 }

@@ -1,0 +1,32 @@
+/**
+ * What the `poise` subcommands share with the command's entry (main.ts): the output streams, the parsed
+ * command line, the usage error and the helpers main.ts hands to each subcommand. Kept apart so that the
+ * subcommands (report.ts, sweep.ts) do not import main.ts, which imports them.
+ */
+import type { Analysis } from '../core/pipeline/analysis';
+
+export interface Io {
+  out(s: string): void;
+  err(s: string): void;
+}
+
+export interface Parsed {
+  cmd: string;
+  files: string[];
+  opts: Map<string, string | true>;
+}
+
+/** A mistake on the command line: one message on stderr, exit code 2. */
+export class UsageError extends Error {}
+
+export interface CliHelpers {
+  /** The text of a model file; a UsageError when it cannot be read. */
+  readModel(file: string): string;
+  /** Loads, analyses and picks the point; prints errors and returns undefined when the job cannot go on. */
+  prepare(file: string, pointName: string | undefined, io: Io): { a: Analysis; point: string } | undefined;
+  /** The value of an option; a UsageError when it was given without one. */
+  opt(p: Parsed, name: string): string | undefined;
+  /** The one model file of the command; a UsageError otherwise. */
+  oneFile(p: Parsed): string;
+  UsageError: typeof UsageError;
+}
