@@ -5,6 +5,10 @@
  * model text they came from (for domain errors).
  */
 import type { Span } from '../text';
+import { formatNumber } from '../numbers';
+
+/** Numbers are written by the one formatter of the core (core/numbers.ts). */
+export { formatNumber };
 
 export type Node = Num | Sym | Add | Mul | Pow | Fn;
 export interface Num { t: 'num'; v: number; src?: Span }
@@ -402,16 +406,6 @@ export interface PrintOptions {
    * -v0^2 + 1) and a coefficient 1/k with a whole k ≥ 2 as a division (kv/(2*area) rather than 0.5*kv/area).
    */
   readable?: boolean;
-}
-
-export function formatNumber(v: number, digits?: number): string {
-  if (!Number.isFinite(v)) return String(v);
-  if (digits === undefined) return String(v);
-  if (v === 0) return '0';
-  const s = Number(v.toPrecision(digits));
-  const a = Math.abs(s);
-  if (a >= 1e-4 && a < 1e7) return String(s);
-  return s.toExponential().replace(/\.?0+e/, 'e').replace('e+', 'e');
 }
 
 /** Binding strength of printed text (see printPrec): a sum binds weakest, an atom (number, name, call) strongest. */

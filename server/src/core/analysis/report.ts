@@ -10,7 +10,7 @@ import {
   analyzeDynamics, frequencyGrid, frequencyResponse,
   type Complex, type DcGain, type FrequencyResponse, type Horizon, type Mode, type RankTest, type StabilityVerdict, type TransferFunction,
 } from './dynamics';
-import { declaredValue } from '../solve/linearizer';
+import { declaredValue, type LinearSignals } from '../solve/linearizer';
 import { linearStepResponse } from '../numeric/expm';
 import { Simulator } from './simulate';
 
@@ -105,7 +105,7 @@ export interface ValidityReport {
   note?: string;
 }
 
-export interface ReportData {
+export interface ReportData extends LinearSignals {
   format: 'poise-report/1';
   title: string;
   point: string;
@@ -114,12 +114,6 @@ export interface ReportData {
   ok: boolean;
   problems: string[];
   values: ValueRow[];
-  states: string[];
-  inputs: string[];
-  outputs: string[];
-  stateUnits: string[];
-  inputUnits: string[];
-  outputUnits: string[];
   outputsAreStates: boolean;
   matrices: { A: number[][]; B: number[][]; C: number[][]; D: number[][] } | null;
   stability: StabilityVerdict | null;

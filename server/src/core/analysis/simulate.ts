@@ -22,6 +22,8 @@ import type { LoweredModel } from '../model/model';
 import { integrateStiff } from '../numeric/ode';
 import { sparseLU, type SparseLUResult } from '../numeric/sparseLU';
 import { pointChecks } from '../solve/pointSolver';
+import { formatShort } from '../numbers';
+import { unitText } from '../semantics/units';
 
 export interface StepOptions {
   /** Input steps (deviations) in each input's declared unit, in input order. */
@@ -279,7 +281,7 @@ export class Simulator {
       if (s.order !== 0 || s.kind === 'deriv') continue;
       const b = this.base[id];
       const x = bad[id];
-      if (b > 0 && x < 0) crossed.push(`${s.name} fell below zero (${fmtV((x - s.offset) / s.scale)}${s.unit.text && s.unit.text !== '1' ? ' ' + s.unit.text : ''})`);
+      if (b > 0 && x < 0) crossed.push(`${s.name} fell below zero (${formatShort((x - s.offset) / s.scale)}${unitText(s.unit.text) ? ' ' + s.unit.text : ''})`);
     }
     if (crossed.length) parts.push(crossed.slice(0, 3).join(', '));
     return parts.join('; ');
@@ -375,7 +377,7 @@ export class Simulator {
     }
     return {
       status: 'failed', t: tOut, states, outputs, reached, stats,
-      message: `The nonlinear integration stopped at t = ${fmtV(reached)} ${lm.timeUnit || 's'}: ${sol.message ?? 'the algebraic equations could not be solved'}.`,
+      message: `The nonlinear integration stopped at t = ${formatShort(reached)} ${lm.timeUnit || 's'}: ${sol.message ?? 'the algebraic equations could not be solved'}.`,
     };
   }
 
@@ -408,7 +410,7 @@ export class Simulator {
 
   private domainMessage(t: number): string {
     const d = this.domainDetail();
-    return `The step drives the model out of its domain near t = ${fmtV(t)} ${this.lm.timeUnit || 's'}${d ? `: ${d}` : ''}.`;
+    return `The step drives the model out of its domain near t = ${formatShort(t)} ${this.lm.timeUnit || 's'}${d ? `: ${d}` : ''}.`;
   }
 }
 
@@ -441,8 +443,6 @@ function allFinite(a: Float64Array): boolean {
   for (let i = 0; i < a.length; i++) if (!Number.isFinite(a[i])) return false;
   return true;
 }
-
-const fmtV = (v: number) => (v === 0 ? '0' : Math.abs(v) >= 1e-3 && Math.abs(v) < 1e6 ? String(Number(v.toPrecision(4))) : v.toExponential(3));
 
 /** A simulator for a solved point of an analysis; undefined when the point does not solve. */
 export function createSimulator(a: Analysis, point: string): Simulator | undefined {

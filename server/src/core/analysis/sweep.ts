@@ -21,7 +21,7 @@ import { steadyStateGain } from './dynamics/dcGain';
 import { eigenvalues, sortEigen } from '../numeric/eigen';
 import { sparseLU } from '../numeric/sparseLU';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
-import { dimsEqual, parseUnit } from '../semantics/units';
+import { dimsEqual, parseUnit, unitSuffix, unitText } from '../semantics/units';
 import { MAX_STEPS, declaredSweeps, varSlot, variedProblem, type SweepSpec } from '../pipeline/sweepChecks';
 // declared sweeps are checked in the pipeline; re-exported for the shells
 export { MAX_STEPS, declaredSweeps, sweepCandidates, sweepDiagnostics, variedProblem, type DeclaredSweep, type SweepSpec } from '../pipeline/sweepChecks';
@@ -246,19 +246,19 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
   const lm = a.lowered;
   const slot = varSlot(a, spec.vary);
   const timeUnit = lm.timeUnit || 's';
-  const columns = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => ({ name: s.name, unit: s.unit.text === '1' ? '' : s.unit.text, kind: s.kind === 'deriv' ? 'state' : s.kind }));
+  const columns = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => ({ name: s.name, unit: unitText(s.unit.text), kind: s.kind === 'deriv' ? 'state' : s.kind }));
   const colSlots = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => s.id);
   const outputs = lm.slots.filter((s) => s.kind === 'output').map((s) => s.name);
   const states = lm.stateComponents.map((s) => lm.slots[s].name);
   const result: SweepResult = {
     name: spec.name, point: spec.point,
-    vary: { name: spec.vary, kind: slot ? slot.kind : '?', unit: slot && slot.unit.text !== '1' ? slot.unit.text : '', from: spec.from, to: spec.to, steps: spec.steps, log: !!spec.log },
+    vary: { name: spec.vary, kind: slot ? slot.kind : '?', unit: slot ? unitText(slot.unit.text) : '', from: spec.from, to: spec.to, steps: spec.steps, log: !!spec.log },
     timeUnit, columns, states, inputs: lm.inputs.map((s) => lm.slots[s].name), outputs,
     gainRows: outputs.length ? outputs : states,
     points: [], crossings: [], complete: false, diagnostics: [], stats: { solves: 0, linearizations: 0, bisections: 0 },
   };
-  const unitText = result.vary.unit ? ` [${result.vary.unit}]` : '';
-  const fmt = (v: number) => `${formatNumber(v, 6)}${unitText}`;
+  const varyUnit = unitSuffix(result.vary.unit);
+  const fmt = (v: number) => `${formatNumber(v, 6)}${varyUnit}`;
   const block = a.pointBlock(spec.point);
   const rangeProblem =
     !Number.isInteger(spec.steps) || spec.steps < 1 || spec.steps > MAX_STEPS ? `the number of steps must be a whole number from 1 to ${MAX_STEPS}.`
@@ -466,7 +466,7 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
       ? `a complex pair crosses the imaginary axis at ±${formatNumber(pick.im, 6)} rad/${timeUnit} (${formatNumber(pick.im / (2 * Math.PI), 6)} cycles/${timeUnit})`
       : 'a real eigenvalue crosses zero';
     const side = intoRight ? 'into the right half-plane' : 'into the left half-plane';
-    const message = `${spec.vary} = ${fmt(at)}: ${what} ${side} as ${spec.vary} ${dir} (${ea.verdict} → ${eb.verdict}; located by bisection to ±${formatNumber(Math.abs(pb - pa) / 2, 2)}${unitText})${note}`;
+    const message = `${spec.vary} = ${fmt(at)}: ${what} ${side} as ${spec.vary} ${dir} (${ea.verdict} → ${eb.verdict}; located by bisection to ±${formatNumber(Math.abs(pb - pa) / 2, 2)}${varyUnit})${note}`;
     result.crossings.push({
       kind: complex ? 'complex' : 'real', at, lower: Math.min(pa, pb), upper: Math.max(pa, pb),
       frequency: complex ? pick.im : undefined, eigenvalue: pick,

@@ -23,6 +23,7 @@ import * as E from '../algebra/expr';
 import { compileModel } from '../model/jacobian';
 import type { LinearModel } from '../solve/linearizer';
 import type { LoweredModel, Slot } from '../model/model';
+import { unitText } from '../semantics/units';
 
 export interface SymbolicOptions {
   /** Largest formula kept, in expression nodes (default 250). */
@@ -428,7 +429,7 @@ function build(a: Analysis, si: Float64Array, lin: LinearModel, opts: SymbolicOp
   const symbols: SymbolInfo[] = [];
   for (const s of slots) {
     if (!usedIds.has(s.id)) continue;
-    symbols.push({ name: names.get(s.id)!, of: s.name, kind: s.kind === 'const' ? 'const' : 'value', value: decl[s.id], unit: s.unit.text === '1' ? '' : s.unit.text });
+    symbols.push({ name: names.get(s.id)!, of: s.name, kind: s.kind === 'const' ? 'const' : 'value', value: decl[s.id], unit: unitText(s.unit.text) });
   }
   const tooLarge = [...A, ...B, ...C, ...D].filter((e) => !e.formula).length;
   const assumes = `Symbols stand for values in their declared units (constants by name, NAME0 = value of NAME at point ${lin.point}); coefficients are in the declared units of the variables, time in ${lin.timeUnit}; unit conversion factors appear as numbers.`;
@@ -441,8 +442,8 @@ const paren = (u: string) => (/[*/ ^]/.test(u) ? `(${u})` : u);
 
 /** Unit of a coefficient: unit of the row quantity over the unit of the column variable. */
 export function coefficientUnit(rowUnit: string, colUnit: string, perTime?: string): string {
-  const r = rowUnit && rowUnit !== '1' ? rowUnit : '';
-  const c = colUnit && colUnit !== '1' ? colUnit : '';
+  const r = unitText(rowUnit);
+  const c = unitText(colUnit);
   const den: string[] = [];
   if (perTime) den.push(paren(perTime));
   if (c && c !== r) den.push(paren(c));

@@ -14,6 +14,7 @@ import { sweepDiagnostics } from './sweepChecks';
 import { checkStructure, type StructureResult } from '../model/structure';
 import { LineMap } from '../text';
 import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
+import { unitText } from '../semantics/units';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;
@@ -105,7 +106,7 @@ export class Analysis {
         name: s.name,
         kind: s.kind === 'deriv' ? 'state' : (s.kind as VariableValue['kind']),
         value: declaredValue(s, sol.values[s.id]),
-        unit: s.unit.text === '1' ? '' : s.unit.text,
+        unit: unitText(s.unit.text),
         role: s.kind === 'const' ? 'constant' : sol.fixed.has(s.id) ? 'fixed' : 'solved',
       });
     }

@@ -12,6 +12,7 @@ import { declaredValue } from '../solve/linearizer';
 import { pointSetup } from '../solve/pointSolver';
 import type { Span } from '../text';
 import { hasUnitLiteral } from '../semantics/unitChecker';
+import { unitSuffix, unitText } from '../semantics/units';
 
 /** What a sweep check needs of an analysis (an `Analysis` is one). */
 export interface SweepContext {
@@ -102,7 +103,7 @@ export function declaredSweeps(a: SweepContext): DeclaredSweep[] {
     };
     const from = bound(v.from);
     const to = bound(v.to);
-    const unit = slot.unit.text === '1' ? '' : ` [${slot.unit.text}]`;
+    const unit = unitSuffix(slot.unit.text);
     const spanOf = (which: 'from' | 'to'): Span => (which === 'from' ? v.from.span : v.to.span);
     let bad = false;
     for (const [w, x] of [['from', from], ['to', to]] as const) {
@@ -151,7 +152,7 @@ export function sweepCandidates(a: SweepContext, point: string): { name: string;
     const v = declaredValue(slot, values[slot.id]);
     if (!Number.isFinite(v)) continue;
     const half = v !== 0 ? Math.abs(v) / 2 : 1;
-    out.push({ name: s.name, kind: s.kind, unit: slot.unit.text === '1' ? '' : slot.unit.text, value: v, from: v - half, to: v + half });
+    out.push({ name: s.name, kind: s.kind, unit: unitText(slot.unit.text), value: v, from: v - half, to: v + half });
   }
   return out;
 }

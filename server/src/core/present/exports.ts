@@ -10,6 +10,7 @@ import { formatNumber } from '../algebra/expr';
 import { linearEigen, linearJson, rows, type LinearJson } from './format';
 import { deviationEquations, type LinearModel } from '../solve/linearizer';
 import { coefficientUnit } from '../analysis/symbolic';
+import { unitText } from '../semantics/units';
 
 export const EXPORT_FORMATS = ['json', 'csv', 'markdown', 'latex', 'numpy'] as const;
 export type ExportFormat = (typeof EXPORT_FORMATS)[number];
@@ -57,7 +58,7 @@ function jsonNumbers(_k: string, v: unknown): unknown {
 }
 
 const fmt = (v: number, o: ExportOptions) => (o.digits === undefined ? String(v) : formatNumber(v, o.digits));
-const u1 = (u: string) => (u === '1' ? '' : u);
+const u1 = unitText;
 
 interface Matrix {
   name: 'A' | 'B' | 'C' | 'D';

@@ -6,6 +6,7 @@ import type { Analysis, VariableValue } from '../pipeline/analysis';
 import { formatNumber } from '../algebra/expr';
 import type { DeviationEquation, LinearModel } from '../solve/linearizer';
 import { eigenvalues, sortEigen } from '../numeric/eigen';
+import { unitSuffix, unitText } from '../semantics/units';
 
 export interface LinearJson {
   point: string;
@@ -53,7 +54,7 @@ export function linearJson(lin: LinearModel, values: VariableValue[], eqs: Devia
   };
 }
 
-const u1 = (u: string) => (u === '1' ? '' : u);
+const u1 = unitText;
 
 export function formatValues(values: VariableValue[], digits = 6, withConstants = false): string {
   const shown = values.filter((v) => withConstants || v.kind !== 'const');
@@ -86,9 +87,9 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   out.push('Deviation equations (Δx = x − x at the point):');
   for (const e of eqs) out.push('  ' + e.text);
   out.push('');
-  const sn = lin.states.map((s, i) => `Δ${s}${lin.stateUnits[i] && lin.stateUnits[i] !== '1' ? ` [${lin.stateUnits[i]}]` : ''}`);
-  const inn = lin.inputs.map((s, i) => `Δ${s}${lin.inputUnits[i] && lin.inputUnits[i] !== '1' ? ` [${lin.inputUnits[i]}]` : ''}`);
-  const on = lin.outputs.map((s, i) => `Δ${s}${lin.outputUnits[i] && lin.outputUnits[i] !== '1' ? ` [${lin.outputUnits[i]}]` : ''}`);
+  const sn = lin.states.map((s, i) => `Δ${s}${unitSuffix(lin.stateUnits[i])}`);
+  const inn = lin.inputs.map((s, i) => `Δ${s}${unitSuffix(lin.inputUnits[i])}`);
+  const on = lin.outputs.map((s, i) => `Δ${s}${unitSuffix(lin.outputUnits[i])}`);
   out.push(formatMatrix('A', lin.A, lin.n, lin.n, sn, sn, digits));
   out.push(formatMatrix('B', lin.B, lin.n, lin.m, sn, inn, digits));
   out.push(formatMatrix('C', lin.C, lin.p, lin.n, on, sn, digits));

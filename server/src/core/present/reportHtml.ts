@@ -8,7 +8,8 @@
 import { formatNumber } from '../algebra/expr';
 import type { Complex, TransferFunction } from '../analysis/dynamics';
 import type { ReportData, StepReport, ValidityLimit, ValidityReport } from '../analysis/report';
-import { chart, esc, htmlPage, legend, linRange, num, r1, resetCharts, type AxisSpec, type Series } from './svgCharts';
+import { chart, esc, htmlPage, legend, linRange, num, newPage, r1, type AxisSpec, type PageContext, type Series } from './svgCharts';
+import { unitSuffix } from '../semantics/units';
 
 export interface RenderOptions {
   /** Nonce for the inline style and script (webview). */
@@ -20,7 +21,7 @@ export interface RenderOptions {
 // ------------------------------------------------------------------------------------- text helpers
 
 const unitTxt = (u: string) => (u ? ` <span class="unit">${esc(u)}</span>` : '');
-const bracket = (u: string) => (u ? ` [${u}]` : '');
+const bracket = unitSuffix;
 
 function complexHtml(c: Complex, d = 4): string {
   if (c.im === 0) return num(c.re, d);
@@ -97,7 +98,7 @@ function verdictBadge(d: ReportData): string {
   return `<span class="badge ${v}">${v}</span>`;
 }
 
-function sectionModes(d: ReportData): string {
+function sectionModes(page: PageContext, d: ReportData): string {
   const t = d.timeUnit;
   const st = d.stability!;
   const body = d.modes
@@ -115,7 +116,7 @@ function sectionModes(d: ReportData): string {
 <p class="verdict">${verdictBadge(d)} ${esc(st.reason)}</p>
 <p class="note">Eigenvalues λ of A in 1/${esc(t)}. τ = 1/|Re λ| (for a growing mode: the time to grow by a factor e); ωn = |λ|, ζ = −Re λ/|λ| for complex pairs. |Re λ| ≤ ${num(st.tolerance, 2)} counts as on the imaginary axis (10<sup>−9</sup> of the spectral radius ${num(st.spectralRadius)}). Participation factors |v<sub>ik</sub>w<sub>ik</sub>| (right and left eigenvectors) show which states a mode lives in.</p>
 ${d.modes.length ? `<div class="scroll"><table class="data"><thead><tr><th class="num">#</th><th class="num">λ [1/${esc(t)}]</th><th>kind</th><th class="num">τ [${esc(t)}]</th><th class="num">ωn [rad/${esc(t)}]</th><th class="num">ζ</th><th class="num">period [${esc(t)}]</th><th>lives in</th><th>controllable</th><th>observable</th><th></th></tr></thead><tbody>${body}</tbody></table></div>` : '<p>The model has no states.</p>'}
-${d.modes.length ? poleZeroMap(d) : ''}
+${d.modes.length ? poleZeroMap(page, d) : ''}
 </section>`;
 }
 
@@ -128,7 +129,7 @@ const KIND_WORDS: Record<string, (re: number) => string> = {
 
 const flag = (b: boolean) => (b ? '<span class="yes">yes</span>' : '<span class="no">no</span>');
 
-function poleZeroMap(d: ReportData): string {
+function poleZeroMap(page: PageContext, d: ReportData): string {
   const t = d.timeUnit;
   const pts: Complex[] = [...d.eigenvalues];
   const zeroSets = d.transfer.filter((tf) => tf.zeros.length).slice(0, 6);
@@ -159,7 +160,7 @@ function poleZeroMap(d: ReportData): string {
   }
   const series: Series[] = [{ kind: 'poles', cls: 's0', x: d.eigenvalues.map((e) => e.re), y: d.eigenvalues.map((e) => e.im), label: 'eigenvalues (poles)' }];
   zeroSets.forEach((tf, k) => series.push({ kind: 'zeros', cls: `s${(k % 6) + 1}`, x: tf.zeros.map((z) => z.re), y: tf.zeros.map((z) => z.im), label: `zeros ${pairTitle(tf.input, tf.output)}` }));
-  const svg = chart({
+  const svg = chart(page, {
     id: 'pz', x, y, series, height: 300, title: 'Pole–zero map',
     xspans: [{ x0: 0, x1: x.max, cls: 'rhp' }], vlines: [{ x: 0, cls: 'axis0' }], hlines: [{ y: 0, cls: 'axis0' }],
   });
@@ -215,7 +216,7 @@ ${d.inputs.length ? items || '<p>No pairs.</p>' : '<p>The model has no inputs.</
 </section>`;
 }
 
-function sectionBode(d: ReportData): string {
+function sectionBode(page: PageContext, d: ReportData): string {
   const fr = d.frequency!;
   const t = d.timeUnit;
   const pairs = fr.pairs.filter((p) => p.magnitudeDb.some((v) => v !== null));
@@ -242,8 +243,8 @@ function sectionBode(d: ReportData): string {
       }
       const x: AxisSpec = { kind: 'log', min: omega[0], max: omega[omega.length - 1], label: `angular frequency ω [rad/${t}]` };
       const cls = `s${(k % 6) + 1}`;
-      const mg = chart({ id: 'bm', x, y: ym, series: [{ kind: 'line', cls, x: omega, y: p.magnitudeDb }], height: 200, title: 'magnitude' });
-      const pg = chart({ id: 'bp', x, y: yp, series: [{ kind: 'line', cls, x: omega, y: p.phaseDeg }], height: 180, title: 'phase' });
+      const mg = chart(page, { id: 'bm', x, y: ym, series: [{ kind: 'line', cls, x: omega, y: p.magnitudeDb }], height: 200, title: 'magnitude' });
+      const pg = chart(page, { id: 'bp', x, y: yp, series: [{ kind: 'line', cls, x: omega, y: p.phaseDeg }], height: 180, title: 'phase' });
       return `<figure class="chart card"><figcaption class="cardhead">${esc(pairTitle(p.input, p.output))}</figcaption>${mg}${pg}</figure>`;
     })
     .join('');
@@ -253,7 +254,7 @@ function sectionBode(d: ReportData): string {
 ${cards ? `<div class="grid">${cards}</div>` : '<p>No input reaches an output.</p>'}</section>`;
 }
 
-function stepCharts(d: ReportData, s: StepReport): string {
+function stepCharts(page: PageContext, d: ReportData, s: StepReport): string {
   const t = d.timeUnit;
   let outs = s.outputs.filter((o) => o.linked);
   if (!outs.length) return '<p class="muted">No output responds to this input in the linear model.</p>';
@@ -275,12 +276,12 @@ function stepCharts(d: ReportData, s: StepReport): string {
         { kind: 'dash', cls: 's2', x: [0, ...s.t], y: [0, ...o.linear] },
       ];
       const vlines = failT !== undefined ? [{ x: failT, cls: 'fail', label: 'nonlinear stops' }] : [];
-      return `<figure class="chart card">${chart({ id: 'st', x: linRange(s.t, `time [${t}]`, { exact: true }), y, series, height: 230, title: `Δ${o.name}${o.error !== null ? ` — linear differs by ${pctPlain(o.error)} of the change` : ''}`, vlines, hlines: [{ y: 0, cls: 'axis0' }] })}</figure>`;
+      return `<figure class="chart card">${chart(page, { id: 'st', x: linRange(s.t, `time [${t}]`, { exact: true }), y, series, height: 230, title: `Δ${o.name}${o.error !== null ? ` — linear differs by ${pctPlain(o.error)} of the change` : ''}`, vlines, hlines: [{ y: 0, cls: 'axis0' }] })}</figure>`;
     })
     .join('');
 }
 
-function sectionSteps(d: ReportData): string {
+function sectionSteps(page: PageContext, d: ReportData): string {
   const t = d.timeUnit;
   const h = d.horizon!;
   const blocks = d.steps
@@ -290,7 +291,7 @@ function sectionSteps(d: ReportData): string {
         : `<span class="badge unstable">${s.status === 'domain' ? 'out of domain' : 'failed'}</span>`;
       return `<div class="stepblock"><h3>Step of ${num(s.step)}${unitTxt(s.inputUnit)} in ${esc(s.input)} <span class="muted">(${num(s.stepPercent, 3)} % of ${s.percentBasis === 'unit' ? 'one unit' : 'the operating value'}, from ${num(s.operatingValue)}${unitTxt(s.inputUnit)})</span> ${status}</h3>
 ${s.message ? `<p class="warnmsg">${esc(s.message)}</p>` : ''}
-<div class="grid">${stepCharts(d, s)}</div></div>`;
+<div class="grid">${stepCharts(page, d, s)}</div></div>`;
     })
     .join('');
   return `<section id="steps"><h2>Step responses: linear versus nonlinear</h2>
@@ -314,7 +315,7 @@ const LIMIT_WORDS: Record<ValidityLimit['limitedBy'], string> = {
   'time budget': 'time budget (range at least this wide)',
 };
 
-function sectionValidity(d: ReportData): string {
+function sectionValidity(page: PageContext, d: ReportData): string {
   if (!d.validity) return '';
   const rowsHtml = d.validity
     .map((v) => {
@@ -345,7 +346,7 @@ function sectionValidity(d: ReportData): string {
       ];
       if (dom.length) series.push({ kind: 'crosses', cls: 'failc', x: dom.map((s) => s.step), y: dom.map(() => ymax / 1.6) });
       const spans = [{ x0: v.down && v.down.step > 0 ? -v.down.step : 0, x1: v.up ? v.up.step : 0, cls: 'validspan' }];
-      const svg = chart({ id: 'va', x, y, series, height: 240, title: `${v.input}: where the linear model holds`, xspans: spans, hlines: [{ y: v.tolerance * 100, cls: 'tol', label: `tolerance ${formatNumber(100 * v.tolerance, 3)} %` }], vlines: [{ x: 0, cls: 'axis0' }] });
+      const svg = chart(page, { id: 'va', x, y, series, height: 240, title: `${v.input}: where the linear model holds`, xspans: spans, hlines: [{ y: v.tolerance * 100, cls: 'tol', label: `tolerance ${formatNumber(100 * v.tolerance, 3)} %` }], vlines: [{ x: 0, cls: 'axis0' }] });
       const items: { cls: string; kind: Series['kind']; label: string }[] = [
         { cls: `s${(k % 6) + 1}`, kind: 'dots', label: 'simulated step' },
         { cls: 'validspan', kind: 'band', label: 'valid range' },
@@ -366,12 +367,12 @@ function cautionsBox(d: ReportData, cls: string): string {
 }
 
 export function renderReportHtml(data: ReportData, opts: RenderOptions = {}): string {
-  resetCharts();
+  const page = newPage();
   const sections: string[] = [];
   if (!data.ok) {
     sections.push(`<section><h2>No report</h2><p>The report could not be made for this point:</p><ul class="problems">${data.problems.map((p) => `<li>${esc(p)}</li>`).join('')}</ul></section>`);
   } else {
-    sections.push(sectionPoint(data), sectionModes(data), sectionGains(data), sectionTransfer(data), sectionBode(data), sectionSteps(data), sectionValidity(data));
+    sections.push(sectionPoint(data), sectionModes(page, data), sectionGains(data), sectionTransfer(data), sectionBode(page, data), sectionSteps(page, data), sectionValidity(page, data));
   }
   const nav = data.ok
     ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}`

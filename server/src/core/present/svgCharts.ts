@@ -206,14 +206,18 @@ function pathOf(xs: number[], ys: (number | null)[], sx: Scale, sy: Scale): stri
   return d;
 }
 
-let chartCounter = 0;
-
-/** Restarts the numbering of chart ids (call once per page, so a page renders the same twice). */
-export function resetCharts(): void {
-  chartCounter = 0;
+/** What the charts of one page share: the numbering of their ids (a new context per page, so a page renders the same twice). */
+export interface PageContext {
+  /** A page-unique element id from a base name: "bm-1", "bp-2", … */
+  chartId(base: string): string;
 }
 
-export function chart(spec: ChartSpec): string {
+export function newPage(): PageContext {
+  let charts = 0;
+  return { chartId: (base) => `${base}-${++charts}` };
+}
+
+export function chart(page: PageContext, spec: ChartSpec): string {
   const W = spec.width ?? 480;
   const H = spec.height ?? 260;
   const tx0 = ticksOf(spec.x);
@@ -225,7 +229,7 @@ export function chart(spec: ChartSpec): string {
   const B = 44;
   const sx = new Scale(spec.x, L, W - R);
   const sy = new Scale(spec.y, H - B, T);
-  const id = `${spec.id}-${++chartCounter}`;
+  const id = page.chartId(spec.id);
   const parts: string[] = [];
   const c = (v: number) => r1(v);
   // grid

@@ -1,12 +1,13 @@
 /** The sweep as CSV: one row per swept value (docs/sweeps.md). */
 import type { SweepResult } from '../analysis/sweep';
+import { unitSuffix } from '../semantics/units';
 
 const csvCell = (s: string) => (/[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s);
 const num = (v: number | null | undefined) => (v === null || v === undefined || Number.isNaN(v) ? '' : String(v));
 
 /** One row per swept value: value, verdict, the operating point, eigenvalues (re, im, τ, ζ) and DC gains. */
 export function sweepCsv(r: SweepResult): string {
-  const u = (x: string) => (x ? ` [${x}]` : '');
+  const u = unitSuffix;
   const n = r.states.length;
   const head = [`${r.vary.name}${u(r.vary.unit)}`, 'stability', 'unstable_count'];
   for (const c of r.columns) head.push(`${c.name}${u(c.unit)}`);

@@ -6,7 +6,8 @@
  */
 import { CAUTIONS } from '../analysis/report';
 import type { SweepResult } from '../analysis/sweep';
-import { chart, esc, htmlPage, legend, linRange, num, resetCharts, type AxisSpec, type Series } from './svgCharts';
+import { chart, esc, htmlPage, legend, linRange, newPage, num, type AxisSpec, type Series } from './svgCharts';
+import { unitSuffix } from '../semantics/units';
 
 export interface SweepHtmlOptions {
   /** Shown in the heading, e.g. the model file's name. */
@@ -37,7 +38,7 @@ export const SWEEP_CAUTIONS = [
   CAUTIONS[2],
 ];
 
-const u = (x: string) => (x ? ` [${x}]` : '');
+const u = unitSuffix;
 
 /** Axis for the swept value: logarithmic for a log sweep. */
 function sweptAxis(r: SweepResult, values: number[]): AxisSpec {
@@ -87,7 +88,7 @@ function complexPlaneAxes(pts: { re: number; im: number }[], t: string): { x: Ax
 }
 
 export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
-  resetCharts();
+  const page = newPage();
   const d = opts.digits ?? 4;
   const t = r.timeUnit;
   const pts = r.points;
@@ -130,7 +131,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
     }
     const cross = r.crossings.flatMap((c) => [c.eigenvalue, { re: c.eigenvalue.re, im: -c.eigenvalue.im }]);
     if (cross.length) series.push({ kind: 'poles', cls: 'cross', x: cross.map((e) => e.re), y: cross.map((e) => e.im), label: 'at a stability change' });
-    const svg = chart({
+    const svg = chart(page, {
       id: 'paths', x, y, series, height: 320, title: `Eigenvalues as ${r.vary.name} moves from ${num(r.vary.from, 4)} to ${num(r.vary.to, 4)}${u(r.vary.unit)}`,
       xspans: [{ x0: 0, x1: x.max, cls: 'rhp' }], vlines: [{ x: 0, cls: 'axis0' }], hlines: [{ y: 0, cls: 'axis0' }],
     });
@@ -144,7 +145,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
     const maxRe = pts.map((p) => (p.eigenvalues.length ? Math.max(...p.eigenvalues.map((e) => e.re)) : NaN));
     if (pts.some((p) => p.eigenvalues.length)) {
       charts.push(
-        `<figure class="chart card">${chart({
+        `<figure class="chart card">${chart(page, {
           id: 'maxre', x: sx, y: linRange([...maxRe, 0], `largest real part [1/${t}]`), title: 'Stability margin (largest real part)',
           series: [{ kind: 'line', cls: 's1', x: xs, y: maxRe }, { kind: 'dots', cls: 's1', x: xs, y: maxRe }],
           hlines: [{ y: 0, cls: 'axis0' }], ...marks,
@@ -157,7 +158,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
       const taus = pts.map((p) => p.modes.map((m) => m.timeConstant).filter((v): v is number => v !== null).sort((a, b) => b - a));
       const series: Series[] = [];
       for (let k = 0; k < nTau; k++) series.push({ kind: 'line', cls: `s${(k % 6) + 1}`, x: xs, y: taus.map((row) => row[k] ?? null), label: k === 0 ? 'slowest' : `${k + 1}${k === 1 ? 'nd' : k === 2 ? 'rd' : 'th'} slowest` });
-      const svg = chart({ id: 'tau', x: sx, y: valueAxis(taus.flat(), `time constant [${t}]`), title: 'Time constants 1/|Re λ|', series, ...marks });
+      const svg = chart(page, { id: 'tau', x: sx, y: valueAxis(taus.flat(), `time constant [${t}]`), title: 'Time constants 1/|Re λ|', series, ...marks });
       charts.push(`<figure class="chart card">${svg}${legend(series.map((s) => ({ cls: s.cls, kind: s.kind, label: s.label! })))}</figure>`);
     }
     // damping of the least-damped pair
@@ -167,7 +168,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
         return ds.length ? Math.min(...ds) : null;
       });
       charts.push(
-        `<figure class="chart card">${chart({
+        `<figure class="chart card">${chart(page, {
           id: 'zeta', x: sx, y: linRange([...z.filter((v): v is number => v !== null), 0], 'damping ratio ζ'), title: 'Damping ratio of the least-damped pair',
           series: [{ kind: 'line', cls: 's3', x: xs, y: z }], hlines: [{ y: 0, cls: 'axis0' }], ...marks,
         })}</figure>`,
@@ -179,7 +180,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
     const shownPairs = pairs.filter(({ i, j }) => pts.some((p) => p.dcGain && p.dcGain[i][j] !== 0)).slice(0, 8);
     for (const { i, j } of shownPairs) {
       const g = pts.map((p) => (p.dcGain ? p.dcGain[i][j] : null));
-      const svg = chart({
+      const svg = chart(page, {
         id: `gain${i}-${j}`, x: sx, y: linRange(g.filter((v): v is number => v !== null), `Δ${r.gainRows[i]}/Δ${r.inputs[j]}`), title: `DC gain ${r.inputs[j]} → ${r.gainRows[i]}`,
         series: [{ kind: 'line', cls: 's2', x: xs, y: g }], hlines: [{ y: 0, cls: 'axis0' }], ...marks,
       });

@@ -1,6 +1,7 @@
 /** The sweep as a plain-text table, with the stability changes and where it stopped. */
 import { formatNumber } from '../algebra/expr';
 import type { SweepPoint, SweepResult } from '../analysis/sweep';
+import { unitSuffix } from '../semantics/units';
 
 function eigText(eig: { re: number; im: number }[], digits: number, max = 4): string {
   if (!eig.length) return '(none)';
@@ -14,7 +15,7 @@ function eigText(eig: { re: number; im: number }[], digits: number, max = 4): st
 
 /** Plain-text table of a sweep, with the stability changes and where it stopped. */
 export function formatSweepText(r: SweepResult, digits = 5): string {
-  const u = (x: string) => (x ? ` [${x}]` : '');
+  const u = unitSuffix;
   const out: string[] = [];
   const title = r.name ? `Sweep ${r.name} from point ${r.point}` : `Sweep from point ${r.point}`;
   out.push(`${title}: ${r.vary.name} from ${formatNumber(r.vary.from, 6)} to ${formatNumber(r.vary.to, 6)}${u(r.vary.unit)}, ${r.vary.steps + 1} values (${r.vary.log ? 'logarithmic' : 'linear'} spacing), time in ${r.timeUnit}`);

@@ -323,7 +323,18 @@ export function formatDims(d: Dims): string {
   return s;
 }
 
-/** Unit text to show for a variable: its declared text, or "1". */
+/** Unit text to show for a variable: its declared text; unit 1 shows as empty. */
 export function unitLabel(u: UnitInfo | undefined): string {
-  return u && u.text && u.text !== '1' ? u.text : '';
+  return unitText(u?.text);
+}
+
+/** A unit's text as shown to people: unit 1 (a plain number) and no unit show as empty. */
+export function unitText(text: string | undefined): string {
+  return text && text !== '1' ? text : '';
+}
+
+/** " [unit]" to follow a name or a number; nothing for unit 1 or no unit. */
+export function unitSuffix(text: string | undefined): string {
+  const t = unitText(text);
+  return t ? ` [${t}]` : '';
 }

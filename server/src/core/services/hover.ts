@@ -9,7 +9,7 @@ import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
 import type { ModelSymbol } from '../semantics/binder';
 import * as E from '../algebra/expr';
-import { AXIS_TOL, analyzeDynamics, type Dynamics } from '../analysis/dynamics';
+import { AXIS_TOL, analyzeDynamics, eigenFigures, stabilityOf, type Dynamics } from '../analysis/dynamics';
 import { formatEigen, linearEigen } from '../present/format';
 import { declaredValue } from '../solve/linearizer';
 import { symbolicCoefficient } from '../analysis/symbolic';
@@ -19,6 +19,7 @@ import { formatDims, isDimensionless, parseUnit } from '../semantics/units';
 import { inComment, statementAt, targetAt, type Target } from './locate';
 import { pointStatus } from './solve';
 import { dimsOf } from './unitInference';
+import { unitSuffix, unitSuffix as bracket, unitText as unitOf } from '../semantics/units';
 
 export interface HoverOptions {
   /** Significant digits of the numbers shown. */
@@ -94,8 +95,6 @@ export function activePointName(a: Analysis, setting: string): string | undefine
   return setting && names.includes(setting) ? setting : names[0];
 }
 
-const unitOf = (text: string) => (text && text !== '1' ? text : '');
-const bracket = (text: string) => (unitOf(text) ? ` [${text}]` : '');
 const fmt = (v: number, digits: number) => E.formatNumber(v, digits);
 const lineOf = (a: Analysis, off: number) => a.lines.position(off).line + 1;
 const oneLine = (s: string) => {
@@ -221,24 +220,24 @@ function pointText(a: Analysis, name: string, digits: number): string {
     out.push(`**${v === 'stable' ? 'Stable' : v === 'marginal' ? 'Marginally stable' : 'Unstable'}**: ${dyn.stability.reason}`);
   } else {
     const big = Math.max(...eig.map((e) => Math.hypot(e.re, e.im)), 0);
-    const tol = AXIS_TOL * big;
-    const unstable = eig.filter((e) => e.re > tol).length;
-    const onAxis = eig.filter((e) => Math.abs(e.re) <= tol).length;
+    const classes = eig.map((e) => stabilityOf(e.re, AXIS_TOL * big));
+    const unstable = classes.filter((c) => c === 'unstable').length;
+    const onAxis = classes.filter((c) => c === 'marginal').length;
     if (unstable) out.push(`**Unstable**: ${unstable} eigenvalue(s) with a positive real part.`);
     else if (onAxis) out.push(`**Marginally stable**: ${onAxis} eigenvalue(s) on the imaginary axis (an integrator or an undamped oscillation), the rest in the left half-plane.`);
     else out.push('**Stable**: every eigenvalue has a negative real part.');
   }
   // one time constant per real eigenvalue or conjugate pair in the left half-plane
   const tolAxis = AXIS_TOL * Math.max(...eig.map((e) => Math.hypot(e.re, e.im)), 0);
-  const taus = eig.filter((e) => e.im >= 0 && e.re < -tolAxis).map((e) => -1 / e.re);
+  const taus = eig.filter((e) => e.im >= 0 && e.re < -tolAxis).map((e) => eigenFigures(e, false).timeConstant!);
   if (taus.length) {
     const slow = Math.max(...taus);
     const fast = Math.min(...taus);
     out.push('', taus.length > 1 ? `Time constants [${tu}]: slowest ${fmt(slow, digits)}, fastest ${fmt(fast, digits)}` : `Time constant [${tu}]: ${fmt(slow, digits)}`);
   }
   for (const e of eig.filter((x) => x.im > 0).slice(0, 4)) {
-    const wn = Math.hypot(e.re, e.im);
-    out.push('', `Oscillatory mode: natural frequency ${fmt(wn, digits)} rad/${tu}, damping ratio ${fmt(-e.re / wn, digits)}`);
+    const f = eigenFigures(e, false);
+    out.push('', `Oscillatory mode: natural frequency ${fmt(f.naturalFrequency!, digits)} rad/${tu}, damping ratio ${fmt(f.dampingRatio!, digits)}`);
   }
   return out.join('\n');
 }
@@ -420,7 +419,7 @@ function coefficientText(a: Analysis, c: CoefficientAt, digits: number): string 
   if (info.symbols.length) {
     out.push('', '| symbol | value | |', '|---|---:|---|');
     for (const x of info.symbols) {
-      out.push(`| ${code(x.name)} | ${fmt(x.value, digits)}${x.unit && x.unit !== '1' ? ` [${x.unit}]` : ''} | ${x.kind === 'const' ? 'constant' : `${code(x.of)} at point ${code(point)}`} |`);
+      out.push(`| ${code(x.name)} | ${fmt(x.value, digits)}${unitSuffix(x.unit)} | ${x.kind === 'const' ? 'constant' : `${code(x.of)} at point ${code(point)}`} |`);
     }
   }
   const lb = c.block;

@@ -16,6 +16,7 @@ import { formatNumber } from '../algebra/expr';
 import { declaredValue } from '../solve/linearizer';
 import { eol, type TextEdit } from './edits';
 import { pointStatus } from './solve';
+import { unitSuffix } from '../semantics/units';
 
 /** Longest `at` line before the values continue on another `at` line. */
 const AT_WIDTH = 100;
@@ -38,7 +39,7 @@ export function linearBlockText(a: Analysis, point: string, digits = 4, nl = '\n
   let at = '';
   for (const slot of a.lowered.slots) {
     if (slot.order !== 0 || slot.kind === 'const') continue;
-    const unit = slot.unit.text && slot.unit.text !== '1' ? ` [${slot.unit.text}]` : '';
+    const unit = unitSuffix(slot.unit.text);
     const item = `${slot.name} = ${formatNumber(declaredValue(slot, sol.values[slot.id]), digits)}${unit}`;
     if (at && INDENT.length + at.length + 2 + item.length > AT_WIDTH) {
       lines.push(INDENT + at);

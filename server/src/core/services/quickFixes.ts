@@ -16,6 +16,7 @@ import { linearizeEdit } from './linearBlock';
 import { blockIndent } from './solve';
 import { requiredDims, unitTextFor } from './unitInference';
 import { dimsMul, dimsPow } from '../semantics/units';
+import { unitSuffix } from '../semantics/units';
 
 export interface DiagnosticRef {
   code: string;
@@ -153,7 +154,7 @@ function fixEdits(a: Analysis, block: A.PointBlock, names: string[]): TextEdit[]
     const s = a.bound.symbols.get(n);
     const id = s ? a.lowered.slotOf(s) : -1;
     const unit = id >= 0 ? a.lowered.slots[id].unit.text : '';
-    add.push(`${indent}${n} = 1${unit && unit !== '1' ? ` [${unit}]` : ''}`);
+    add.push(`${indent}${n} = 1${unitSuffix(unit)}`);
   }
   if (add.length) {
     const nl = eol(a.text);

@@ -12,6 +12,7 @@ import { declaredValue } from '../solve/linearizer';
 import type { PointSolution } from '../solve/pointSolver';
 import { dimsEqual, parseUnit } from '../semantics/units';
 import { eol, type TextEdit } from './edits';
+import { unitSuffix } from '../semantics/units';
 
 export type PointStatus =
   | { ok: true; solution: PointSolution }
@@ -90,7 +91,7 @@ export function solveEdits(a: Analysis, point: string, digits = 4): SolveEdits {
   for (const id of sol.unknowns) {
     const slot = lm.slots[id];
     if (slot.order !== 0 || listed.has(slot.name)) continue;
-    const unit = slot.unit.text && slot.unit.text !== '1' ? ` [${slot.unit.text}]` : '';
+    const unit = unitSuffix(slot.unit.text);
     added.push(`${indent}${slot.name} ~ ${formatNumber(declaredValue(slot, sol.values[id]), digits)}${unit}`);
   }
   if (added.length) {

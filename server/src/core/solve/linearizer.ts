@@ -13,8 +13,11 @@ import { sparseLU } from '../numeric/sparseLU';
 import { listNames } from '../model/structure';
 import type { Span } from '../text';
 
-export interface LinearModel {
-  point: string;
+/**
+ * The signals of a linear model, in matrix order, with their declared units: the one list shared by the
+ * linear model, the dynamics' LinearSystem and the report's data.
+ */
+export interface LinearSignals {
   /** First-order state components (x, x', …), inputs and outputs, in matrix order. */
   states: string[];
   inputs: string[];
@@ -22,7 +25,10 @@ export interface LinearModel {
   stateUnits: string[];
   inputUnits: string[];
   outputUnits: string[];
-  /** Row-major dense matrices in declared units. */
+}
+
+/** x' = A x + B u, y = C x + D u: row-major dense matrices in declared units, n states, m inputs, p outputs. */
+export interface StateSpace {
   A: Float64Array;
   B: Float64Array;
   C: Float64Array;
@@ -30,6 +36,10 @@ export interface LinearModel {
   n: number;
   m: number;
   p: number;
+}
+
+export interface LinearModel extends LinearSignals, StateSpace {
+  point: string;
   /** Slot ids in matrix order (for the core's own use). */
   stateSlots: number[];
   inputSlots: number[];

@@ -14,6 +14,7 @@ import { sparseLU } from '../numeric/sparseLU';
 import { isDimensionless } from '../semantics/units';
 import { leftovers, listNames, maximumMatching } from '../model/structure';
 import type { Span } from '../text';
+import { formatShort } from '../numbers';
 
 export interface PointSolution {
   name: string;
@@ -423,7 +424,7 @@ export function pointChecks(lm: LoweredModel, values: Float64Array, point: strin
     seen.add(k);
     out.push(diag(code, sp, { point, detail }, { related: rel }));
   };
-  const fmt = (v: number) => (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e6 ? v.toExponential(3) : v.toPrecision(4));
+  const fmt = (v: number) => formatShort(v, true);
   for (const eq of lm.equations) {
     const walk = (n: E.Node): void => {
       if (n.t === 'num' || n.t === 'sym') return;

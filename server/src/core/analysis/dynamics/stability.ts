@@ -2,6 +2,7 @@
 import type { Complex, Horizon, LinearSystem, Mode, StabilityVerdict } from './types';
 import { RANK_TOL } from './types';
 import { complexRank } from './pbh';
+import { formatComplexShort, formatShort } from '../../numbers';
 
 export function verdict(sys: LinearSystem, modes: Mode[], rho: number, tol: number, raw: Complex[]): StabilityVerdict {
   const n = sys.n;
@@ -14,7 +15,7 @@ export function verdict(sys: LinearSystem, modes: Mode[], rho: number, tol: numb
     const u = unstable[0];
     return {
       verdict: 'unstable', spectralRadius: rho, tolerance: tol, maxRealPart: maxRe,
-      reason: `${unstable.length === 1 ? 'Mode' : `${unstable.length} modes grow; the fastest, mode`} ${u.number} grows with e-folding time ${fmt(u.timeConstant!)} ${t}${u.kind === 'oscillatory' ? ' while oscillating' : ''} (largest real part ${fmt(maxRe)} 1/${t}).`,
+      reason: `${unstable.length === 1 ? 'Mode' : `${unstable.length} modes grow; the fastest, mode`} ${u.number} grows with e-folding time ${formatShort(u.timeConstant!)} ${t}${u.kind === 'oscillatory' ? ' while oscillating' : ''} (largest real part ${formatShort(maxRe)} 1/${t}).`,
     };
   }
   const marginal = modes.filter((m) => m.stability === 'marginal');
@@ -27,7 +28,7 @@ export function verdict(sys: LinearSystem, modes: Mode[], rho: number, tol: numb
         if (geo < same.length) {
           return {
             verdict: 'unstable', spectralRadius: rho, tolerance: tol, maxRealPart: maxRe,
-            reason: `λ = ${fmtC(md)} is repeated ${same.length} times on the imaginary axis without enough eigenvectors, so deviations grow like a power of time (e.g. a double integrator).`,
+            reason: `λ = ${formatComplexShort(md)} is repeated ${same.length} times on the imaginary axis without enough eigenvectors, so deviations grow like a power of time (e.g. a double integrator).`,
           };
         }
       }
@@ -41,12 +42,9 @@ export function verdict(sys: LinearSystem, modes: Mode[], rho: number, tol: numb
   const slow = modes.reduce((a, b) => (b.re > a.re ? b : a));
   return {
     verdict: 'stable', spectralRadius: rho, tolerance: tol, maxRealPart: maxRe,
-    reason: `Every eigenvalue has a negative real part; the slowest mode (${slow.number}) decays with time constant ${fmt(slow.timeConstant!)} ${t}.`,
+    reason: `Every eigenvalue has a negative real part; the slowest mode (${slow.number}) decays with time constant ${formatShort(slow.timeConstant!)} ${t}.`,
   };
 }
-
-const fmt = (v: number) => (v === 0 ? '0' : Math.abs(v) >= 1e-3 && Math.abs(v) < 1e6 ? String(Number(v.toPrecision(4))) : v.toExponential(3));
-const fmtC = (c: Complex) => (c.im === 0 ? fmt(c.re) : `${fmt(c.re)} ${c.im < 0 ? '−' : '+'} ${fmt(Math.abs(c.im))}i`);
 
 /** Length of the step responses: a few slowest time constants, bounded for unstable and oscillating models. */
 export function stepHorizon(modes: Mode[], rho: number): Horizon {
@@ -73,7 +71,7 @@ export function stepHorizon(modes: Mode[], rho: number): Horizon {
   }
   if (slowest) {
     let T = 5 * tauMax;
-    let reason = `5 × the slowest time constant (${fmt(tauMax)})`;
+    let reason = `5 × the slowest time constant (${formatShort(tauMax)})`;
     if (slowest.period && T > 20 * slowest.period) {
       let tauReal = 0;
       for (const m of stable) if (m.kind === 'real') tauReal = Math.max(tauReal, m.timeConstant!);

@@ -1,6 +1,7 @@
 /** The linear model as a system y = C x + D u, x' = A x + B u, and the shared small helpers of this folder. */
 import type { LinearModel } from '../../solve/linearizer';
 import type { LinearSystem } from './types';
+import { unitText } from '../../semantics/units';
 
 /** The linear model as a system; a model without outputs uses its state components as outputs (C = I). */
 export function linearSystem(lin: LinearModel): LinearSystem {
@@ -19,7 +20,7 @@ export function linearSystem(lin: LinearModel): LinearSystem {
   };
 }
 
-const u1 = (u: string) => (u === '1' ? '' : u);
+const u1 = unitText;
 
 /** "cm/(L/s)", "1/min", … : unit of output per unit of input. */
 export function perUnit(out: string, inp: string): string {

@@ -7,26 +7,15 @@
  * them), time in the model's time unit; eigenvalues, poles and zeros in 1/time unit, frequencies in
  * rad per time unit.
  */
+import type { LinearSignals, StateSpace } from '../../solve/linearizer';
+
 export interface Complex {
   re: number;
   im: number;
 }
 
 /** A linear system y = C x + D u, x' = A x + B u in declared units (row-major matrices). */
-export interface LinearSystem {
-  n: number;
-  m: number;
-  p: number;
-  A: Float64Array;
-  B: Float64Array;
-  C: Float64Array;
-  D: Float64Array;
-  states: string[];
-  inputs: string[];
-  outputs: string[];
-  stateUnits: string[];
-  inputUnits: string[];
-  outputUnits: string[];
+export interface LinearSystem extends LinearSignals, StateSpace {
   timeUnit: string;
   /** True when the model declares no outputs and the state components stand in for them. */
   outputsAreStates: boolean;
