@@ -4,7 +4,8 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import { analyze, located, type Analysis } from '../core/pipeline/analysis';
+import { analyzeDocuments, type Analysis } from '../core/pipeline/analysis';
+import { cliSources } from './sourceHost';
 import type { Diagnostic } from '../core/diagnostics';
 import { EXPORT_FORMATS, exportLinearModel, type ExportFormat } from '../core/present/exports';
 import { formatLinearText, formatValues } from '../core/present/format';
@@ -82,7 +83,7 @@ function sortDiags(ds: Diagnostic[]): Diagnostic[] {
 
 /** Loads, analyses and picks the point; prints errors and returns undefined when the job cannot go on. */
 function prepare(file: string, pointName: string | undefined, io: Io): { a: Analysis; point: string } | undefined {
-  const a = analyze(readModel(file));
+  const a = analyzeDocuments(cliSources(file, readModel(file)), file)!;
   const errors = a.diagnostics.filter((d) => d.severity === 'error');
   if (errors.length) {
     for (const d of sortDiags(errors)) io.err(formatDiagnostic(a, file, d));
@@ -136,7 +137,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         if (!p.files.length) throw new UsageError('"poise check" needs at least one model file');
         let errors = 0;
         for (const f of p.files) {
-          const a = analyze(readModel(f));
+          const a = analyzeDocuments(cliSources(f, readModel(f)), f)!;
           const ds = sortDiags(a.allDiagnostics());
           for (const d of ds) io.out(formatDiagnostic(a, f, d));
           errors += ds.filter((d) => d.severity === 'error').length;

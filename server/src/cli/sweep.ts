@@ -10,7 +10,8 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import { analyze, type Analysis } from '../core/pipeline/analysis';
+import { analyzeDocuments, type Analysis } from '../core/pipeline/analysis';
+import { cliSources } from './sourceHost';
 import type { Diagnostic } from '../core/diagnostics';
 import { sweepHtml } from '../core/present/sweepHtml';
 import { declaredSweeps, runSweep, sweepRequest, type SweepSpec } from '../core/analysis/sweep';
@@ -41,7 +42,7 @@ export async function sweepCommand(p: Parsed, io: Io, h: CliHelpers): Promise<nu
   let point = h.opt(p, '--point');
   let declaredSpec: SweepSpec | undefined;
   if (vary === undefined) {
-    const a0 = analyze(h.readModel(file));
+    const a0 = analyzeDocuments(cliSources(file, h.readModel(file)), file)!;
     const all = declaredSweeps(a0).filter((d) => d.block.name.name);
     let chosen = all[0];
     if (sweepName !== undefined) {

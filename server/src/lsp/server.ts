@@ -32,7 +32,8 @@ import {
   type TextEdit as LspTextEdit, type WorkspaceEdit,
 } from 'vscode-languageserver/node';
 import { TextDocument } from 'vscode-languageserver-textdocument';
-import { analyze, type Analysis } from '../core/pipeline/analysis';
+import { Analysis } from '../core/pipeline/analysis';
+import { serverSources } from './sourceHost';
 import { completions } from '../core/services/completion';
 import type { TextEdit } from '../core/services/edits';
 import { foldingRanges } from '../core/services/folding';
@@ -85,6 +86,7 @@ export function startServer(): void {
   if (context) return;
   const connection = createConnection(ProposedFeatures.all);
   const documents = new TextDocuments(TextDocument);
+  const sources = serverSources(documents);
   const log = (m: string) => connection.console.log(m);
   /** A message the editor shows (a plain notification: no answer is awaited). */
   const showError = (message: string) => void connection.sendNotification(ShowMessageNotification.type, { type: MessageType.Error, message });
@@ -145,7 +147,7 @@ export function startServer(): void {
   const analysisOf = (doc: TextDocument, s: PoiseSettings): Analysis => {
     const hit = cache.get(doc.uri);
     if (hit && hit.version === doc.version && hit.warnUnused === s.warnUnused) return hit.analysis;
-    const analysis = analyze(doc.getText(), { warnUnused: s.warnUnused });
+    const analysis = new Analysis(doc.getText(), { warnUnused: s.warnUnused }, doc.uri, sources);
     cache.set(doc.uri, { version: doc.version, warnUnused: s.warnUnused, analysis });
     return analysis;
   };

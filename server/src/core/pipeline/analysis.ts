@@ -1,6 +1,7 @@
 /**
  * The pipeline: text → parse → bind → check units → lower → check structure, with point solving and
- * linearization on demand (cached per analysis). Pure: takes text, returns plain data.
+ * linearization on demand (cached per analysis). Pure: an analysis is of a set of documents read through
+ * a SourceHost (core/sources.ts) from a root document; `analyze(text)` is the one-document shorthand.
  */
 import type * as A from '../syntax/ast';
 import { bind, type BoundModel } from '../semantics/binder';
@@ -15,6 +16,7 @@ import { checkStructure, type StructureResult } from '../model/structure';
 import { LineMap } from '../text';
 import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 import { unitText } from '../semantics/units';
+import { memoryHost, UNTITLED, type SourceHost } from '../sources';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;
@@ -45,7 +47,11 @@ export class Analysis {
   private readonly solved = new Map<string, PointSolution>();
   private readonly linears = new Map<string, LinearModel>();
 
-  constructor(readonly text: string, readonly options: AnalyzeOptions = {}) {
+  /**
+   * The analysis of the document `uri` (whose text is `text`); `sources` is the host it was read through,
+   * for the documents it refers to.
+   */
+  constructor(readonly text: string, readonly options: AnalyzeOptions = {}, readonly uri: string = UNTITLED, readonly sources: SourceHost = memoryHost({ [uri]: text })) {
     this.lines = new LineMap(text);
     this.parsed = parse(text);
     this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused });
@@ -180,8 +186,15 @@ export function fnv1a(s: string): string {
   return h.toString(16).padStart(8, '0');
 }
 
+/** The analysis of the documents read through `host`, starting at `root`; undefined when the host has no document `root`. */
+export function analyzeDocuments(host: SourceHost, root: string, options: AnalyzeOptions = {}): Analysis | undefined {
+  const text = host.read(root);
+  return text === undefined ? undefined : new Analysis(text, options, root, host);
+}
+
+/** The analysis of one model text (an in-memory document set of that text alone). */
 export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
-  return new Analysis(text, options);
+  return analyzeDocuments(memoryHost({ [UNTITLED]: text }), UNTITLED, options)!;
 }
 
 /** Diagnostics with line/column positions (for the CLI and tests). */
