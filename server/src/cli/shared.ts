@@ -1,23 +1,15 @@
 /**
- * What the `poise` subcommands share with the command's entry (main.ts): the output streams, the parsed
- * command line, the usage error and the helpers main.ts hands to each subcommand. Kept apart so that the
- * subcommands (report.ts, sweep.ts) do not import main.ts, which imports them.
+ * What the `poise` subcommands share with the command's entry (main.ts): the output streams and the
+ * helpers main.ts hands to each subcommand. Kept apart so that the subcommands (report.ts, sweep.ts) do
+ * not import main.ts, which imports them.
  */
 import type { Analysis } from '../core/pipeline/analysis';
+import type { Parsed, UsageError } from './options';
 
 export interface Io {
   out(s: string): void;
   err(s: string): void;
 }
-
-export interface Parsed {
-  cmd: string;
-  files: string[];
-  opts: Map<string, string | true>;
-}
-
-/** A mistake on the command line: one message on stderr, exit code 2. */
-export class UsageError extends Error {}
 
 export interface CliHelpers {
   /** The text of a model file; a UsageError when it cannot be read. */
@@ -26,6 +18,10 @@ export interface CliHelpers {
   prepare(file: string, pointName: string | undefined, io: Io): { a: Analysis; point: string } | undefined;
   /** The value of an option; a UsageError when it was given without one. */
   opt(p: Parsed, name: string): string | undefined;
+  /** Every value of a repeatable option. */
+  all(p: Parsed, name: string): string[];
+  /** --digits, or the fallback. */
+  digitsOf(p: Parsed, fallback: number): number;
   /** The one model file of the command; a UsageError otherwise. */
   oneFile(p: Parsed): string;
   UsageError: typeof UsageError;
