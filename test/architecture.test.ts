@@ -34,7 +34,8 @@ describe('the core is pure', () => {
  *
  * | layer      | folder                | holds                                                        |
  * |------------|-----------------------|--------------------------------------------------------------|
- * | foundation | core/ (root files)    | spans and line maps, the message catalogue                   |
+ * | foundation | core/ (root files)    | spans and line maps, the message catalogue, name tables, the |
+ * |            |                       | number formatter, the source host (documents are read by it)  |
  * | numeric    | core/numeric/         | linear algebra, eigenvalues, integrators (knows no model)    |
  * | algebra    | core/algebra/         | expressions: folding constructors, derivatives, printing     |
  * | syntax     | core/syntax/          | lexer, parser, syntax tree                                   |

@@ -1,5 +1,5 @@
 /**
- * Sweeps (server/src/core/sweep.ts) and `poise sweep` (server/src/cli/sweep.ts).
+ * Sweeps (server/src/core/analysis/sweep.ts) and `poise sweep` (server/src/cli/sweep.ts).
  *
  * Outside checks, each named beside its assertion:
  * - belt drive (examples/belt_drive.poise): mass*x'' + damp*x' + stiff*x = press*(muk + (mus−muk)*exp(−slip/vref)),

@@ -1,6 +1,6 @@
 /**
  * The Poise language server: a thin shell around the pure analysis core. Every fact comes from
- * `analyze(text)` and the services in server/src/core/services/; this file keeps the open documents, caches
+ * `new Analysis(text, options, uri, sources)` (documents read through the server's source host) and the services in server/src/core/services/; this file keeps the open documents, caches
  * one Analysis per URI and version, converts offsets ↔ positions and data ↔ protocol messages, and guards
  * every handler (`runSafe`) so that one failure is logged and answered with a neutral result.
  *

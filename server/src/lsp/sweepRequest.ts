@@ -1,5 +1,5 @@
 /**
- * Sweep requests for the editor (see server/src/core/analysis/sweep.ts and present/sweepReport.ts):
+ * Sweep requests for the editor (see server/src/core/analysis/sweep.ts and present/sweepHtml.ts):
  *
  * - `poise/sweep` `{uri, point, vary, from, to, steps, log, sweep?}` → `{html, title}`: solves the point by
  *   continuation while `vary` moves from `from` to `to` (numbers in the declared unit of `vary`) in `steps`
