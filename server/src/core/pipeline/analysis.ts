@@ -9,6 +9,7 @@ import { diag } from '../diagnostics';
 import { declaredValue, deviationEquations, linearize, type DeviationEquation, type LinearModel } from '../solve/linearizer';
 import { lower, type LoweredModel } from '../model/model';
 import { parse, type ParseResult } from '../syntax/parser';
+import { elaborate, type Family } from '../semantics/elaborate';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
 import { sweepDiagnostics } from '../analysis/sweep';
 import { checkStructure, type StructureResult } from '../model/structure';
@@ -32,7 +33,12 @@ const UNIT_ERRORS = new Set(['P302', 'P303', 'P304', 'P305', 'P306', 'P307', 'P3
 
 export class Analysis {
   readonly lines: LineMap;
+  /** The syntax tree as written (with families, each blocks and reductions). */
+  readonly source: ParseResult;
+  /** The elaborated tree (families expanded to elements) with the syntax and elaboration diagnostics. */
   readonly parsed: ParseResult;
+  /** Indexed families by name (empty for a flat model). */
+  readonly families: ReadonlyMap<string, Family>;
   readonly bound: BoundModel;
   readonly units: UnitFacts;
   readonly lowered: LoweredModel;
@@ -46,8 +52,12 @@ export class Analysis {
 
   constructor(readonly text: string, readonly options: AnalyzeOptions = {}) {
     this.lines = new LineMap(text);
-    this.parsed = parse(text);
-    this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused });
+    // parse, then expand indexed families into the flat scalar model every later stage works on
+    this.source = parse(text);
+    const elab = elaborate(this.source.file);
+    this.families = elab.families;
+    this.parsed = elab.file === this.source.file ? this.source : { file: elab.file, diagnostics: [...this.source.diagnostics, ...elab.diagnostics] };
+    this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices });
     this.units = checkUnits(this.bound);
     this.lowered = lower(this.bound, this.units, text);
     this.structure = checkStructure(this.lowered);
