@@ -61,7 +61,7 @@ export class Analysis {
     this.units = checkUnits(this.bound);
     this.lowered = lower(this.bound, this.units, text);
     this.structure = checkStructure(this.lowered);
-    this.diagnostics = [...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics];
+    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics]);
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
 
@@ -196,4 +196,15 @@ export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
 /** Diagnostics with line/column positions (for the CLI and tests). */
 export function located(a: Analysis, ds: Diagnostic[]) {
   return ds.map((d) => ({ ...d, start: a.lines.position(d.span.start), end: a.lines.position(d.span.end) }));
+}
+
+/** Diagnostics without repeats: a template line of an each block reports the same problem once. */
+function unique(ds: Diagnostic[]): Diagnostic[] {
+  const seen = new Set<string>();
+  return ds.filter((d) => {
+    const k = `${d.code}\u0000${d.span.start}\u0000${d.span.end}\u0000${d.message}`;
+    if (seen.has(k)) return false;
+    seen.add(k);
+    return true;
+  });
 }

@@ -179,7 +179,11 @@ export function elaborate(file: A.ModelFile): ElaborationResult {
     try {
       f();
     } catch (err) {
-      if (err instanceof ElabError) diagnostics.push(err.d);
+      if (err instanceof ElabError) {
+        // one template line repeated by an each block reports its problem once
+        const d = err.d;
+        if (!diagnostics.some((x) => x.code === d.code && x.span.start === d.span.start && x.span.end === d.span.end)) diagnostics.push(d);
+      }
       else throw err;
     }
   };
@@ -298,6 +302,13 @@ export function elaborate(file: A.ModelFile): ElaborationResult {
 
   const pointLines = (lines: A.PointLine[]): A.PointLine[] => {
     const res: A.PointLine[] = [];
+    // elements given on their own lines take precedence over a line for their whole family
+    const single = new Set<string>();
+    for (const l of lines) {
+      if (!l.index) continue;
+      const k = evalIndex(l.index, new Map(), numbers, usedInIndices);
+      if (typeof k === 'number') single.add(elementName(l.name.name, k));
+    }
     for (const l of lines) {
       tryIt(() => {
         const fam = families.get(l.name.name);
@@ -314,6 +325,7 @@ export function elaborate(file: A.ModelFile): ElaborationResult {
         const size = fam.to - fam.from + 1;
         const items = l.value.kind === 'list' ? listItems(l.value, size, l.name.name) : undefined;
         for (let k = fam.from; k <= fam.to; k++) {
+          if (single.has(elementName(l.name.name, k))) continue;
           res.push({ ...l, name: { name: elementName(l.name.name, k), span: l.name.span }, value: expand(items ? items[k - fam.from] : l.value, new Map()) });
         }
       });
