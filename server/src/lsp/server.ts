@@ -1,7 +1,7 @@
 /**
- * The Poise language server: a thin shell around the pure analysis core. Every fact comes from
- * `new Analysis(text, options, uri, sources)` (documents read through the server's source host) and the services in server/src/core/services/; this file keeps the open documents, caches
- * one Analysis per URI and version, converts offsets ↔ positions and data ↔ protocol messages, and guards
+ * The Poise language server: a thin shell around the pure analysis core. Every fact comes from an
+ * `Analysis` (documents read through the server's source host, sourceHost.ts) and the services in
+ * server/src/core/services/; this file keeps the open documents, caches one Analysis per URI and version, converts offsets ↔ positions and data ↔ protocol messages, and guards
  * every handler (`runSafe`) so that one failure is logged and answered with a neutral result.
  *
  * Transport: `createConnection(ProposedFeatures.all)` reads the command line, so the same entry serves
