@@ -10,6 +10,7 @@ import {
   type Complex, type DcGain, type FrequencyResponse, type Horizon, type Mode, type RankTest, type StabilityVerdict, type TransferFunction,
 } from './dynamics';
 import { formatNumber } from '../algebra/expr';
+import { transferLines } from './transferText';
 import { declaredValue } from '../solve/linearizer';
 import { linearStepResponse } from '../numeric/expm';
 import { Simulator } from './simulate';
@@ -108,7 +109,7 @@ export interface ValidityReport {
 }
 
 export interface ReportData {
-  format: 'poise-report/1';
+  schema: 'poise-report/1';
   title: string;
   point: string;
   timeUnit: string;
@@ -162,7 +163,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   const tolerance = opts.tolerance ?? 0.05;
   const timingsMs: Record<string, number> = {};
   const data: ReportData = {
-    format: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: a.lowered.timeUnit || 's', digest: a.pointBlock(point) ? a.digest(point) : '',
+    schema: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: a.lowered.timeUnit || 's', digest: a.pointBlock(point) ? a.digest(point) : '',
     ok: false, problems: [], values: [], states: [], inputs: [], outputs: [], stateUnits: [], inputUnits: [], outputUnits: [], outputsAreStates: false,
     matrices: null, stability: null, eigenvalues: [], modes: [], dcGain: null, transfer: [], controllability: null, observability: null,
     frequency: null, horizon: null, tolerance, steps: [], validity: null, cautions: CAUTIONS.slice(), timingsMs,
@@ -185,7 +186,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   data.values = a.values(sol).map((v) => ({ name: v.name, kind: v.kind, value: v.value, unit: v.unit, role: v.role }));
   const lin = a.linear(point);
   if (!lin || !lin.ok) {
-    data.problems.push(...(lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearised at this point.']));
+    data.problems.push(...(lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearized at this point.']));
     return data;
   }
   const dyn = analyzeDynamics(lin);
@@ -411,40 +412,6 @@ export function complexText(c: Complex, d = 4): string {
   return `${f(c.re, d)} ${c.im < 0 ? '-' : '+'} ${f(Math.abs(c.im), d)}i`;
 }
 
-/** Polynomial in s as text: "0.5 s^2 + 1.2 s + 3". */
-export function polyText(c: number[], d = 4, v = 's'): string {
-  const deg = c.length - 1;
-  const parts: string[] = [];
-  c.forEach((a, k) => {
-    if (a === 0) return;
-    const pw = deg - k;
-    const mag = Math.abs(a);
-    const coef = mag === 1 && pw > 0 ? '' : f(mag, d);
-    const term = pw === 0 ? coef : `${coef}${coef ? ' ' : ''}${v}${pw > 1 ? `^${pw}` : ''}`;
-    parts.push(`${parts.length ? (a < 0 ? ' - ' : ' + ') : a < 0 ? '-' : ''}${term}`);
-  });
-  return parts.join('') || '0';
-}
-
-/** Factored form: "0.03125 / (s + 0.0003375)". */
-export function factoredText(tf: TransferFunction, d = 4): string {
-  if (tf.identicallyZero) return '0';
-  const fac = (rs: Complex[]): string[] => {
-    const out: string[] = [];
-    for (const r of rs) {
-      if (r.im < 0) continue;
-      if (r.im > 0) out.push(`(s^2 ${-2 * r.re < 0 ? '-' : '+'} ${f(Math.abs(2 * r.re), d)} s + ${f(r.re * r.re + r.im * r.im, d)})`);
-      else if (r.re === 0) out.push('s');
-      else out.push(`(s ${r.re > 0 ? '-' : '+'} ${f(Math.abs(r.re), d)})`);
-    }
-    return out;
-  };
-  const num = fac(tf.zeros);
-  const den = fac(tf.poles);
-  const top = [f(tf.gain, d), ...num].join('·');
-  return den.length ? `${top} / ${den.length > 1 ? `[${den.join('·')}]` : den[0]}` : top;
-}
-
 export function formatReportText(r: ReportData, d = 4): string {
   const out: string[] = [];
   const t = r.timeUnit;
@@ -464,7 +431,7 @@ export function formatReportText(r: ReportData, d = 4): string {
     if (md.kind === 'real') desc += `, τ = ${f(md.timeConstant, d)} ${t}`;
     if (md.kind === 'oscillatory' || md.kind === 'undamped') desc += `, ωn = ${f(md.naturalFrequency, d)} rad/${t}, period ${f(md.period, d)} ${t}`;
     const flags = [!md.controllable ? 'uncontrollable' : '', !md.observable ? 'unobservable' : ''].filter(Boolean).join(', ');
-    out.push(`  ${String(md.number).padStart(2)}. λ = ${lam}: ${desc}; lives in ${md.dominant.join(', ')}${flags ? ` [${flags}]` : ''}`);
+    out.push(`  ${String(md.number).padStart(2)}. λ = ${lam}: ${desc}; participation: ${md.dominant.join(', ')}${flags ? ` [${flags}]` : ''}`);
   }
   if (!r.modes.length) out.push('  (none: the model has no states)');
   const ctl = r.controllability!;
@@ -482,12 +449,13 @@ export function formatReportText(r: ReportData, d = 4): string {
     }
   }
   if (!r.inputs.length) out.push('  (the model has no inputs)');
-  out.push('', 'Transfer functions G(s) = K·Π(s − z)/Π(s − p):');
+  out.push('', `Transfer functions G(s) = K·Π(s − z) / Π(s − p), s in 1/${t} (factored first; "=" the polynomials where they read differently):`);
   if (!r.inputs.length) out.push('  (the model has no inputs)');
   for (const tf of r.transfer) {
-    out.push(`  ${tf.input} → ${tf.output}: ${factoredText(tf, d)}${tf.unit ? `   [${tf.unit}]` : ''}`);
+    const tl = transferLines(tf, d);
+    out.push(`  ${tf.input} → ${tf.output}: ${tl.factored}${tf.unit ? `   [${tf.unit}]` : ''}`);
     if (!tf.identicallyZero && tf.order > 0) {
-      out.push(`      = (${polyText(tf.num, d)}) / (${polyText(tf.den, d)})`);
+      if (tl.polynomial) out.push(`      = ${tl.polynomial}`);
       out.push(`      poles: ${tf.poles.map((x) => complexText(x, d)).join(', ') || 'none'}; zeros: ${tf.zeros.map((x) => complexText(x, d)).join(', ') || 'none'}${tf.cancelled ? `; ${tf.cancelled} mode(s) do not appear` : ''}`);
     }
   }

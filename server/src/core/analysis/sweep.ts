@@ -17,7 +17,8 @@ import { compileModel } from '../model/jacobian';
 import { declaredValue, linearize, type LinearModel } from '../solve/linearizer';
 import { constExprValue, type Slot } from '../model/model';
 import { luFactor } from '../numeric/dense';
-import { AXIS_TOL } from './dynamics';
+import { AXIS_TOL, perUnit } from './dynamics';
+import { simplifyUnitText } from '../semantics/simplifyUnit';
 import { eigenvalues, sortEigen } from '../numeric/eigen';
 import { sparseLU } from '../numeric/sparseLU';
 import { pointSetup, solvePoint, type PointSolution } from '../solve/pointSolver';
@@ -122,6 +123,8 @@ export interface SweepResult {
   outputs: string[];
   /** Rows of dcGain: the outputs, or the states when the model declares no output. */
   gainRows: string[];
+  /** Unit of each DC gain (rows gainRows, columns inputs): row unit per input unit, simplified. */
+  gainUnits: string[][];
   points: SweepPoint[];
   crossings: Crossing[];
   stop?: SweepStop;
@@ -384,11 +387,14 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
   const colSlots = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => s.id);
   const outputs = lm.slots.filter((s) => s.kind === 'output').map((s) => s.name);
   const states = lm.stateComponents.map((s) => lm.slots[s].name);
+  const unitOf = (id: number) => (lm.slots[id].unit.text === '1' ? '' : lm.slots[id].unit.text);
+  const rowUnits = outputs.length ? lm.slots.filter((s) => s.kind === 'output').map((s) => unitOf(s.id)) : lm.stateComponents.map(unitOf);
+  const gainUnits = rowUnits.map((ru) => lm.inputs.map((id) => simplifyUnitText(perUnit(ru, unitOf(id)))));
   const result: SweepResult = {
     name: spec.name, point: spec.point,
     vary: { name: spec.vary, kind: slot ? slot.kind : '?', unit: slot && slot.unit.text !== '1' ? slot.unit.text : '', from: spec.from, to: spec.to, steps: spec.steps, log: !!spec.log },
     timeUnit, columns, states, inputs: lm.inputs.map((s) => lm.slots[s].name), outputs,
-    gainRows: outputs.length ? outputs : states,
+    gainRows: outputs.length ? outputs : states, gainUnits,
     points: [], crossings: [], complete: false, diagnostics: [], stats: { solves: 0, linearizations: 0, bisections: 0 },
   };
   const unitText = result.vary.unit ? ` [${result.vary.unit}]` : '';
@@ -725,12 +731,14 @@ export function sweepCsv(r: SweepResult): string {
   const u = (x: string) => (x ? ` [${x}]` : '');
   const n = r.states.length;
   const head = [`${r.vary.name}${u(r.vary.unit)}`, 'stability', 'unstable_count'];
-  for (const c of r.columns) head.push(`${c.name}${u(c.unit)}`);
+  // the swept value is the first column; when it is a variable of the model it is not repeated
+  const cols = r.columns.map((c, i) => ({ c, i })).filter(({ c }) => c.name !== r.vary.name);
+  for (const { c } of cols) head.push(`${c.name}${u(c.unit)}`);
   for (let k = 0; k < n; k++) head.push(`eig${k + 1}_re [1/${r.timeUnit}]`, `eig${k + 1}_im [1/${r.timeUnit}]`, `eig${k + 1}_tau [${r.timeUnit}]`, `eig${k + 1}_zeta`);
-  for (const row of r.gainRows) for (const inp of r.inputs) head.push(`gain ${row}/${inp}`);
+  r.gainRows.forEach((row, i) => r.inputs.forEach((inp, j) => head.push(`gain ${row}/${inp}${u(r.gainUnits?.[i]?.[j] ?? '')}`)));
   const lines = [head.map(csvCell).join(',')];
   for (const p of r.points) {
-    const cells = [num(p.value), p.stability, String(p.unstableCount), ...p.values.map(num)];
+    const cells = [num(p.value), p.stability, String(p.unstableCount), ...cols.map(({ i }) => num(p.values[i]))];
     for (let k = 0; k < n; k++) {
       const e = p.eigenvalues[k];
       if (!e) {
@@ -781,7 +789,8 @@ export function formatSweepText(r: SweepResult, digits = 5): string {
   if (r.inputs.length && r.gainRows.length && r.points.length) {
     const last = r.points[r.points.length - 1];
     const first = r.points[0];
-    const g = (p: SweepPoint) => (p.dcGain ? p.dcGain.map((row, i) => row.map((v, j) => `${r.gainRows[i]}/${r.inputs[j]} ${formatNumber(v, digits)}`).join(', ')).join(', ') : 'none (A is singular: an integrator)');
+    const gu = (i: number, j: number) => (r.gainUnits?.[i]?.[j] ? ` ${r.gainUnits[i][j]}` : '');
+    const g = (p: SweepPoint) => (p.dcGain ? p.dcGain.map((row, i) => row.map((v, j) => `${r.gainRows[i]}/${r.inputs[j]} ${formatNumber(v, digits)}${gu(i, j)}`).join(', ')).join(', ') : 'none (A is singular: an integrator)');
     out.push('', `DC gains at ${formatNumber(first.value, 6)}: ${g(first)}`, `DC gains at ${formatNumber(last.value, 6)}: ${g(last)}`);
   }
   out.push('');

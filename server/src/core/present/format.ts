@@ -22,6 +22,13 @@ export interface LinearJson {
   equations: string[];
 }
 
+/**
+ * The one caution line of the linear model in text and in every export (as a comment where the format has
+ * comments). The full cautions are in the README and the report.
+ */
+export const LINEAR_CAUTION =
+  'Caution: valid only near this operating point; safety-related use follows licensed engineering practice and the local codes.';
+
 export function rows(a: Float64Array, r: number, c: number): number[][] {
   const out: number[][] = [];
   for (let i = 0; i < r; i++) out.push(Array.from(a.subarray(i * c, i * c + c)));
@@ -63,8 +70,20 @@ export function formatValues(values: VariableValue[], digits = 6, withConstants 
     .join('\n');
 }
 
+/** Why a matrix of the linear model has no entries, in words (its rows/columns are states, inputs or outputs). */
+const EMPTY_REASON: Record<string, [rows: string, cols: string]> = {
+  A: ['the model has no states', 'the model has no states'],
+  B: ['the model has no states', 'the model declares no inputs'],
+  C: ['the model declares no outputs', 'the model has no states'],
+  D: ['the model declares no outputs', 'the model declares no inputs'],
+};
+
 export function formatMatrix(name: string, a: Float64Array, r: number, c: number, rowNames: string[], colNames: string[], digits = 5): string {
-  if (r === 0 || c === 0) return `${name} = [] (${r}×${c})`;
+  if (r === 0 || c === 0) {
+    const why = EMPTY_REASON[name];
+    const reason = why ? [...new Set([r === 0 ? why[0] : '', c === 0 ? why[1] : ''].filter(Boolean))].join(' and ') : 'no entries';
+    return `${name} (${r}×${c}): empty — ${reason}`;
+  }
   const cells = rows(a, r, c).map((row) => row.map((x) => formatNumber(x, digits)));
   const w = Math.max(8, ...cells.flat().map((s) => s.length), ...colNames.map((s) => s.length));
   const rw = Math.max(...rowNames.map((s) => s.length));
@@ -83,7 +102,7 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   out.push(`Point ${lin.point} (time in ${t})`);
   out.push(formatValues(values, 6));
   out.push('');
-  out.push('Deviation equations (Δx = x − x at the point):');
+  out.push('Deviation equations (Δv = v − v₀; v₀: the value at the point):');
   for (const e of eqs) out.push('  ' + e.text);
   out.push('');
   const sn = lin.states.map((s, i) => `Δ${s}${lin.stateUnits[i] && lin.stateUnits[i] !== '1' ? ` [${lin.stateUnits[i]}]` : ''}`);
@@ -95,6 +114,7 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   out.push(formatMatrix('D', lin.D, lin.p, lin.m, on, inn, digits));
   out.push('');
   out.push(`Eigenvalues [1/${t}]: ${formatEigen(linearEigen(lin), digits) || '(none)'}`);
+  out.push('', LINEAR_CAUTION);
   void a;
   return out.join('\n');
 }
