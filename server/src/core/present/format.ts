@@ -81,7 +81,8 @@ const EMPTY_REASON: Record<string, [rows: string, cols: string]> = {
 export function formatMatrix(name: string, a: Float64Array, r: number, c: number, rowNames: string[], colNames: string[], digits = 5): string {
   if (r === 0 || c === 0) {
     const why = EMPTY_REASON[name];
-    const reason = why ? [...new Set([r === 0 ? why[0] : '', c === 0 ? why[1] : ''].filter(Boolean))].join(' and ') : 'no entries';
+    const parts = why ? [...new Set([r === 0 ? why[0] : '', c === 0 ? why[1] : ''].filter(Boolean))] : ['no entries'];
+    const reason = parts.length > 1 ? `${parts[0]} and ${parts[1].replace(/^the model (declares|has) /, '')}` : parts[0];
     return `${name} (${r}×${c}): empty — ${reason}`;
   }
   const cells = rows(a, r, c).map((row) => row.map((x) => formatNumber(x, digits)));
