@@ -66,3 +66,31 @@ describe('documented command lines', () => {
     for (const f of docs) expect(read(f), f).not.toMatch(/--vary\s+"?\w+\s*=\s*[^\s"]+:[^\s"]+:\d|FROM:TO:N/);
   });
 });
+
+describe('the VS Code export picker', () => {
+  it('describes each format as docs/exports.md does (CSV: one row per number)', () => {
+    const src = read('client/src/extension.ts');
+    const desc = (f: string) => new RegExp(`format: '${f}', label: '[^']*', description: '([^']*)'`).exec(src)?.[1];
+    const docs = read('docs/exports.md');
+    const docRow = (f: string) => new RegExp(`^\\| \`${f}\` \\| (.*) \\|$`, 'm').exec(docs)?.[1] ?? '';
+    expect(docRow('csv')).toMatch(/^one row per number: `kind,row,column,value,unit`/);
+    expect(desc('csv')).toBe('one row per number: kind, row, column, value, unit');
+    expect(desc('csv')).not.toMatch(/table per matrix/);
+    for (const f of ['json', 'markdown', 'latex', 'numpy']) expect(desc(f), f).toBeTruthy();
+  });
+});
+
+describe('README numbers are what the command prints', () => {
+  it('the tour\'s operating point and deviation equation appear verbatim in `poise linearize`', async () => {
+    const { main } = await import('../server/src/cli/main');
+    let out = '';
+    const code = await main(['linearize', path.join(ROOT, 'examples', 'buffer_tank.poise'), '--point', 'dry_day'], { out: (s) => (out += s + '\n'), err: () => undefined });
+    expect(code).toBe(0);
+    const readme = read('README.md');
+    const quoted = /operating point \(`level\s+([0-9.]+) \[m\]`\)/.exec(readme);
+    expect(quoted, 'README quotes the level').not.toBeNull();
+    expect(out).toMatch(new RegExp(`^\\s+level\\s+${quoted![1].replace('.', '\\.')} \\[m\\]$`, 'm'));
+    const eq = /^(Δlevel' = .*)$/m.exec(readme)![1];
+    expect(out).toContain(eq);
+  });
+});
