@@ -73,6 +73,20 @@ describe('transfer-function notation', () => {
   });
 });
 
+describe('the text report\'s horizon carries its unit', () => {
+  it('"over 14810 s (5 × the slowest time constant of 2963 s)" for the buffer tank', () => {
+    // τ = 2·A·h0/q0 (Seborg et al., liquid-level linearization): 2·3.2 m²·0.694444 m / 1.5e-3 m³/s = 2963 s
+    const r = buildReport(ex('buffer_tank.poise'), 'dry_day', { validity: false });
+    expect(r.horizon!.unit).toBe('s');
+    const tau = (2 * 3.2 * ((1.5e-3 / (0.4 * 0.0045)) ** 2)) / 1.5e-3;
+    expect(Math.abs(r.horizon!.value - 5 * tau) / (5 * tau)).toBeLessThan(1e-6);
+    expect(formatReportText(r)).toMatch(/^Step responses over 14810 s \(5 × the slowest time constant of 2963 s\):$/m);
+    // minutes in the glasshouse model
+    const g = buildReport(ex('glasshouse_loop.poise'), 'night', { validity: false });
+    expect(formatReportText(g)).toMatch(/^Step responses over [0-9.]+ min \(5 × the slowest time constant of [0-9.]+ min\):$/m);
+  });
+});
+
 describe('report wording and look', () => {
   const data = buildReport(ex('gantry_crane.poise'), 'parked_in_wind', { validity: false });
   const html = renderReportHtml(data);

@@ -33,7 +33,7 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   }
   const sol = r.a.point(r.point)!;
   const values = new Map(r.a.values(sol).map((v) => [v.name, v]));
-  const steps: Record<string, number> = {};
+  const steps: Record<string, number> = Object.create(null) as Record<string, number>; // input names are the keys
   for (const spec of stepSpecs) {
     const eq = spec.indexOf('=');
     if (eq <= 0) throw new h.UsageError(`--step takes INPUT=SIZE, not "${spec}"`);

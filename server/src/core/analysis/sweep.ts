@@ -319,7 +319,7 @@ export function dcGain(lin: LinearModel): number[][] | null {
 
 /**
  * Tolerances below which a real part counts as zero: `axis` relative to the spectral radius (the same
- * rule as dynamics.ts, AXIS_TOL·ρ(A)) for the verdicts; `fine`, a few hundred round-offs of ‖A‖∞, for
+ * rule as analysis/dynamics/, AXIS_TOL·ρ(A)) for the verdicts; `fine`, a few hundred round-offs of ‖A‖∞, for
  * locating a crossing.
  */
 function eigTolerance(lin: LinearModel, eig: { re: number; im: number }[]): { axis: number; fine: number } {
