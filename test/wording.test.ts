@@ -241,3 +241,14 @@ describe('one spelling, no named routines', () => {
     expect(golden).toContain('Deviation equations (Δv = v − v₀; v₀: the value at the point):');
   });
 });
+
+describe('empty matrices in the exports', () => {
+  it('say why in Markdown, LaTeX and NumPy (the belt drive declares no outputs)', () => {
+    const a = ex('belt_drive.poise');
+    const md = exportLinear(a, 'slow', 'markdown');
+    expect(md).toContain('**C** (0×2): empty — the model declares no outputs');
+    expect(md).not.toContain('(empty)');
+    expect(exportLinear(a, 'slow', 'latex')).toContain('% C (0×2): empty — the model declares no outputs');
+    expect(exportLinear(a, 'slow', 'numpy')).toMatch(/# C \(0×2\): empty — the model declares no outputs\nC = np\.zeros\(\(0, 2\)\)/);
+  });
+});

@@ -7,7 +7,7 @@
  */
 import type { Analysis, VariableValue } from '../pipeline/analysis';
 import { formatNumber } from '../algebra/expr';
-import { LINEAR_CAUTION, linearEigen, linearJson, rows, type LinearJson } from './format';
+import { emptyMatrixText, LINEAR_CAUTION, linearEigen, linearJson, rows, type LinearJson } from './format';
 import { deviationEquations, type LinearModel } from '../solve/linearizer';
 import { coefficientUnit } from '../analysis/symbolic';
 import { simplifyUnitText } from '../semantics/simplifyUnit';
@@ -124,11 +124,11 @@ export function linearMarkdown(lin: LinearModel, values: VariableValue[], o: Exp
   for (const v of values) if (v.kind !== 'const') out.push(`| ${mdEscape(v.name)} | ${fmt(v.value, o)} | ${mdEscape(v.unit)} | ${v.role} |`);
   out.push('', '```', ...deviationLines(lin, o, 'text'), '```', '');
   for (const M of matrices(lin)) {
-    out.push(`**${M.name}** (${M.r}×${M.c})`, '');
     if (!M.r || !M.c) {
-      out.push('(empty)', '');
+      out.push(`**${M.name}** ${emptyMatrixText(M.name, M.r, M.c).slice(M.name.length + 1)}`, '');
       continue;
     }
+    out.push(`**${M.name}** (${M.r}×${M.c})`, '');
     out.push(`| | ${M.colNames.map((c, j) => mdEscape(withUnit(`Δ${c}`, M.colUnits[j]))).join(' | ')} |`, `|---|${M.colNames.map(() => '---:').join('|')}|`);
     rows(M.data, M.r, M.c).forEach((row, i) => out.push(`| ${mdEscape(withUnit(`Δ${M.rowNames[i]}${M.rate ? "'" : ''}`, M.rowUnits[i] ? (M.rate ? simplifyUnitText(`${M.rowUnits[i]}/${lin.timeUnit}`) : M.rowUnits[i]) : M.rate ? `1/${lin.timeUnit}` : ''))} | ${row.map((x) => fmt(x, o)).join(' | ')} |`));
     out.push('');
@@ -198,7 +198,7 @@ function texNumber(v: number, o: ExportOptions): string {
 }
 
 function texMatrix(M: Matrix, o: ExportOptions): string {
-  if (!M.r || !M.c) return `% ${M.name} is empty (${M.r}×${M.c})`;
+  if (!M.r || !M.c) return `% ${emptyMatrixText(M.name, M.r, M.c)}`;
   const body = rows(M.data, M.r, M.c).map((row) => '  ' + row.map((x) => texNumber(x, o)).join(' & ')).join(' \\\\\n');
   return `${M.name} = \\begin{bmatrix}\n${body}\n\\end{bmatrix}`;
 }
@@ -267,7 +267,7 @@ export function linearNumpy(lin: LinearModel, values: VariableValue[], o: Export
     const rowLabel = (i: number) => `d${M.rowNames[i]}/dt`;
     out.push(`# ${M.name}: rows ${M.rate ? 'd(state)/dt' : 'outputs'}, columns ${M.colNames.length ? M.colNames.join(', ') : '(none)'}`);
     if (!M.r || !M.c) {
-      out.push(`${M.name} = np.zeros((${M.r}, ${M.c}))`, '');
+      out.push(`# ${emptyMatrixText(M.name, M.r, M.c)}`, `${M.name} = np.zeros((${M.r}, ${M.c}))`, '');
       continue;
     }
     out.push(`${M.name} = np.array([`);

@@ -79,13 +79,16 @@ const EMPTY_REASON: Record<string, [rows: string, cols: string]> = {
   D: ['the model declares no outputs', 'the model declares no inputs'],
 };
 
+/** "C (0×1): empty — the model declares no outputs": an empty matrix of the linear model, in words. */
+export function emptyMatrixText(name: string, r: number, c: number): string {
+  const why = EMPTY_REASON[name];
+  const parts = why ? [...new Set([r === 0 ? why[0] : '', c === 0 ? why[1] : ''].filter(Boolean))] : ['no entries'];
+  const reason = parts.length > 1 ? `${parts[0]} and ${parts[1].replace(/^the model (declares|has) /, '')}` : parts[0];
+  return `${name} (${r}×${c}): empty — ${reason}`;
+}
+
 export function formatMatrix(name: string, a: Float64Array, r: number, c: number, rowNames: string[], colNames: string[], digits = 5): string {
-  if (r === 0 || c === 0) {
-    const why = EMPTY_REASON[name];
-    const parts = why ? [...new Set([r === 0 ? why[0] : '', c === 0 ? why[1] : ''].filter(Boolean))] : ['no entries'];
-    const reason = parts.length > 1 ? `${parts[0]} and ${parts[1].replace(/^the model (declares|has) /, '')}` : parts[0];
-    return `${name} (${r}×${c}): empty — ${reason}`;
-  }
+  if (r === 0 || c === 0) return emptyMatrixText(name, r, c);
   const cells = rows(a, r, c).map((row) => row.map((x) => formatNumber(x, digits)));
   const w = Math.max(8, ...cells.flat().map((s) => s.length), ...colNames.map((s) => s.length));
   const rw = Math.max(...rowNames.map((s) => s.length));
