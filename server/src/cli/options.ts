@@ -64,7 +64,7 @@ export const COMMANDS: CommandSpec[] = [
     options: [
       POINT,
       { name: '--format', value: choice('text', 'json'), help: 'text, or json: the values with units and any diagnostics with ranges (schema poise-solve/1)', default: 'text' },
-      { name: '--digits', value: DIGITS, help: 'significant digits of the printed values (1 to 17)', default: '6' },
+      { name: '--digits', value: DIGITS, help: 'significant digits of the printed values, 1 to 17', default: '6; 17 for json' },
       HELP,
     ],
   },
@@ -76,7 +76,7 @@ export const COMMANDS: CommandSpec[] = [
     options: [
       POINT,
       { name: '--format', value: choice(...LINEARIZE_FORMATS), help: 'the output format (docs/exports.md)', default: 'text' },
-      { name: '--digits', value: DIGITS, help: 'significant digits (1 to 17)', default: '5; 17 for json' },
+      { name: '--digits', value: DIGITS, help: 'significant digits, 1 to 17', default: '5; 17 for json' },
       { name: '--symbolic', value: flag, help: 'coefficients as formulas in the constants and point values' },
       HELP,
     ],
@@ -106,7 +106,7 @@ export const COMMANDS: CommandSpec[] = [
       { name: '--sweep', value: text('NAME'), help: 'run the sweep declared in the file under this name' },
       { name: '--format', value: choice('text', 'json', 'csv'), help: 'the output format', default: 'text' },
       { name: '--html', value: text('OUT.html'), help: 'also write the standalone sweep page' },
-      { name: '--digits', value: DIGITS, help: 'significant digits of the text and page (1 to 17)', default: '5' },
+      { name: '--digits', value: DIGITS, help: 'significant digits of the text and page, 1 to 17', default: '5' },
       HELP,
     ],
     notes: [
