@@ -55,6 +55,7 @@ describe('usage errors: exit 2, one line on stderr, nothing on stdout', () => {
     ['two files for solve', ['solve', tank, tank], /"poise solve" takes one model file, not 2/],
     ['misspelt command', ['linearise', tank], /unknown command "linearise"; did you mean "linearize"\?/],
     ['an option before the command', ['--point', 'x', 'solve'], /"--point" is not a command/],
+    ['--log is a word of --vary', ['sweep', ex('belt_drive.poise'), '--log'], /"poise sweep" takes no option --log: write "log" at the end of --vary/],
   ];
   it.each(cases)('%s', async (_, argv, msg) => {
     const r = await run(...argv);

@@ -30,6 +30,8 @@ export interface CommandSpec {
   options: OptionSpec[];
   /** Lines printed after the options in the command's own help. */
   notes?: string[];
+  /** Options the command does not take, with what to write instead (an old habit, a word of the model language). */
+  instead?: Record<string, string>;
 }
 
 export class UsageError extends Error {}
@@ -109,6 +111,7 @@ export const COMMANDS: CommandSpec[] = [
       { name: '--digits', value: DIGITS, help: 'significant digits of the text and page, 1 to 17', default: '5' },
       HELP,
     ],
+    instead: { '--log': 'write "log" at the end of --vary, e.g. --vary "feed = 0.01 to 0.05 steps 40 log"' },
     notes: [
       'Without --vary or --sweep, runs the only sweep the file declares.',
       'FROM and TO are numbers in the declared unit of NAME, or with a unit: belt = 50 [mm/s] to 3 [m/s] steps 60.',
@@ -212,6 +215,7 @@ export function parseCommandLine(argv: string[]): Parsed {
     const name = eq > 0 ? a.slice(0, eq) : a;
     const o = known.get(name);
     if (!o) {
+      if (spec.instead?.[name]) throw new UsageError(`"poise ${cmd}" takes no option ${name}: ${spec.instead[name]}`);
       const others = COMMANDS.filter((c) => c.name !== cmd && c.options.some((x) => x.name === name)).map((c) => c.name);
       if (others.length) {
         throw new UsageError(`option ${name} does not apply to "poise ${cmd}" (it belongs to ${listWords(others.map((c) => `"poise ${c}"`))}); see "poise ${cmd} --help"`);
