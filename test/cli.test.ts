@@ -179,12 +179,12 @@ describe('poise linearize formats', () => {
     const j = JSON.parse(r.out);
     for (const k of ['point', 'values', 'states', 'inputs', 'outputs', 'A', 'B', 'C', 'D', 'eigenvalues']) expect(j, k).toHaveProperty(k);
     expect(j.point).toBe('night');
-    expect(j.states).toEqual(['twater', 'tair']);
+    expect(j.states).toEqual(['twater', 'tpipe', 'tair']);
     expect(j.inputs).toEqual(['power', 'flow']);
     expect(j.outputs).toEqual(['tret']);
     expect(j.values.tair).toEqual({ value: 18, unit: 'degC' });
-    expect(j.A).toHaveLength(2);
-    expect(j.A[0]).toHaveLength(2);
+    expect(j.A).toHaveLength(3);
+    expect(j.A[0]).toHaveLength(3);
     expect(j.B[0]).toHaveLength(2);
     expect(j.C).toHaveLength(1);
     expect(j.D[0]).toHaveLength(2);
@@ -193,6 +193,24 @@ describe('poise linearize formats', () => {
     // and the boiler supplies it: power = qpipe
     expect(j.values.qpipe.value).toBeCloseTo(10.5, 10);
     expect(j.values.power).toEqual({ value: expect.closeTo(10.5, 10), unit: 'kW' });
+    // the pump flow enters the heat balance: the loop carries qloop = ρ·cw·F·(twater − tpipe) = 10.5 kW,
+    // so twater − tpipe = 10.5 kW / (1 kg/L · 4.18 kJ/(kg·K) · 120 L/min) = 10.5·60/(4.18·120) K = 1.25598 K
+    // (hand computation), and the flow column of B is not zero:
+    // ∂twater'/∂F = −(twater − tpipe)/vboiler = −1.25598/600 K/L, ∂tpipe'/∂F = +1.25598/250 K/L
+    const dT = (10.5 * 60) / (4.18 * 120);
+    expect(j.values.twater.value - j.values.tpipe.value).toBeCloseTo(dT, 9);
+    const f = j.inputs.indexOf('flow');
+    expect(Math.abs(j.B[0][f] + dT / 600) / (dT / 600)).toBeLessThan(1e-9);
+    expect(Math.abs(j.B[1][f] - dT / 250) / (dT / 250)).toBeLessThan(1e-9);
+    // steady-state heat balance (an independent route): with the firing fixed, all of it leaves through
+    // the glass, so tair does not depend on the flow and Δtair/Δpower = 1/uglass; the DC gain of tret is
+    // 1/uglass + 1/upipe for power and 0 for flow: −C·A⁻¹·B + D solved here by Cramer's rule
+    const A = j.A as number[][];
+    const det3 = (m: number[][]) => m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1]) - m[0][1] * (m[1][0] * m[2][2] - m[1][2] * m[2][0]) + m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0]);
+    const solve = (b: number[]) => [0, 1, 2].map((k) => det3(A.map((row, i) => row.map((v, c) => (c === k ? b[i] : v)))) / det3(A));
+    const dc = (col: number) => -solve(j.B.map((row: number[]) => row[col]))[1]; // tret = tpipe
+    expect(Math.abs(dc(j.inputs.indexOf('power')) - (1 / 0.75 + 1 / 0.9)) / (1 / 0.75 + 1 / 0.9)).toBeLessThan(1e-9);
+    expect(Math.abs(dc(f))).toBeLessThan(1e-12);
   });
 
   it('markdown: a heading naming the point and tables of A, B, C, D with Δ names', async () => {
@@ -200,14 +218,15 @@ describe('poise linearize formats', () => {
     expect(r.code).toBe(0);
     expect(r.out).toMatch(/^## .*`night`/);
     for (const m of ['A', 'B', 'C', 'D']) expect(r.out).toMatch(new RegExp(`^\\*\\*${m}\\*\\*`, 'm'));
-    // the A row of twater: [−k, k] with k = upipe/(ρ·V·cw) = 0.9 kW/K / (1 kg/L · 850 L · 4.18 kJ/(kg·K))
-    // = 2.5331e-4 /s = 0.0151984 /min (hand computation)
-    const row = r.out.split('\n').find((l) => /^\| Δtwater'?( \[[^\]]*\])? \|/.test(l) && l.split('|').length === 5);
+    // the A row of twater: [−k, k, 0] with k = ρ·cw·F/(ρ·vboiler·cw) = F/vboiler = 120 L/min / 600 L
+    // = 0.2 /min (hand computation)
+    const row = r.out.split('\n').find((l) => /^\| Δtwater'?( \[[^\]]*\])? \|/.test(l) && l.split('|').length === 6);
     expect(row, 'A row of Δtwater').toBeDefined();
-    const [a11, a12] = row!.split('|').slice(2, 4).map((c) => Number(c.trim()));
-    const k = (0.9 * 60) / (850 * 4.18);
+    const [a11, a12, a13] = row!.split('|').slice(2, 5).map((c) => Number(c.trim()));
+    const k = 120 / 600;
     expect(Math.abs(a11 + k) / k).toBeLessThan(1e-4);
     expect(Math.abs(a12 - k) / k).toBeLessThan(1e-4);
+    expect(a13).toBe(0);
   });
 
   it('text is the default and names the time unit', async () => {

@@ -256,7 +256,7 @@ describe('poise report (the command)', () => {
     const r = await runCliAsync(['report', path.join(EXAMPLES, 'buffer_tank.poise'), '--point', 'dry_day', '--format', 'json', '--step', 'inflow=5%', '--step', 'opening=-0.02', '--tolerance', '2']);
     expect(r.code, r.stderr).toBe(0);
     const d = JSON.parse(r.stdout) as ReportData;
-    expect(d.format).toBe('poise-report/1');
+    expect(d.schema).toBe('poise-report/1');
     expect(d.tolerance).toBe(0.02);
     expectCloseRel(d.steps.find((s) => s.input === 'inflow')!.step, 0.075, 1e-12);
     expectCloseRel(d.steps.find((s) => s.input === 'opening')!.step, -0.02, 1e-12);

@@ -271,7 +271,8 @@ describe('declared sweeps and requests', () => {
     expect(varyRequest(a, 'nominal', 'level = 1 to 2 steps 3').error).toMatch(/level/);
     expect(varyRequest(a, 'nominal', 'feed = 0 to 1 steps 3 log').error).toMatch(/above zero/);
     expect(varyRequest(a, 'nominal', 'feed = 1 to 2').error).toMatch(/NAME = FROM to TO steps N/);
-    expect(varyRequest(a, 'nominal', 'nosuch = 1 to 2 steps 3').error).toMatch(/nosuch/);
+    expect(varyRequest(a, 'nominal', 'nosuch = 1 to 2 steps 3').error).toMatch(/the model has no name "nosuch"/);
+    expect(varyRequest(a, 'nominal', 'fede = 1 to 2 steps 3').error).toBe('--vary: the model has no name "fede"; did you mean "feed"?');
     // the colon triple is refused: its parts mean different things in different tools
     const colon = varyRequest(a, 'nominal', 'feed=1:2:3');
     expect(colon.spec).toBeUndefined();

@@ -258,7 +258,7 @@ async function sweep(panels: PanelManager, args: unknown[]): Promise<void> {
 
 const FORMATS: { format: ExportFormat; label: string; description: string; extension: string; language: string }[] = [
   { format: 'json', label: 'JSON', description: 'matrices A, B, C, D with names and units', extension: 'json', language: 'json' },
-  { format: 'csv', label: 'CSV', description: 'one table per matrix', extension: 'csv', language: 'plaintext' },
+  { format: 'csv', label: 'CSV', description: 'one row per number: kind, row, column, value, unit', extension: 'csv', language: 'plaintext' },
   { format: 'markdown', label: 'Markdown', description: 'tables for notes and reports', extension: 'md', language: 'markdown' },
   { format: 'latex', label: 'LaTeX', description: 'matrices for a document', extension: 'tex', language: 'latex' },
   { format: 'numpy', label: 'NumPy', description: 'Python source defining arrays', extension: 'py', language: 'python' },

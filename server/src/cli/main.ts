@@ -139,7 +139,8 @@ function checkCommand(p: Parsed, io: Io): number {
 
 function solveCommand(p: Parsed, io: Io): number {
   const file = oneFile(p);
-  const digits = digitsOf(p, 6);
+  // JSON is for programs: every digit unless --digits asks for fewer
+  const digits = digitsOf(p, opt(p, '--format') === 'json' ? 17 : 6);
   if (opt(p, '--format') !== 'json') {
     const r = prepare(file, opt(p, '--point'), io);
     if (!r) return 1;

@@ -30,6 +30,8 @@ export interface CommandSpec {
   options: OptionSpec[];
   /** Lines printed after the options in the command's own help. */
   notes?: string[];
+  /** Options the command does not take, with what to write instead (an old habit, a word of the model language). */
+  instead?: Record<string, string>;
 }
 
 export class UsageError extends Error {}
@@ -64,7 +66,7 @@ export const COMMANDS: CommandSpec[] = [
     options: [
       POINT,
       { name: '--format', value: choice('text', 'json'), help: 'text, or json: the values with units and any diagnostics with ranges (schema poise-solve/1)', default: 'text' },
-      { name: '--digits', value: DIGITS, help: 'significant digits of the printed values (1 to 17)', default: '6' },
+      { name: '--digits', value: DIGITS, help: 'significant digits of the printed values, 1 to 17', default: '6; 17 for json' },
       HELP,
     ],
   },
@@ -76,7 +78,7 @@ export const COMMANDS: CommandSpec[] = [
     options: [
       POINT,
       { name: '--format', value: choice(...LINEARIZE_FORMATS), help: 'the output format (docs/exports.md)', default: 'text' },
-      { name: '--digits', value: DIGITS, help: 'significant digits (1 to 17)', default: '5; 17 for json' },
+      { name: '--digits', value: DIGITS, help: 'significant digits, 1 to 17', default: '5; 17 for json' },
       { name: '--symbolic', value: flag, help: 'coefficients as formulas in the constants and point values' },
       HELP,
     ],
@@ -106,9 +108,10 @@ export const COMMANDS: CommandSpec[] = [
       { name: '--sweep', value: text('NAME'), help: 'run the sweep declared in the file under this name' },
       { name: '--format', value: choice('text', 'json', 'csv'), help: 'the output format', default: 'text' },
       { name: '--html', value: text('OUT.html'), help: 'also write the standalone sweep page' },
-      { name: '--digits', value: DIGITS, help: 'significant digits of the text and page (1 to 17)', default: '5' },
+      { name: '--digits', value: DIGITS, help: 'significant digits of the text and page, 1 to 17', default: '5' },
       HELP,
     ],
+    instead: { '--log': 'write "log" at the end of --vary, e.g. --vary "feed = 0.01 to 0.05 steps 40 log"' },
     notes: [
       'Without --vary or --sweep, runs the only sweep the file declares.',
       'FROM and TO are numbers in the declared unit of NAME, or with a unit: belt = 50 [mm/s] to 3 [m/s] steps 60.',
@@ -212,6 +215,7 @@ export function parseCommandLine(argv: string[]): Parsed {
     const name = eq > 0 ? a.slice(0, eq) : a;
     const o = known.get(name);
     if (!o) {
+      if (spec.instead?.[name]) throw new UsageError(`"poise ${cmd}" takes no option ${name}: ${spec.instead[name]}`);
       const others = COMMANDS.filter((c) => c.name !== cmd && c.options.some((x) => x.name === name)).map((c) => c.name);
       if (others.length) {
         throw new UsageError(`option ${name} does not apply to "poise ${cmd}" (it belongs to ${listWords(others.map((c) => `"poise ${c}"`))}); see "poise ${cmd} --help"`);

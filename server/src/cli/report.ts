@@ -31,7 +31,7 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   const lin = r.a.linear(r.point);
   if (!lin || !lin.ok) {
     for (const d of lin?.diagnostics ?? []) io.err(`${file}: ${d.message}`);
-    if (!lin?.diagnostics.length) io.err(`${file}: the model cannot be linearised at point "${r.point}"`);
+    if (!lin?.diagnostics.length) io.err(`${file}: the model cannot be linearized at point "${r.point}"`);
     return 1;
   }
   const sol = r.a.point(r.point)!;

@@ -6,6 +6,7 @@
  */
 import { analyze, type Analysis } from '../core/pipeline/analysis';
 import { declaredSweeps, type SweepSpec } from '../core/analysis/sweep';
+import { nearest } from './options';
 
 /** The old colon range "NAME=A:B:C": its parts are read differently by different tools, so it is refused. */
 const COLON_RANGE = /^\s*([A-Za-z_][\w]*)\s*=\s*[^:\s][^:]*:[^:]+:[^:]+$/;
@@ -32,6 +33,12 @@ export function varyRequest(a: Analysis, point: string, vary: string): { spec?: 
   const own = b.diagnostics.filter((d) => d.severity === 'error' && mine(d.span.start));
   if (own.length) {
     const d = own.sort((x, y) => x.span.start - y.span.start)[0];
+    if (d.code === 'P201') {
+      // an unknown name: the nearest name the model declares
+      const word = text.slice(d.span.start, d.span.end);
+      const near = nearest(word, [...a.bound.symbols.keys()]);
+      return { error: `--vary: the model has no name "${word}"${near ? `; did you mean "${near}"?` : ''}` };
+    }
     const col = Math.max(0, d.span.start - start);
     const where = col > 0 && col < body.length ? ` (at "${body.slice(col, col + 12)}")` : '';
     return { error: `${say(d.message).replace(/\.$/, '')}${where}. ${example}` };

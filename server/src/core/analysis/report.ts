@@ -107,7 +107,7 @@ export interface ValidityReport {
 }
 
 export interface ReportData extends LinearSignals {
-  format: 'poise-report/1';
+  schema: 'poise-report/1';
   title: string;
   point: string;
   timeUnit: string;
@@ -155,7 +155,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   const tolerance = opts.tolerance ?? 0.05;
   const timingsMs: Record<string, number> = {};
   const data: ReportData = {
-    format: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: a.lowered.timeUnit || 's', digest: a.pointBlock(point) ? a.digest(point) : '',
+    schema: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: a.lowered.timeUnit || 's', digest: a.pointBlock(point) ? a.digest(point) : '',
     ok: false, problems: [], values: [], states: [], inputs: [], outputs: [], stateUnits: [], inputUnits: [], outputUnits: [], outputsAreStates: false,
     matrices: null, stability: null, eigenvalues: [], modes: [], dcGain: null, transfer: [], controllability: null, observability: null,
     frequency: null, horizon: null, tolerance, steps: [], validity: null, cautions: CAUTIONS.slice(), timingsMs,
@@ -178,7 +178,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   data.values = a.values(sol).map((v) => ({ name: v.name, kind: v.kind, value: v.value, unit: v.unit, role: v.role }));
   const lin = a.linear(point);
   if (!lin || !lin.ok) {
-    data.problems.push(...(lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearised at this point.']));
+    data.problems.push(...(lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearized at this point.']));
     return data;
   }
   const dyn = analyzeDynamics(lin);

@@ -18,6 +18,8 @@ import { compileModel } from '../model/jacobian';
 import { declaredValue, linearize, type LinearModel } from '../solve/linearizer';
 import { AXIS_TOL, eigenFigures, linearSystem, stabilityOf, type Mode, type StabilityClass } from './dynamics';
 import { steadyStateGain } from './dynamics/dcGain';
+import { perUnit } from './dynamics';
+import { simplifyUnitText } from '../semantics/simplifyUnit';
 import { eigenvalues, sortEigen } from '../numeric/eigen';
 import { sparseLU } from '../numeric/sparseLU';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
@@ -103,6 +105,8 @@ export interface SweepResult {
   outputs: string[];
   /** Rows of dcGain: the outputs, or the states when the model declares no output. */
   gainRows: string[];
+  /** Unit of each DC gain (rows gainRows, columns inputs): row unit per input unit, simplified. */
+  gainUnits: string[][];
   points: SweepPoint[];
   crossings: Crossing[];
   stop?: SweepStop;
@@ -205,11 +209,14 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
   const colSlots = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => s.id);
   const outputs = lm.slots.filter((s) => s.kind === 'output').map((s) => s.name);
   const states = lm.stateComponents.map((s) => lm.slots[s].name);
+  const unitOf = (id: number) => (lm.slots[id].unit.text === '1' ? '' : lm.slots[id].unit.text);
+  const rowUnits = outputs.length ? lm.slots.filter((s) => s.kind === 'output').map((s) => unitOf(s.id)) : lm.stateComponents.map(unitOf);
+  const gainUnits = rowUnits.map((ru) => lm.inputs.map((id) => simplifyUnitText(perUnit(ru, unitOf(id)))));
   const result: SweepResult = {
     name: spec.name, point: spec.point,
     vary: { name: spec.vary, kind: slot ? slot.kind : '?', unit: slot ? unitText(slot.unit.text) : '', from: spec.from, to: spec.to, steps: spec.steps, log: !!spec.log },
     timeUnit, columns, states, inputs: lm.inputs.map((s) => lm.slots[s].name), outputs,
-    gainRows: outputs.length ? outputs : states,
+    gainRows: outputs.length ? outputs : states, gainUnits,
     points: [], crossings: [], complete: false, diagnostics: [], stats: { solves: 0, linearizations: 0, bisections: 0 },
   };
   const varyUnit = unitSuffix(result.vary.unit);

@@ -24,6 +24,7 @@ import { compileModel } from '../model/jacobian';
 import type { LinearModel } from '../solve/linearizer';
 import type { LoweredModel, Slot } from '../model/model';
 import { unitText } from '../semantics/units';
+import { simplifyUnitText } from '../semantics/simplifyUnit';
 
 export interface SymbolicOptions {
   /** Largest formula kept, in expression nodes (default 250). */
@@ -448,8 +449,9 @@ export function coefficientUnit(rowUnit: string, colUnit: string, perTime?: stri
   if (perTime) den.push(paren(perTime));
   if (c && c !== r) den.push(paren(c));
   const numer = r && r !== c ? paren(r) : '1';
-  if (!den.length) return numer === '1' ? '' : numer;
-  return `${numer}/${den.length === 1 ? den[0] : `(${den.join('*')})`}`;
+  if (!den.length) return numer === '1' ? '' : simplifyUnitText(numer);
+  // e.g. m/(s*(m/s)) → dimensionless, m/s/s → m/s^2 (semantics/simplifyUnit.ts)
+  return simplifyUnitText(`${numer}/${den.length === 1 ? den[0] : `(${den.join('*')})`}`);
 }
 
 export interface CoefficientInfo {
@@ -593,7 +595,7 @@ export function formatSymbolic(s: SymbolicLinear, digits?: number): string {
     }
     out.push('');
   }
-  out.push('Deviation equations (Δx = x − x at the point):');
+  out.push('Deviation equations (Δv = v − v₀; v₀: the value at the point):');
   for (const e of symbolicEquations(s, digits)) out.push('  ' + e.text);
   if (s.tooLarge) {
     const which: string[] = [];

@@ -238,7 +238,7 @@ export function complexSolve(
   const perm = new Int32Array(n);
   for (let i = 0; i < n; i++) perm[i] = i;
   for (let k = 0; k < n; k++) {
-    // pivot search on |re| + |im| (as LAPACK's izamax does)
+    // pivot search on |re| + |im| (a cheap magnitude, common practice)
     let best = -1;
     let bmax = -1;
     for (let i = k; i < n; i++) {

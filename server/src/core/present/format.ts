@@ -24,6 +24,13 @@ export interface LinearJson {
   equations: string[];
 }
 
+/**
+ * The one caution line of the linear model in text and in every export (as a comment where the format has
+ * comments). The full cautions are in the README and the report.
+ */
+export const LINEAR_CAUTION =
+  'Caution: valid only near this operating point; safety-related use follows licensed engineering practice and the local codes.';
+
 export function rows(a: Float64Array, r: number, c: number): number[][] {
   const out: number[][] = [];
   for (let i = 0; i < r; i++) out.push(Array.from(a.subarray(i * c, i * c + c)));
@@ -65,8 +72,24 @@ export function formatValues(values: VariableValue[], digits = 6, withConstants 
     .join('\n');
 }
 
+/** Why a matrix of the linear model has no entries, in words (its rows/columns are states, inputs or outputs). */
+const EMPTY_REASON: Record<string, [rows: string, cols: string]> = {
+  A: ['the model has no states', 'the model has no states'],
+  B: ['the model has no states', 'the model declares no inputs'],
+  C: ['the model declares no outputs', 'the model has no states'],
+  D: ['the model declares no outputs', 'the model declares no inputs'],
+};
+
+/** "C (0×1): empty — the model declares no outputs": an empty matrix of the linear model, in words. */
+export function emptyMatrixText(name: string, r: number, c: number): string {
+  const why = EMPTY_REASON[name];
+  const parts = why ? [...new Set([r === 0 ? why[0] : '', c === 0 ? why[1] : ''].filter(Boolean))] : ['no entries'];
+  const reason = parts.length > 1 ? `${parts[0]} and ${parts[1].replace(/^the model (declares|has) /, '')}` : parts[0];
+  return `${name} (${r}×${c}): empty — ${reason}`;
+}
+
 export function formatMatrix(name: string, a: Float64Array, r: number, c: number, rowNames: string[], colNames: string[], digits = 5): string {
-  if (r === 0 || c === 0) return `${name} = [] (${r}×${c})`;
+  if (r === 0 || c === 0) return emptyMatrixText(name, r, c);
   const cells = rows(a, r, c).map((row) => row.map((x) => formatNumber(x, digits)));
   const w = Math.max(8, ...cells.flat().map((s) => s.length), ...colNames.map((s) => s.length));
   const rw = Math.max(...rowNames.map((s) => s.length));
@@ -85,7 +108,7 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   out.push(`Point ${lin.point} (time in ${t})`);
   out.push(formatValues(values, 6));
   out.push('');
-  out.push('Deviation equations (Δx = x − x at the point):');
+  out.push('Deviation equations (Δv = v − v₀; v₀: the value at the point):');
   for (const e of eqs) out.push('  ' + e.text);
   out.push('');
   const sn = lin.states.map((s, i) => `Δ${s}${unitSuffix(lin.stateUnits[i])}`);
@@ -97,6 +120,7 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   out.push(formatMatrix('D', lin.D, lin.p, lin.m, on, inn, digits));
   out.push('');
   out.push(`Eigenvalues [1/${t}]: ${formatEigen(linearEigen(lin), digits) || '(none)'}`);
+  out.push('', LINEAR_CAUTION);
   void a;
   return out.join('\n');
 }

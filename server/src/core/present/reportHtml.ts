@@ -8,6 +8,7 @@
 import { formatNumber } from '../algebra/expr';
 import type { Complex, TransferFunction } from '../analysis/dynamics';
 import type { ReportData, StepReport, ValidityLimit, ValidityReport } from '../analysis/report';
+import { factorsOf, transferLines } from '../analysis/transferText';
 import { chart, esc, htmlPage, legend, linRange, num, newPage, r1, type AxisSpec, type PageContext, type Series } from './svgCharts';
 import { unitSuffix } from '../semantics/units';
 
@@ -38,31 +39,32 @@ function polyHtml(c: number[], d = 4): string {
     const mag = Math.abs(a);
     const coef = mag === 1 && pw > 0 ? '' : num(mag, d);
     const sv = pw === 0 ? '' : `<i>s</i>${pw > 1 ? `<sup>${pw}</sup>` : ''}`;
-    const term = coef && sv ? `${coef}&#8239;${sv}` : coef || sv;
+    const term = coef && sv ? `${coef}·${sv}` : coef || sv;
     out += out ? ` ${a < 0 ? '−' : '+'} ${term}` : `${a < 0 ? '−' : ''}${term}`;
   });
   return out || '0';
 }
 
 function factorsHtml(rs: Complex[], d = 4): string[] {
-  const out: string[] = [];
-  for (const r of rs) {
-    if (r.im < 0) continue;
-    if (r.im > 0) {
-      const b = -2 * r.re;
-      out.push(`(<i>s</i><sup>2</sup> ${b < 0 ? '−' : '+'} ${num(Math.abs(b), d)}&#8239;<i>s</i> + ${num(r.re * r.re + r.im * r.im, d)})`);
-    } else if (r.re === 0) out.push('<i>s</i>');
-    else out.push(`(<i>s</i> ${r.re > 0 ? '−' : '+'} ${num(Math.abs(r.re), d)})`);
-  }
-  return out;
+  // the factors of the text notation (analysis/transferText.ts): repeated ones once, with a power
+  return factorsOf(rs, d).map((f) => {
+    const base =
+      f.kind === 's'
+        ? '<i>s</i>'
+        : f.kind === 'linear'
+          ? `(<i>s</i> ${f.coef[0] < 0 ? '−' : '+'} ${num(Math.abs(f.coef[0]), d)})`
+          : `(<i>s</i><sup>2</sup> ${f.coef[0] === 0 ? '' : `${f.coef[0] < 0 ? '−' : '+'} ${num(Math.abs(f.coef[0]), d)}·<i>s</i> `}+ ${num(f.coef[1], d)})`;
+    return f.power > 1 ? `${base}<sup>${f.power}</sup>` : base;
+  });
 }
 
 function transferHtml(tf: TransferFunction): string {
   if (tf.identicallyZero) return '<span class="muted">0 (no path from this input to this output)</span>';
-  const num1 = [num(tf.gain), ...factorsHtml(tf.zeros)].join('&#8239;');
+  const zs = factorsHtml(tf.zeros);
+  const num1 = (zs.length && tf.gain === 1 ? zs : [num(tf.gain), ...zs]).join('·');
   const den = factorsHtml(tf.poles);
   if (!den.length) return num1;
-  return `<span class="frac"><span class="nu">${num1}</span><span class="de">${den.join('&#8239;')}</span></span>`;
+  return `<span class="frac"><span class="nu">${num1}</span><span class="de">${den.join('·')}</span></span>`;
 }
 
 /** A fraction as a plain-text percentage for SVG text: "4.43 %", "< 0.001 %". */
@@ -114,8 +116,8 @@ function sectionModes(page: PageContext, d: ReportData): string {
     .join('');
   return `<section id="modes"><h2>Stability and modes</h2>
 <p class="verdict">${verdictBadge(d)} ${esc(st.reason)}</p>
-<p class="note">Eigenvalues λ of A in 1/${esc(t)}. τ = 1/|Re λ| (for a growing mode: the time to grow by a factor e); ωn = |λ|, ζ = −Re λ/|λ| for complex pairs. |Re λ| ≤ ${num(st.tolerance, 2)} counts as on the imaginary axis (10<sup>−9</sup> of the spectral radius ${num(st.spectralRadius)}). Participation factors |v<sub>ik</sub>w<sub>ik</sub>| (right and left eigenvectors) show which states a mode lives in.</p>
-${d.modes.length ? `<div class="scroll"><table class="data"><thead><tr><th class="num">#</th><th class="num">λ [1/${esc(t)}]</th><th>kind</th><th class="num">τ [${esc(t)}]</th><th class="num">ωn [rad/${esc(t)}]</th><th class="num">ζ</th><th class="num">period [${esc(t)}]</th><th>lives in</th><th>controllable</th><th>observable</th><th></th></tr></thead><tbody>${body}</tbody></table></div>` : '<p>The model has no states.</p>'}
+<p class="note">Eigenvalues λ of A in 1/${esc(t)}. τ = 1/|Re λ| (for a growing mode: the time to grow by a factor e); ωn = |λ|, ζ = −Re λ/|λ| for complex pairs. |Re λ| ≤ ${num(st.tolerance, 2)} counts as on the imaginary axis (10<sup>−9</sup> of the spectral radius ${num(st.spectralRadius)}). Participation factors |v<sub>ik</sub>w<sub>ik</sub>| (right and left eigenvectors) show how much each state takes part in a mode (the participation column).</p>
+${d.modes.length ? `<div class="scroll"><table class="data"><thead><tr><th class="num">#</th><th class="num">λ [1/${esc(t)}]</th><th>kind</th><th class="num">τ [${esc(t)}]</th><th class="num">ωn [rad/${esc(t)}]</th><th class="num">ζ</th><th class="num">period [${esc(t)}]</th><th>participation</th><th>controllable</th><th>observable</th><th></th></tr></thead><tbody>${body}</tbody></table></div>` : '<p>The model has no states.</p>'}
 ${d.modes.length ? poleZeroMap(page, d) : ''}
 </section>`;
 }
@@ -161,8 +163,8 @@ function poleZeroMap(page: PageContext, d: ReportData): string {
   const series: Series[] = [{ kind: 'poles', cls: 's0', x: d.eigenvalues.map((e) => e.re), y: d.eigenvalues.map((e) => e.im), label: 'eigenvalues (poles)' }];
   zeroSets.forEach((tf, k) => series.push({ kind: 'zeros', cls: `s${(k % 6) + 1}`, x: tf.zeros.map((z) => z.re), y: tf.zeros.map((z) => z.im), label: `zeros ${pairTitle(tf.input, tf.output)}` }));
   const svg = chart(page, {
-    id: 'pz', x, y, series, height: 300, title: 'Pole–zero map',
-    xspans: [{ x0: 0, x1: x.max, cls: 'rhp' }], vlines: [{ x: 0, cls: 'axis0' }], hlines: [{ y: 0, cls: 'axis0' }],
+    id: 'pz', x, y, series, height: 300, title: 'Pole–zero map', equalAspect: true,
+    xspans: [{ x0: 0, x1: Infinity, cls: 'rhp' }], vlines: [{ x: 0, cls: 'axis0' }], hlines: [{ y: 0, cls: 'axis0' }],
   });
   const items = series.map((s) => ({ cls: s.cls, kind: s.kind, label: s.label! }));
   items.push({ cls: 'rhp', kind: 'band', label: 'right half-plane (unstable)' });
@@ -199,7 +201,9 @@ function sectionTransfer(d: ReportData): string {
   const items = d.transfer
     .map((tf) => {
       const poly = `(${polyHtml(tf.num)}) / (${polyHtml(tf.den)})`;
-      const det = tf.identicallyZero || tf.order === 0 ? '' : `${tf.order > 3 ? `<details class="poly"><summary>as polynomials in s</summary>= ${poly}</details>` : `<div class="poly">= ${poly}</div>`}
+      // the polynomial form only when it reads differently from the factored form (docs/dynamics.md)
+      const same = !transferLines(tf).polynomial;
+      const det = tf.identicallyZero || tf.order === 0 ? '' : `${same ? '' : tf.order > 3 ? `<details class="poly"><summary>as polynomials in s</summary>= ${poly}</details>` : `<div class="poly">= ${poly}</div>`}
 <div class="roots"><span>poles: ${tf.poles.map((x) => complexHtml(x)).join(', ') || 'none'}</span><span>zeros: ${tf.zeros.map((x) => complexHtml(x)).join(', ') || 'none'}</span>${tf.cancelled ? `<span class="muted">${tf.cancelled} mode(s) of A do not appear (uncontrollable from this input or unobservable in this output)</span>` : ''}</div>`;
       return `<div class="tf"><div class="tfhead">${esc(pairTitle(tf.input, tf.output))}${tf.unit ? ` <span class="unit">[${esc(tf.unit)}]</span>` : ''}</div><div class="tfexpr"><span><i>G</i>(<i>s</i>) =</span>${transferHtml(tf)}</div>${det}</div>`;
     })
@@ -386,7 +390,7 @@ export function renderReportHtml(data: ReportData, opts: RenderOptions = {}): st
     headerExtra: `${data.ok && data.stability ? verdictBadge(data) : ''}<span class="meta">${meta}</span>`,
     nav,
     body: `${cautionsBox(data, 'head')}\n${sections.join('\n')}\n${data.ok ? cautionsBox(data, 'foot') : ''}`,
-    footer: 'Generated by Poise from the model text. Linearisation at the point; eigenvalues by Hessenberg QR; zeros and poles per pair from a minimal realisation; frequency response by complex linear solves; step responses by the matrix exponential (linear) and Rodas4 (nonlinear).',
+    footer: 'Generated by Poise from the model text. Linearization at the point; eigenvalues by Hessenberg QR; zeros and poles per pair from a minimal realisation; frequency response by complex linear solves; step responses by the matrix exponential (linear) and Rodas4 (nonlinear).',
     nonce: opts.nonce,
     cspSource: opts.cspSource,
   });

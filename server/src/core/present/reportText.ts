@@ -2,6 +2,7 @@
 import { formatNumber } from '../algebra/expr';
 import type { Complex, TransferFunction } from '../analysis/dynamics';
 import type { ReportData, ValidityLimit } from '../analysis/report';
+import { transferLines } from '../analysis/transferText';
 
 const f = (v: number | null | undefined, d = 4): string => (v === null || v === undefined ? '—' : formatNumber(v, d));
 const u = (unit: string) => (unit ? ` ${unit}` : '');
@@ -64,7 +65,7 @@ export function formatReportText(r: ReportData, d = 4): string {
     if (md.kind === 'real') desc += `, τ = ${f(md.timeConstant, d)} ${t}`;
     if (md.kind === 'oscillatory' || md.kind === 'undamped') desc += `, ωn = ${f(md.naturalFrequency, d)} rad/${t}, period ${f(md.period, d)} ${t}`;
     const flags = [!md.controllable ? 'uncontrollable' : '', !md.observable ? 'unobservable' : ''].filter(Boolean).join(', ');
-    out.push(`  ${String(md.number).padStart(2)}. λ = ${lam}: ${desc}; lives in ${md.dominant.join(', ')}${flags ? ` [${flags}]` : ''}`);
+    out.push(`  ${String(md.number).padStart(2)}. λ = ${lam}: ${desc}; participation: ${md.dominant.join(', ')}${flags ? ` [${flags}]` : ''}`);
   }
   if (!r.modes.length) out.push('  (none: the model has no states)');
   const ctl = r.controllability!;
@@ -82,12 +83,13 @@ export function formatReportText(r: ReportData, d = 4): string {
     }
   }
   if (!r.inputs.length) out.push('  (the model has no inputs)');
-  out.push('', 'Transfer functions G(s) = K·Π(s − z)/Π(s − p):');
+  out.push('', `Transfer functions G(s) = K·Π(s − z) / Π(s − p), s in 1/${t} (factored first; "=" the polynomials where they read differently):`);
   if (!r.inputs.length) out.push('  (the model has no inputs)');
   for (const tf of r.transfer) {
-    out.push(`  ${tf.input} → ${tf.output}: ${factoredText(tf, d)}${tf.unit ? `   [${tf.unit}]` : ''}`);
+    const tl = transferLines(tf, d);
+    out.push(`  ${tf.input} → ${tf.output}: ${tl.factored}${tf.unit ? `   [${tf.unit}]` : ''}`);
     if (!tf.identicallyZero && tf.order > 0) {
-      out.push(`      = (${polyText(tf.num, d)}) / (${polyText(tf.den, d)})`);
+      if (tl.polynomial) out.push(`      = ${tl.polynomial}`);
       out.push(`      poles: ${tf.poles.map((x) => complexText(x, d)).join(', ') || 'none'}; zeros: ${tf.zeros.map((x) => complexText(x, d)).join(', ') || 'none'}${tf.cancelled ? `; ${tf.cancelled} mode(s) do not appear` : ''}`);
     }
   }

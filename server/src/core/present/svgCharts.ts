@@ -54,6 +54,8 @@ export interface ChartSpec {
   /** Shaded vertical spans (e.g. the valid range, the right half-plane). */
   xspans?: { x0: number; x1: number; cls: string }[];
   title?: string;
+  /** One unit is the same length on both axes (a map of the complex plane): the ranges are widened to fit. */
+  equalAspect?: boolean;
 }
 
 const tfm = (kind: ScaleKind, c: number, v: number): number => {
@@ -61,6 +63,32 @@ const tfm = (kind: ScaleKind, c: number, v: number): number => {
   if (kind === 'symlog') return Math.sign(v) * Math.log10(1 + Math.abs(v) / c);
   return v;
 };
+
+/** The inverse of tfm. */
+const untfm = (kind: ScaleKind, c: number, t: number): number => {
+  if (kind === 'log') return Math.pow(10, t);
+  if (kind === 'symlog') return Math.sign(t) * c * (Math.pow(10, Math.abs(t)) - 1);
+  return t;
+};
+
+/**
+ * Widens the axis ranges (about their middles, in the axes' own transformed coordinates) so that one unit
+ * spans as many pixels across as up: `w` × `h` is the plot area in pixels.
+ */
+export function equalAspectAxes(x: AxisSpec, y: AxisSpec, w: number, h: number): { x: AxisSpec; y: AxisSpec } {
+  const cx = x.c ?? 1;
+  const cy = y.c ?? 1;
+  const [x0, x1] = [tfm(x.kind, cx, x.min), tfm(x.kind, cx, x.max)];
+  const [y0, y1] = [tfm(y.kind, cy, y.min), tfm(y.kind, cy, y.max)];
+  const u = Math.max((x1 - x0) / w, (y1 - y0) / h);
+  if (!(u > 0) || !Number.isFinite(u)) return { x, y };
+  const mx = (x0 + x1) / 2;
+  const my = (y0 + y1) / 2;
+  return {
+    x: { ...x, min: untfm(x.kind, cx, mx - (u * w) / 2), max: untfm(x.kind, cx, mx + (u * w) / 2), step: undefined },
+    y: { ...y, min: untfm(y.kind, cy, my - (u * h) / 2), max: untfm(y.kind, cy, my + (u * h) / 2), step: undefined },
+  };
+}
 
 export class Scale {
   private readonly a: number;
@@ -217,16 +245,22 @@ export function newPage(): PageContext {
   return { chartId: (base) => `${base}-${++charts}` };
 }
 
-export function chart(page: PageContext, spec: ChartSpec): string {
+export function chart(page: PageContext, spec0: ChartSpec): string {
+  let spec = spec0;
   const W = spec.width ?? 480;
   const H = spec.height ?? 260;
-  const tx0 = ticksOf(spec.x);
-  const ty0 = ticksOf(spec.y);
+  let tx0 = ticksOf(spec.x);
+  let ty0 = ticksOf(spec.y);
   const labelWidth = Math.max(0, ...ty0.major.map((v) => tickLabel(v).replace(/<[^>]+>/g, '').length * 6.1));
   const L = Math.round(Math.max(48, 30 + labelWidth));
   const R = 14;
   const T = spec.title ? 26 : 12;
   const B = 44;
+  if (spec.equalAspect) {
+    spec = { ...spec, ...equalAspectAxes(spec.x, spec.y, W - L - R, H - T - B) };
+    tx0 = ticksOf(spec.x);
+    ty0 = ticksOf(spec.y);
+  }
   const sx = new Scale(spec.x, L, W - R);
   const sy = new Scale(spec.y, H - B, T);
   const id = page.chartId(spec.id);
@@ -339,6 +373,25 @@ const LIGHT = `--bg:#f6f5f1;--card:#ffffff;--fg:#1c2130;--muted:#5d6474;--line:#
 const DARK = `--bg:#16191f;--card:#1e222a;--fg:#e3e6ec;--muted:#9aa2b1;--line:#353b47;--grid:#2c313b;--grid2:#242832;--axis:#8a92a0;
 --s0:#e3e6ec;--s1:#4fc0d8;--s2:#f2994a;--s3:#b794e8;--s4:#5fcf8e;--s5:#f07199;--s6:#86a8f0;--bandc:rgba(79,192,216,.18);--valid:rgba(95,207,142,.16);--rhp:rgba(240,113,153,.10);
 --ok:#5fcf8e;--warn:#f0b45a;--bad:#ff7b6e;--cbg:#2e2818;--cline:#a9822f;--head:#9fd9e6`;
+
+/** Poise's palette: CSS variable name (without "--") → colour, for the light and the dark theme. */
+export const PALETTE: { light: Record<string, string>; dark: Record<string, string> } = {
+  light: Object.fromEntries([...LIGHT.matchAll(/--([\w-]+):([^;]+)/g)].map((m) => [m[1], m[2].trim()])),
+  dark: Object.fromEntries([...DARK.matchAll(/--([\w-]+):([^;]+)/g)].map((m) => [m[1], m[2].trim()])),
+};
+
+/** `n` colours evenly along the path through the `anchors` (hex colours), interpolated in sRGB. */
+export function colourRamp(anchors: string[], n: number): string[] {
+  const rgb = anchors.map((h) => [1, 3, 5].map((k) => parseInt(h.slice(k, k + 2), 16)));
+  const out: string[] = [];
+  for (let i = 0; i < n; i++) {
+    const f = n === 1 ? 0 : (i / (n - 1)) * (rgb.length - 1);
+    const k = Math.min(rgb.length - 2, Math.floor(f));
+    const t = f - k;
+    out.push('#' + rgb[k].map((a, c) => Math.round(a + (rgb[k + 1][c] - a) * t).toString(16).padStart(2, '0')).join(''));
+  }
+  return out;
+}
 
 export const CSS = `
 :root{color-scheme:light dark;${LIGHT};

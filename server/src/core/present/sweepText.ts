@@ -1,7 +1,6 @@
 /** The sweep as a plain-text table, with the stability changes and where it stopped. */
-import { formatNumber } from '../algebra/expr';
+import { formatNumber } from '../numbers';
 import type { SweepPoint, SweepResult } from '../analysis/sweep';
-import { unitSuffix } from '../semantics/units';
 
 function eigText(eig: { re: number; im: number }[], digits: number, max = 4): string {
   if (!eig.length) return '(none)';
@@ -15,7 +14,7 @@ function eigText(eig: { re: number; im: number }[], digits: number, max = 4): st
 
 /** Plain-text table of a sweep, with the stability changes and where it stopped. */
 export function formatSweepText(r: SweepResult, digits = 5): string {
-  const u = unitSuffix;
+  const u = (x: string) => (x ? ` [${x}]` : '');
   const out: string[] = [];
   const title = r.name ? `Sweep ${r.name} from point ${r.point}` : `Sweep from point ${r.point}`;
   out.push(`${title}: ${r.vary.name} from ${formatNumber(r.vary.from, 6)} to ${formatNumber(r.vary.to, 6)}${u(r.vary.unit)}, ${r.vary.steps + 1} values (${r.vary.log ? 'logarithmic' : 'linear'} spacing), time in ${r.timeUnit}`);
@@ -38,7 +37,8 @@ export function formatSweepText(r: SweepResult, digits = 5): string {
   if (r.inputs.length && r.gainRows.length && r.points.length) {
     const last = r.points[r.points.length - 1];
     const first = r.points[0];
-    const g = (p: SweepPoint) => (p.dcGain ? p.dcGain.map((row, i) => row.map((v, j) => `${r.gainRows[i]}/${r.inputs[j]} ${formatNumber(v, digits)}`).join(', ')).join(', ') : 'none (A is singular: an integrator)');
+    const gu = (i: number, j: number) => (r.gainUnits?.[i]?.[j] ? ` ${r.gainUnits[i][j]}` : '');
+    const g = (p: SweepPoint) => (p.dcGain ? p.dcGain.map((row, i) => row.map((v, j) => `${r.gainRows[i]}/${r.inputs[j]} ${formatNumber(v, digits)}${gu(i, j)}`).join(', ')).join(', ') : 'none (A is singular: an integrator)');
     out.push('', `DC gains at ${formatNumber(first.value, 6)}: ${g(first)}`, `DC gains at ${formatNumber(last.value, 6)}: ${g(last)}`);
   }
   out.push('');

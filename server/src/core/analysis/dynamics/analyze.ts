@@ -32,5 +32,5 @@ export function analyzeDynamics(linOrSys: LinearModel | LinearSystem, opts: Dyna
   const observability = rankTest(modes, obsDef, n);
   const transfer = transferFunctions(sys, bal, rtol, rho, axisTol);
   const dcGain = dcGains(sys, transfer, modes);
-  return { system: sys, eigenvalues: sp.eigenvalues, modes, stability, dcGain, transfer, controllability, observability, horizon: stepHorizon(modes, rho) };
+  return { system: sys, eigenvalues: sp.eigenvalues, modes, stability, dcGain, transfer, controllability, observability, horizon: stepHorizon(modes, rho, sys.timeUnit) };
 }

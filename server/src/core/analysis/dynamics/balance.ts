@@ -17,7 +17,8 @@ export interface Balanced {
 /**
  * Diagonal state scaling T (powers of two) of the system matrix, with the columns of B and the rows of C
  * first normalised to the size of A: Ã = T⁻¹AT, B̃ = T⁻¹B, C̃ = CT. Similarity keeps eigenvalues, poles
- * and zeros; the scaling only improves the rank decisions (cf. SLICOT TB01ID).
+ * and zeros; the scaling only improves the rank decisions. The method is the diagonal power-of-two balancing
+ * of Parlett & Reinsch (Numer. Math. 13, 1969), applied to [A B; C 0] with B and C normalised first.
  */
 export function balanceSystem(sys: LinearSystem): Balanced {
   const { n, m, p } = sys;

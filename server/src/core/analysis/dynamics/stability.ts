@@ -47,8 +47,10 @@ export function verdict(sys: LinearSystem, modes: Mode[], rho: number, tol: numb
 }
 
 /** Length of the step responses: a few slowest time constants, bounded for unstable and oscillating models. */
-export function stepHorizon(modes: Mode[], rho: number): Horizon {
-  if (!modes.length) return { value: 1, reason: 'static model: a fixed horizon of 1 time unit' };
+export function stepHorizon(modes: Mode[], rho: number, timeUnit = 's'): Horizon {
+  const t = timeUnit || 's';
+  const h = (value: number, reason: string): Horizon => ({ value, unit: t, reason });
+  if (!modes.length) return h(1, `static model: a fixed horizon of 1 ${t}`);
   const stable = modes.filter((m) => m.stability === 'stable');
   const unstable = modes.filter((m) => m.stability === 'unstable');
   const undamped = modes.filter((m) => m.kind === 'undamped');
@@ -67,24 +69,24 @@ export function stepHorizon(modes: Mode[], rho: number): Horizon {
     }
     let T = 3 * growth;
     if (fastest && fastest.period && T > 20 * fastest.period) T = 20 * fastest.period;
-    return { value: T, reason: `unstable: 3 e-folding times of the fastest-growing mode${T < 3 * growth ? ' (limited to 20 of its periods)' : ''}` };
+    return h(T, `unstable: 3 e-folding times of the fastest-growing mode (${formatShort(growth)} ${t} each)${T < 3 * growth ? ' (limited to 20 of its periods)' : ''}`);
   }
   if (slowest) {
     let T = 5 * tauMax;
-    let reason = `5 × the slowest time constant (${formatShort(tauMax)})`;
+    let reason = `5 × the slowest time constant of ${formatShort(tauMax)} ${t}`;
     if (slowest.period && T > 20 * slowest.period) {
       let tauReal = 0;
       for (const m of stable) if (m.kind === 'real') tauReal = Math.max(tauReal, m.timeConstant!);
       T = Math.max(20 * slowest.period, 5 * tauReal);
-      reason = `lightly damped oscillation (ζ = ${slowest.dampingRatio!.toPrecision(2)}): 20 of its periods${tauReal ? ' or 5 × the slowest real time constant' : ''}`;
+      reason = `lightly damped oscillation (ζ = ${slowest.dampingRatio!.toPrecision(2)}): 20 of its periods of ${formatShort(slowest.period)} ${t}${tauReal ? ' or 5 × the slowest real time constant' : ''}`;
     }
     if (undamped.length || modes.some((m) => m.kind === 'integrator')) reason += '; modes on the imaginary axis never settle';
-    return { value: T, reason };
+    return h(T, reason);
   }
   if (undamped.length) {
     let per = 0;
     for (const m of undamped) per = Math.max(per, m.period!);
-    return { value: 3 * per, reason: 'undamped oscillation: 3 periods of the slowest one' };
+    return h(3 * per, `undamped oscillation: 3 periods of the slowest one (${formatShort(per)} ${t} each)`);
   }
-  return { value: rho > 0 ? 10 / rho : 10, reason: 'integrators only: a fixed horizon' };
+  return h(rho > 0 ? 10 / rho : 10, 'integrators only: a fixed horizon');
 }

@@ -125,6 +125,8 @@ export interface RankTest {
 export interface Horizon {
   /** Length of the step responses in the time unit. */
   value: number;
+  /** The time unit of `value`. */
+  unit: string;
   reason: string;
 }
 
