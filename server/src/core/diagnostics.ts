@@ -72,6 +72,7 @@ export const catalogue = {
   P308: { severity: 'error', text: 'Value for "{name}" is in {given}, which does not convert to its unit {declared}.' },
   P309: { severity: 'error', text: 'Output "{name}" is declared in {declared} but its expression is in {actual}.' },
   P310: { severity: 'error', text: 'Time unit must be a unit of time, not {unit}.' },
+  P311: { severity: 'error', text: 'The number in the unit bracket [{unit}] does not make a unit: {detail}.' },
 
   // 4xx structure
   P401: { severity: 'error', text: 'The model is unbalanced: {equations} equation(s) for {unknowns} unknown(s) ({detail}). {advice}' },
