@@ -42,6 +42,7 @@ export const catalogue = {
   P111: { severity: 'error', text: '"Δ" is reserved for deviation variables in generated linear blocks; rename "{name}".' },
   P112: { severity: 'error', text: 'Block "{name}" has no lines: indent its lines under the header.' },
   P113: { severity: 'error', text: 'A sweep line is "vary NAME = FROM to TO steps N" with an optional "log".' },
+  P114: { severity: 'error', text: 'The number "{text}" is {what} for double precision (magnitudes from about 1e-308 to 1e308) and would be read as {becomes}: write it with a unit that brings it into range (e.g. [nm] or [GW]), or write 0 if zero is meant.' },
 
   // 2xx names
   P201: { severity: 'error', text: 'Unknown name "{name}": declare it (const, input, state, var or output) or fix the spelling.' },
@@ -93,6 +94,8 @@ export const catalogue = {
   P508: { severity: 'error', text: 'At point "{point}" this equation has no unknown left and does not hold: residual {residual}. Change a fixed value or free one with "~".' },
   P509: { severity: 'error', text: 'No point to use: add a "point NAME:" block with the values to fix.' },
   P510: { severity: 'error', text: 'Constant "{name}" cannot be evaluated: {detail}.' },
+  P511: { severity: 'error', text: 'At point "{point}" the linear model has {what} in {entry}, the row this equation gives: choose units (or a time unit) that bring the model\'s numbers nearer 1, or check the equation for a division by a tiny value.' },
+  P512: { severity: 'error', text: 'The value of "{name}" in point "{point}" is not a finite number ({value}): change the expression so that it stays within about 1e-308 to 1e308 in magnitude, or write it with a larger unit.' },
 
   // 6xx generated blocks and sweeps
   P601: { severity: 'warning', text: 'Linear block "{name}" is stale: the model or point changed since it was generated. Regenerate it.' },

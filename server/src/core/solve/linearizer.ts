@@ -12,6 +12,7 @@ import type { LoweredModel, Slot } from '../model/model';
 import { sparseLU } from '../numeric/sparseLU';
 import { listNames } from '../model/structure';
 import type { Span } from '../text';
+import { chopRoundOff, equilibrate, linearModelProblems } from './scaling';
 
 export interface LinearModel {
   point: string;
@@ -91,7 +92,10 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
     }
   }
   if (cm.nEq !== N) return res; // structure errors are reported by the structure checker
-  const lu = sparseLU(N, { rows: Int32Array.from(mRows), cols: Int32Array.from(mCols), vals: Float64Array.from(mVals), nnz: mRows.length });
+  // equilibrated (exact power-of-two factors): a rescaled model eliminates alike (solve/scaling.ts)
+  const eq = equilibrate(N, N, mRows, mCols, mVals);
+  const sVals = Float64Array.from(mVals, (v, k) => v * eq.r[mRows[k]] * eq.c[mCols[k]]);
+  const lu = sparseLU(N, { rows: Int32Array.from(mRows), cols: Int32Array.from(mCols), vals: sVals, nnz: mRows.length });
   if (!lu.ok) {
     const names = lu.singularCols.map((c) => lm.slots[unknownSlots[c]].name);
     const hasDeriv = lu.singularCols.some((c) => lm.slots[unknownSlots[c]].kind === 'deriv');
@@ -105,8 +109,11 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
   const b = new Float64Array(N);
   const solveCol = (col: { r: number; v: number }[]): Float64Array => {
     b.fill(0);
-    for (const e of col) b[e.r] += e.v;
-    return lu.solve(b);
+    for (const e of col) b[e.r] += e.v * eq.r[e.r];
+    const x = lu.solve(b);
+    chopRoundOff(x); // in equilibrated units, per solved column
+    for (let i = 0; i < N; i++) x[i] *= eq.c[i];
+    return x;
   };
   // For each state component i, its derivative slot: either another component (shift) or a highest derivative.
   const derivRow = lm.componentDerivative.map((d) => (stateIdx[d] >= 0 ? -1 - stateIdx[d] : colOf[d]));
@@ -137,22 +144,14 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
       res.A[i * n + j] = (sl[states[j]].scale / sl[states[i]].scale) * tscale;
     }
   }
-  chop(res.A, res.B, n, n, m);
-  chop(res.C, res.D, p, n, m);
+  // an entry that is not finite, or beyond what the analyses can take, is an error on its equation
+  const problems = linearModelProblems(lm, res, pointSpan);
+  if (problems.length) {
+    diagnostics.push(...problems);
+    return res;
+  }
   res.ok = true;
   return res;
-}
-
-/** Zero the round-off left where terms cancel exactly (|x| < 1e-13 of the largest entry in its row of [M N]). */
-function chop(M: Float64Array, N: Float64Array, r: number, c1: number, c2: number): void {
-  for (let i = 0; i < r; i++) {
-    let mx = 0;
-    for (let j = 0; j < c1; j++) mx = Math.max(mx, Math.abs(M[i * c1 + j]));
-    for (let j = 0; j < c2; j++) mx = Math.max(mx, Math.abs(N[i * c2 + j]));
-    const tol = mx * 1e-13;
-    for (let j = 0; j < c1; j++) if (Math.abs(M[i * c1 + j]) < tol) M[i * c1 + j] = 0;
-    for (let j = 0; j < c2; j++) if (Math.abs(N[i * c2 + j]) < tol) N[i * c2 + j] = 0;
-  }
 }
 
 /** Value of a slot in its declared unit. */
