@@ -14,6 +14,7 @@ import * as fs from 'fs';
 import * as path from 'path';
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../server/src/core/pipeline/analysis';
+import { buildReport } from '../server/src/core/analysis/report';
 import { applyEdits, type TextEdit } from '../server/src/core/services/edits';
 import { linearizeEdit } from '../server/src/core/services/linearBlock';
 import { check } from './helpers/check';
@@ -108,6 +109,42 @@ describe('linear models with entries the analyses cannot take (P511)', () => {
     expect(s.A('x1', 'x1')).toBe(-1e100);
     expect(s.B('x1', 'u')).toBe(1e100);
     expect(s.A('x2', 'x1')).toBe(1e100);
+  });
+});
+
+describe('dynamics that overflow although every entry is in range (P513)', () => {
+  // four lags in series with τ = 1e-100 s: A entries ±1e100 are fine, but the transfer function to x4 has
+  // the denominator (s + 1e100)^4, whose constant term 1e400 overflows double precision (binary64)
+  const chain = dedent(`
+    const c = 1e-100 [s]
+    input u [m]
+    state x1 [m]
+    state x2 [m]
+    state x3 [m]
+    state x4 [m]
+    x1' = (u - x1)/c
+    x2' = (x1 - x2)/c
+    x3' = (x2 - x3)/c
+    x4' = (x3 - x4)/c
+    point p:
+      u = 1 [m]
+  `);
+  it('the report is refused with a message that says what to change, and holds no non-finite number', () => {
+    const a = analyze(chain);
+    expect(a.linear('p')!.ok).toBe(true);
+    const r = buildReport(a, 'p');
+    expect(r.ok).toBe(false);
+    expect(r.problems.join('\n')).toMatch(/overflow double precision \(the transfer function u → x\d is not finite\)/);
+    expect(JSON.stringify(r)).not.toMatch(/NaN|Infinity/);
+  });
+  it('the same chain in a time unit near its time constant reports normally', () => {
+    // τ = 1 time unit: with time in [s] and c = 1 s the same structure is harmless (no overflow)
+    const r = buildReport(analyze(chain.replace('1e-100 [s]', '1 [s]')), 'p');
+    expect(r.problems).toEqual([]);
+    expect(r.ok).toBe(true);
+    // by hand: G(s) from u to x4 is 1/(s + 1)^4, DC gain 1
+    const tf = r.transfer.find((t) => t.output === 'x4')!;
+    expect(tf.dcGain).toBeCloseTo(1, 12);
   });
 });
 

@@ -96,6 +96,7 @@ export const catalogue = {
   P510: { severity: 'error', text: 'Constant "{name}" cannot be evaluated: {detail}.' },
   P511: { severity: 'error', text: 'At point "{point}" the linear model has {what} in {entry}, the row this equation gives: choose units (or a time unit) that bring the model\'s numbers nearer 1, or check the equation for a division by a tiny value.' },
   P512: { severity: 'error', text: 'The value of "{name}" in point "{point}" is not a finite number ({value}): change the expression so that it stays within about 1e-308 to 1e308 in magnitude, or write it with a larger unit.' },
+  P513: { severity: 'error', text: 'At point "{point}" the dynamics overflow double precision ({what} is not finite): choose units, and a time unit near the fastest time constant, that bring the model\'s numbers nearer 1.' },
 
   // 6xx generated blocks and sweeps
   P601: { severity: 'warning', text: 'Linear block "{name}" is stale: the model or point changed since it was generated. Regenerate it.' },

@@ -4,6 +4,7 @@
  * nonlinear step responses and the validity range of the linear model per input. `renderReportHtml`
  * (reportHtml.ts) turns it into one standalone page; `formatReportText` into a readable summary. Pure.
  */
+import { dynamicsProblem } from './finiteDynamics';
 import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import {
@@ -190,6 +191,11 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     return data;
   }
   const dyn = analyzeDynamics(lin);
+  const overflow = dynamicsProblem(dyn, point, sol.block.name.span);
+  if (overflow) {
+    data.problems.push(overflow.message);
+    return data;
+  }
   const sys = dyn.system;
   timingsMs.analysis = now() - t0;
   Object.assign(data, {
