@@ -15,7 +15,7 @@ import { exportLinear } from '../server/src/core/present/exports';
 import { linearJson } from '../server/src/core/present/format';
 import { solveEdits } from '../server/src/core/services/solve';
 import { linearizeEdit } from '../server/src/core/services/linearBlock';
-import { EXAMPLES } from './helpers/cli';
+import { EXAMPLES, ensureBuilt, runCli, scratchDir } from './helpers/cli';
 import { REFERENCE_MODELS } from './helpers/reference';
 import { dedent, solve } from './helpers/model';
 
@@ -151,4 +151,39 @@ describe('each word works as a name in every role', () => {
       if (role !== 'c') expect(JSON.stringify(le)).toContain(w);
     }
   });
+});
+
+describe('the command line carries every word as a name', () => {
+  it('solve and linearize --format json, report --step: __proto__ and constructor are keys of their own', () => {
+    ensureBuilt();
+    const dir = scratchDir('names');
+    const f = path.join(dir, 'tank.poise');
+    // tank: area·h' = __proto__ − constructor·√h; by hand h = (0.02/0.01)² = 4 m at the point
+    fs.writeFileSync(f, dedent(`
+      const constructor = 0.01 [m^2.5/s]
+      input __proto__ [m^3/s]
+      state toString [m]
+      (2 [m^2])*toString' = __proto__ - constructor*sqrt(toString)
+      point p:
+        __proto__ = 0.02 [m^3/s]
+        toString ~ 1 [m]
+    `));
+    const s = runCli(['solve', f, '--format', 'json']);
+    expect(s.code, s.stderr).toBe(0);
+    const sj = JSON.parse(s.stdout) as { values: Record<string, { value: number }> };
+    expect(Object.keys(sj.values).sort()).toEqual(['__proto__', 'toString']);
+    expect(sj.values.toString.value).toBeCloseTo(4, 10);
+    expect(Object.prototype.hasOwnProperty.call(sj.values, '__proto__')).toBe(true);
+    const l = runCli(['linearize', f, '--format', 'json']);
+    expect(l.code, l.stderr).toBe(0);
+    const lj = JSON.parse(l.stdout) as { inputs: string[]; states: string[]; B: number[][] };
+    expect(lj.inputs).toEqual(['__proto__']);
+    expect(lj.states).toEqual(['toString']);
+    expect(lj.B[0][0]).toBeCloseTo(0.5, 12); // 1/area
+    const r = runCli(['report', f, '--step', '__proto__=0.001', '--format', 'json']);
+    expect(r.code, r.stderr).toBe(0);
+    const rj = JSON.parse(r.stdout) as { steps: { input: string; step: number }[] };
+    expect(rj.steps.map((x) => [x.input, x.step])).toEqual([['__proto__', 0.001]]);
+    fs.rmSync(dir, { recursive: true, force: true });
+  }, 300_000);
 });

@@ -157,7 +157,7 @@ function solveCommand(p: Parsed, io: Io): number {
   const sol = r ? a.point(r.point) : undefined;
   const pointDiags = sol ? sol.diagnostics : opt(p, '--point') !== undefined || a.pointNames.length === 1 ? (a.point(opt(p, '--point') ?? a.pointNames[0])?.diagnostics ?? []) : [];
   const diagnostics = sortDiags([...a.diagnostics, ...(a.diagnostics.some((d) => d.severity === 'error') ? [] : pointDiags)]).map((d) => diagnosticJson(a, file, d));
-  const values: Record<string, { value: number; unit: string; role: string }> = {};
+  const values = Object.create(null) as Record<string, { value: number; unit: string; role: string }>; // keyed by the model's names (__proto__ too)
   if (r && sol) for (const v of r.a.values(sol)) if (v.kind !== 'const') values[v.name] = { value: Number(v.value.toPrecision(digits)), unit: v.unit, role: v.role };
   const out = {
     schema: 'poise-solve/1',

@@ -42,6 +42,7 @@ export const catalogue = {
   P111: { severity: 'error', text: '"Δ" is reserved for deviation variables in generated linear blocks; rename "{name}".' },
   P112: { severity: 'error', text: 'Block "{name}" has no lines: indent its lines under the header.' },
   P113: { severity: 'error', text: 'A sweep line is "vary NAME = FROM to TO steps N" with an optional "log".' },
+  P114: { severity: 'error', text: 'The number "{text}" is {what} for double precision (magnitudes from about 1e-308 to 1e308) and would be read as {becomes}: write it with a unit that brings it into range (e.g. [nm] or [GW]), or write 0 if zero is meant.' },
   P120: { severity: 'error', text: 'Empty index: write the element\'s index inside the brackets, e.g. h[1] or h[i+1].' },
   P121: { severity: 'error', text: 'A range "first..last" belongs in a declaration (state h[1..n]) or an each header; here write one index.' },
   P122: { severity: 'error', text: 'An output family is defined element by element: write "each i in 1..n:" and under it "output {name}[i] [unit] = …".' },
@@ -84,6 +85,7 @@ export const catalogue = {
   P308: { severity: 'error', text: 'Value for "{name}" is in {given}, which does not convert to its unit {declared}.' },
   P309: { severity: 'error', text: 'Output "{name}" is declared in {declared} but its expression is in {actual}.' },
   P310: { severity: 'error', text: 'Time unit must be a unit of time, not {unit}.' },
+  P311: { severity: 'error', text: 'The number in the unit bracket [{unit}] does not make a unit: {detail}.' },
 
   // 4xx structure
   P401: { severity: 'error', text: 'The model is unbalanced: {equations} equation(s) for {unknowns} unknown(s) ({detail}). {advice}' },
@@ -104,6 +106,9 @@ export const catalogue = {
   P508: { severity: 'error', text: 'At point "{point}" this equation has no unknown left and does not hold: residual {residual}. Change a fixed value or free one with "~".' },
   P509: { severity: 'error', text: 'No point to use: add a "point NAME:" block with the values to fix.' },
   P510: { severity: 'error', text: 'Constant "{name}" cannot be evaluated: {detail}.' },
+  P511: { severity: 'error', text: 'At point "{point}" the linear model has {what} in {entry}, the row this equation gives: choose units (or a time unit) that bring the model\'s numbers nearer 1, or check the equation for a division by a tiny value.' },
+  P512: { severity: 'error', text: 'The value of "{name}" in point "{point}" is not a finite number ({value}): change the expression so that it stays within about 1e-308 to 1e308 in magnitude, or write it with a larger unit.' },
+  P513: { severity: 'error', text: 'At point "{point}" the dynamics overflow double precision ({what} is not finite): choose units, and a time unit near the fastest time constant, that bring the model\'s numbers nearer 1.' },
 
   // 6xx generated blocks and sweeps
   P601: { severity: 'warning', text: 'Linear block "{name}" is stale: the model or point changed since it was generated. Regenerate it.' },

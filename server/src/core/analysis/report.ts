@@ -5,6 +5,7 @@
  * (present/reportHtml.ts) turns it into one standalone page; `formatReportText` (present/reportText.ts) into a
  * readable summary. Pure.
  */
+import { dynamicsProblem } from './finiteDynamics';
 import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import {
@@ -182,6 +183,11 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     return data;
   }
   const dyn = analyzeDynamics(lin);
+  const overflow = dynamicsProblem(dyn, point, sol.block.name.span);
+  if (overflow) {
+    data.problems.push(overflow.message);
+    return data;
+  }
   const sys = dyn.system;
   timingsMs.analysis = now() - t0;
   Object.assign(data, {

@@ -11,7 +11,7 @@ import { diag, type Diagnostic } from '../diagnostics';
 import { hasName } from '../names';
 import { BUILTIN_ARITY } from '../algebra/expr';
 import {
-  DIMENSIONLESS, ONE_UNIT, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit,
+  DIMENSIONLESS, ONE_UNIT, SCALED_UNIT_PROBLEM, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit,
   type Dims, type UnitInfo,
 } from './units';
 
@@ -71,12 +71,18 @@ export function constantValue(e: A.Expr, m: BoundModel, constant: (s: ModelSymbo
   return value(e);
 }
 
+/** The diagnostic for unit text parseUnit rejected: P311 for a number that cannot scale the unit, else P301. */
+export function unitProblem(ref: A.UnitRef, detail: string): Diagnostic {
+  if (detail.startsWith(SCALED_UNIT_PROBLEM)) return diag('P311', ref.span, { unit: ref.text, detail: detail.slice(SCALED_UNIT_PROBLEM.length) });
+  return diag('P301', ref.span, { unit: ref.text, detail });
+}
+
 /** Converts a literal `number [unit]` to SI, reporting an unknown unit. */
 export function literalSI(e: A.NumberExpr, diagnostics?: Diagnostic[]): { value: number; unit: UnitInfo | undefined } {
   if (!e.unit) return { value: e.value, unit: undefined };
   const u = parseUnit(e.unit.text);
   if (typeof u === 'string') {
-    diagnostics?.push(diag('P301', e.unit.span, { unit: e.unit.text, detail: u }));
+    diagnostics?.push(unitProblem(e.unit, u));
     return { value: NaN, unit: undefined };
   }
   return { value: e.value * u.scale + u.offset, unit: u };
@@ -96,7 +102,7 @@ export function checkUnits(m: BoundModel): UnitFacts {
     if (!m.time.unit) time = { text: '', dims: DIMENSIONLESS, scale: 1, offset: 0 };
     else {
       const u = parseUnit(m.time.unit.text);
-      if (typeof u === 'string') diagnostics.push(diag('P301', m.time.unit.span, { unit: m.time.unit.text, detail: u }));
+      if (typeof u === 'string') diagnostics.push(unitProblem(m.time.unit, u));
       else if (!dimsEqual(u.dims, TIME_DIMS)) diagnostics.push(diag('P310', m.time.unit.span, { unit: m.time.unit.text }));
       else time = u;
     }
@@ -110,7 +116,7 @@ export function checkUnits(m: BoundModel): UnitFacts {
     }
     const u = parseUnit(s.unit.text);
     if (typeof u === 'string') {
-      diagnostics.push(diag('P301', s.unit.span, { unit: s.unit.text, detail: u }));
+      diagnostics.push(unitProblem(s.unit, u));
       units.set(s, { ...ONE_UNIT, text: s.unit.text });
     } else units.set(s, u);
   }
@@ -141,7 +147,7 @@ export function checkUnits(m: BoundModel): UnitFacts {
         if (!e.unit) return e.value === 0 ? null : DIMENSIONLESS;
         const u = parseUnit(e.unit.text);
         if (typeof u === 'string') {
-          diagnostics.push(diag('P301', e.unit.span, { unit: e.unit.text, detail: u }));
+          diagnostics.push(unitProblem(e.unit, u));
           return null;
         }
         return u.dims;
@@ -274,9 +280,11 @@ export function hasUnitLiteral(e: A.Expr): boolean {
   }
 }
 
+/** Whether an expression holds a syntax error or a unit already reported (P301/P311): no second message. */
 function hasError(e: A.Expr): boolean {
   switch (e.kind) {
     case 'error': return true;
+    case 'number': return !!e.unit && typeof parseUnit(e.unit.text) === 'string';
     case 'unary': return hasError(e.arg);
     case 'binary': return hasError(e.left) || hasError(e.right);
     case 'call': return e.args.some(hasError);

@@ -46,9 +46,38 @@ export function parseUnit(text: string): UnitInfo | string {
   if (t === '' || t === '1' || t === '-') r = { ...ONE_UNIT, text: t || '1' };
   else if (t === '%') r = { text: '%', dims: DIMENSIONLESS, scale: 0.01, offset: 0 };
   else if (t === 'ppm') r = { text: 'ppm', dims: DIMENSIONLESS, scale: 1e-6, offset: 0 };
-  else r = parseUnitFast(t) ?? parseUnitMathjs(t);
+  else r = scaledUnit(t) ?? parseUnitFast(t) ?? parseUnitMathjs(t);
   cache.set(t, r);
   return r;
+}
+
+/** A number written first in unit text ("1000" of "1000 kg/s"), as mathjs's unit grammar reads one. */
+export function leadingNumber(t: string): { value: number; text: string } | undefined {
+  const m = /^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)/.exec(t);
+  return m ? { value: Number(m[1]), text: m[1] } : undefined;
+}
+
+/** Marks the error messages of a scaled unit (P311 rather than P301). */
+export const SCALED_UNIT_PROBLEM = 'scale: ';
+
+/**
+ * A number inside the bracket scales the unit: `[1000 kg/s]` is a unit of 1000 kg/s, so 2 [1000 kg/s] is
+ * 2000 kg/s and a variable declared in it shows its values as multiples of 1000 kg/s. (mathjs's unit
+ * grammar reads such a number and then ignores it; it must never be dropped.) undefined when the text has
+ * no leading number other than 1 (as in "1/s"); an error message (starting with SCALED_UNIT_PROBLEM) for an
+ * offset unit or a scale that is not a positive finite number.
+ */
+function scaledUnit(t: string): UnitInfo | string | undefined {
+  const lead = leadingNumber(t);
+  if (!lead || lead.value === 1) return undefined;
+  const rest = t.slice(t.indexOf(lead.text) + lead.text.length);
+  const base = parseUnit('1' + rest);
+  if (typeof base === 'string') return undefined; // not a unit after the number: mathjs words the error for the whole text
+  if (base.dims.every((d) => d === 0) && !/[a-zA-Z%]/.test(rest)) return `${SCALED_UNIT_PROBLEM}"${t}" has a number but no unit; write the number outside the bracket`;
+  if (base.offset !== 0) return `${SCALED_UNIT_PROBLEM}an offset unit (${rest.trim()}) cannot be scaled; write the number before the bracket, e.g. ${lead.text} [${rest.trim()}]`;
+  const scale = lead.value * base.scale;
+  if (!(lead.value > 0) || !Number.isFinite(scale) || scale === 0) return `${SCALED_UNIT_PROBLEM}the number in the bracket must be a positive, finite scale (e.g. [1000 kg/s] for units of 1000 kg/s), not ${lead.text}`;
+  return { text: t, dims: base.dims, scale, offset: 0 };
 }
 
 /** One factor of a unit product: (value·prefix)^power, as mathjs lists them. */

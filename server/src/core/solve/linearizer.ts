@@ -14,6 +14,7 @@ import { SparseSolver } from '../numeric/sparseSolve';
 import { csrFromTriplets, csrToDense, type CsrMatrix } from '../numeric/csr';
 import { listNames } from '../model/structure';
 import type { Span } from '../text';
+import { linearModelProblems } from './finiteLinear';
 
 /**
  * The signals of a linear model, in matrix order, with their declared units: the one list shared by the
@@ -204,6 +205,12 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
   }
   [res.sparse.A, res.sparse.B] = top.toCsr(n, n, m);
   [res.sparse.C, res.sparse.D] = bottom.toCsr(p, n, m);
+  // an entry that is not finite, or beyond what the analyses can take, is an error on its equation
+  const problems = linearModelProblems(lm, res, pointSpan);
+  if (problems.length) {
+    diagnostics.push(...problems);
+    return res;
+  }
   res.ok = true;
   return res;
 }

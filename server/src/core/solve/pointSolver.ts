@@ -106,6 +106,24 @@ export function pointSetup(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   return { values, fixed, unknowns: candidates, lineOf };
 }
 
+/** P512 for every point line whose value (SI) is not finite; a constant computed from others points at its declaration. */
+function nonFiniteLines(m: BoundModel, lm: LoweredModel, block: A.PointBlock, values: Float64Array): Diagnostic[] {
+  const out: Diagnostic[] = [];
+  const point = block.name.name;
+  const lineAt = new Map<string, A.PointLine>();
+  for (const l of block.lines) if (!l.primes) lineAt.set(l.name.name, l);
+  for (const sl of lm.slots) {
+    if (sl.order !== 0 || Number.isFinite(values[sl.id])) continue;
+    const l = lineAt.get(sl.name);
+    if (l) out.push(diag('P512', l.value.span, { name: sl.name, point, value: String(values[sl.id]) }));
+    else if (sl.kind === 'const' && Number.isFinite(lm.baseValues[sl.id])) {
+      // a constant computed from one the point gives again: the point's header
+      out.push(diag('P512', block.name.span, { name: sl.name, point, value: String(values[sl.id]) }));
+    }
+  }
+  return out;
+}
+
 function hasUnit(e: A.Expr, dimensionalConst: (name: string) => boolean): boolean {
   switch (e.kind) {
     case 'number': return !!e.unit;
@@ -126,6 +144,12 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   const guesses = Float64Array.from(values);
   const cm = compileModel(lm);
   const result: PointSolution = { name, block, ok: false, values, guesses, unknowns, fixed, iterations: 0, residual: NaN, diagnostics };
+  // a value the point writes (or a constant it gives again, or one computed from it) that is not finite
+  const bad = nonFiniteLines(m, lm, block, values);
+  if (bad.length) {
+    diagnostics.push(...bad);
+    return result;
+  }
 
   const colOf = new Map<number, number>();
   unknowns.forEach((s, i) => colOf.set(s, i));

@@ -127,7 +127,9 @@ export function lex(text: string): LexResult {
       }
       const t = text.slice(start, i);
       const value = Number(t);
-      if (!Number.isFinite(value)) diagnostics.push(diag('P108', { start, end: i }, { text: t }));
+      // out of double precision's range: too large becomes Infinity, too small silently 0 — both are errors
+      if (!Number.isFinite(value)) diagnostics.push(diag('P114', { start, end: i }, { text: t, what: 'too large', becomes: 'infinite' }));
+      else if (value === 0 && /[1-9]/.test(t.replace(/[eE].*$/, ''))) diagnostics.push(diag('P114', { start, end: i }, { text: t, what: 'too small', becomes: '0' }));
       push({ kind: 'number', text: t, span: { start, end: i }, value: Number.isFinite(value) ? value : 0 });
       continue;
     }
