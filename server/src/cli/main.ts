@@ -158,7 +158,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         const r = prepare(file, opt(p, '--point'), io);
         if (!r) return 1;
         const sol = r.a.point(r.point)!;
-        io.out(`Point ${r.point}: solved in ${sol.iterations} Newton iteration(s)`);
+        io.out(`Point ${r.point}: solved in ${sol.iterations} Newton iteration(s), relative residual ${sol.residual.toExponential(1)}`);
         io.out(formatValues(r.a.values(sol), Number(opt(p, '--digits') ?? 6)));
         return 0;
       }
@@ -178,7 +178,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         const values = r.a.values(sol);
         const eqs = r.a.deviationEquations(r.point, format === 'json' ? 6 : digits)!;
         if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, opt(p, '--digits') === undefined ? undefined : digits));
-        else if (format !== 'text') io.out(exportLinearModel(lin, values, format as ExportFormat, { digits: opt(p, '--digits') === undefined ? undefined : digits }));
+        else if (format !== 'text') io.out(exportLinearModel(lin, values, format as ExportFormat, { digits: opt(p, '--digits') === undefined ? undefined : digits, solve: { iterations: sol.iterations, residual: sol.residual } }));
         else io.out(formatLinearText(r.a, lin, values, eqs, digits));
         return 0;
       }
