@@ -43,3 +43,28 @@ export function steadyModel(lm: LoweredModel): LoweredModel {
   steadyCache.set(lm, sm);
   return sm;
 }
+
+/**
+ * The point problem's equations for a set of unknown slots: `active` are the equations whose steady-state
+ * residual holds an unknown (in equation order), `checks` the others (consistency checks), and `adj` the
+ * steady-state incidence of each active equation (column indices into `unknowns`).
+ */
+export function steadyIncidence(sm: LoweredModel, unknowns: readonly number[]): { active: number[]; checks: number[]; adj: number[][] } {
+  const colOf = new Map<number, number>();
+  unknowns.forEach((s, i) => colOf.set(s, i));
+  const active: number[] = [];
+  const checks: number[] = [];
+  const adj: number[][] = [];
+  sm.equations.forEach((eq, r) => {
+    const cols: number[] = [];
+    for (const s of E.slots(eq.residual)) {
+      const c = colOf.get(s);
+      if (c !== undefined) cols.push(c);
+    }
+    if (cols.length) {
+      active.push(r);
+      adj.push(cols);
+    } else checks.push(r);
+  });
+  return { active, checks, adj };
+}

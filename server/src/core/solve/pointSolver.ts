@@ -13,7 +13,7 @@ import { constExprValue, type LoweredModel } from '../model/model';
 import { sparseLU } from '../numeric/sparseLU';
 import { isDimensionless } from '../semantics/units';
 import { leftovers, listNames, maximumMatching } from '../model/structure';
-import { steadyModel } from '../model/steady';
+import { steadyIncidence, steadyModel } from '../model/steady';
 import type { Span } from '../text';
 
 export interface PointSolution {
@@ -136,26 +136,8 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
 
   const colOf = new Map<number, number>();
   unknowns.forEach((s, i) => colOf.set(s, i));
-  // equations with unknowns vs consistency checks
-  const active: number[] = [];
-  const checks: number[] = [];
-  for (let r = 0; r < cm.nEq; r++) {
-    let has = false;
-    for (const k of cm.rowEntries[r]) if (colOf.has(cm.cols[k])) has = true;
-    if (!has) {
-      // structural incidence (derivative pattern may drop e.g. sign()) — use the residual's slots
-      for (const s of E.slots(sm.equations[r].residual)) if (colOf.has(s)) has = true;
-    }
-    (has ? active : checks).push(r);
-  }
-  const adj = active.map((r) => {
-    const out: number[] = [];
-    for (const s of E.slots(sm.equations[r].residual)) {
-      const c = colOf.get(s);
-      if (c !== undefined) out.push(c);
-    }
-    return out;
-  });
+  // equations with unknowns (on the steady-state incidence) vs consistency checks
+  const { active, checks, adj } = steadyIncidence(sm, unknowns);
   const nR = active.length;
   const nC = unknowns.length;
   const mt = maximumMatching(nR, nC, adj);
