@@ -383,7 +383,8 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     const f = F[r];
     const scale = equationScale(sm, r, values);
     if (!Number.isFinite(f) || !(Math.abs(f) <= 1e-8 * scale)) { // an infinite term makes the scale infinite too
-      diagnostics.push(diag('P508', lm.equations[r].span, { point: name, residual: Number.isFinite(f) ? f.toExponential(3) : String(f) }, { related: [{ span: pointSpan, message: `point ${name}` }] }));
+      const form = steadyForm(lm, sm, r);
+      diagnostics.push(diag('P508', lm.equations[r].span, { point: name, residual: Number.isFinite(f) ? f.toExponential(3) : String(f), form: form ? ` (with every derivative zero it reads ${form} = 0)` : '' }, { related: [{ span: pointSpan, message: `point ${name}` }] }));
     }
   }
   // isolated? Jacobian at the solution must be nonsingular
@@ -406,9 +407,15 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
 /** An equation's label and, when derivatives dropped out of it, what it reads at a steady state. */
 function steadyLabel(lm: LoweredModel, sm: LoweredModel, r: number): string {
   const eq = lm.equations[r];
-  if (sm.equations[r] === eq) return `"${eq.label}"`;
+  const form = steadyForm(lm, sm, r);
+  return form ? `"${eq.label}" (every derivative zero: ${form} = 0)` : `"${eq.label}"`;
+}
+
+/** The steady-state residual as text when derivatives dropped out of the equation (and it is short). */
+function steadyForm(lm: LoweredModel, sm: LoweredModel, r: number): string | undefined {
+  if (sm.equations[r] === lm.equations[r]) return undefined;
   const text = E.print(sm.equations[r].residual, { name: (id) => lm.slots[id].name, digits: 4, readable: true });
-  return text.length <= 60 ? `"${eq.label}" (every derivative zero: ${text} = 0)` : `"${eq.label}"`;
+  return text.length <= 60 ? text : undefined;
 }
 
 function equationScale(lm: LoweredModel, r: number, values: Float64Array): number {
