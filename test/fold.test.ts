@@ -78,6 +78,17 @@ describe('ignition of an exothermic stirred-tank reactor', () => {
   const TStar = 315.4219851157419500030101476541018673844;
   const cStar = 854.4519912936811668279013583562836918862;
 
+  it('the extinction fold of the hot branch at Tf = 279.419 K, sweeping down', () => {
+    // mpmath as above from the guess 351: T* = 351.0594510350033797763799339029116336634 K,
+    // Tf* = 279.4188831301760341997663866667946377305 K
+    const hot = text.replace('T ~ 295 [K]', 'T ~ 390 [K]').replace('c ~ 950 [mol/m^3]', 'c ~ 100 [mol/m^3]').replace('Tf = 290 [K]', 'Tf = 300 [K]');
+    const res = runSweep(analyze(hot), { point: 'cold', vary: 'Tf', from: 300, to: 260, steps: 16 });
+    expect(res.stop?.kind).toBe('fold');
+    expect(Math.abs(res.stop!.at - 279.4188831301760341997663866667946377305)).toBeLessThanOrEqual(1e-10 * 279.42);
+    expectClose(res.stop!.values![res.columns.findIndex((x) => x.name === 'T')], 351.0594510350033797763799339029116336634, 1e-7, 0, 'T');
+    expect(res.points.every((p) => p.value >= 279.4188831301760341997663866667946377305)).toBe(true);
+  });
+
   for (const [steps, label] of [[40, 'on a grid of 1 K'], [7, 'between coarse grid values']] as const) {
     it(`the ignition fold at Tf = 305.667 K to 1e-10, ${label}`, () => {
       const a = analyze(text);
