@@ -157,7 +157,9 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     const parts: string[] = [];
     if (unmatchedCols.length) {
       const k = unmatchedCols.length;
-      parts.push(`Fix ${k} more value(s) with "=": at this point no equation determines ${listNames(freeCols)}${freeCols.length > k ? ` (fix ${k} of them)` : ''}.`);
+      parts.push(freeCols.length > k
+        ? `Fix ${k} more value(s) with "=": at this point ${listNames(freeCols)} have only ${freeCols.length - k} equation(s) between them; fix ${k} of them.`
+        : `Fix ${k} more value(s) with "=": at this point no equation determines ${listNames(freeCols)}.`);
     }
     if (extraRows.length) {
       const k = extraRows.length;
@@ -414,7 +416,10 @@ function steadyLabel(lm: LoweredModel, sm: LoweredModel, r: number): string {
 /** The steady-state residual as text when derivatives dropped out of the equation (and it is short). */
 function steadyForm(lm: LoweredModel, sm: LoweredModel, r: number): string | undefined {
   if (sm.equations[r] === lm.equations[r]) return undefined;
-  const text = E.print(sm.equations[r].residual, { name: (id) => lm.slots[id].name, digits: 4, readable: true });
+  let n = sm.equations[r].residual;
+  // "… = 0" reads the same with either sign: drop a leading −1 (−(u − x) = 0 reads u − x = 0)
+  if (n.t === 'mul' && E.isNum(n.args[0], -1)) n = E.mul(n.args.slice(1));
+  const text = E.print(n, { name: (id) => lm.slots[id].name, digits: 4, readable: true });
   return text.length <= 60 ? text : undefined;
 }
 
