@@ -8,6 +8,7 @@ import { Matrix, solve as mlSolve } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../server/src/core/pipeline/analysis';
 import { sparseLU } from '../server/src/core/numeric/sparseLU';
+import { exportLinear } from '../server/src/core/present/exports';
 import { dedent, expectClose, solve } from './helpers/model';
 
 const G = 9.81;
@@ -389,5 +390,54 @@ describe('models of other kinds', () => {
     expectClose(s.C('ph', 'ca'), dpdh * (0.5 / Fh), 1e-8);
     expectClose(s.C('ph', 'cna'), dpdh * (-1 / Fh), 1e-8);
     expect(s.D('ph', 'qa')).toBe(0);
+  });
+});
+
+describe('point accuracy: Newton to the limit of double precision', () => {
+  // Our resistor–capacitor circuit with a diode (Shockley law i = Is·(exp(vd/nVt) − 1), common practice)
+  // in series with Rd: an algebraic loop between i and vd, time in ms.
+  const text = dedent(`
+    time [ms]
+    const R = 1 [kohm]
+    const C = 10 [uF]
+    const Rd = 20 [ohm]
+    const Is = 2.5e-9 [A]
+    const nVt = 51.7 [mV]
+    input Vs [V]
+    state vc [V]
+    var i [mA]
+    var vd [V]
+    C*vc' = (Vs - vc)/R - i
+    i = Is*(exp(vd/nVt) - 1)
+    vd = vc - Rd*i
+    point on:
+      Vs = 5 [V]
+      vc ~ 1 [V]
+      i ~ 1 [mA]
+      vd ~ 0.6 [V]
+  `);
+  it('reaches a relative residual ≤ 1e-15 and the 50-digit solution to the last bits', () => {
+    const s = solve(text);
+    // the achieved relative residual the solver reports (was 4e-11 before the final polishing steps)
+    expect(s.sol.residual).toBeLessThanOrEqual(1e-15);
+    // mpmath (mp.dps = 50): findroot(lambda vc, i, vd: [(5 - vc)/1000 - i, i - mpf('2.5e-9')*(exp(vd/mpf('0.0517')) - 1),
+    // vd - vc + 20*i], (1, 0.004, 0.7)) → vc = 0.82429765185839128228707742621167888788, i = 0.00417570234814160871771292257378832 A,
+    // vd = 0.74078360489555910793281897473591246564 V
+    expectClose(s.value('vc'), 0.82429765185839128228707742621167888788, 4e-16);
+    expectClose(s.value('i'), 4.17570234814160871771292257378832, 4e-16); // mA
+    expectClose(s.value('vd'), 0.74078360489555910793281897473591246564, 4e-16);
+    // independent route: the residuals recomputed here in double precision from the reported values,
+    // each relative to its largest sensitivity times the size of that unknown (as in the solver's measure:
+    // exp(vd/nVt) turns one rounding of vd into 14 roundings of i)
+    const vc = s.value('vc');
+    const i = s.value('i') / 1000;
+    const vd = s.value('vd');
+    const e = 2.5e-9 * (Math.exp(vd / 0.0517) - 1);
+    expect(Math.abs((5 - vc) / 1000 - i) / Math.max(5 / 1000, i)).toBeLessThanOrEqual(2e-15);
+    expect(Math.abs(i - e) / Math.max(i, (e * vd) / 0.0517)).toBeLessThanOrEqual(2e-15);
+    expect(Math.abs(vd - vc + 20 * i) / vc).toBeLessThanOrEqual(2e-15);
+    // the JSON export carries the achieved residual and the iterations
+    const j = JSON.parse(exportLinear(s.a, 'on', 'json')) as { solve: { iterations: number; residual: number } };
+    expect(j.solve).toEqual({ iterations: s.sol.iterations, residual: s.sol.residual });
   });
 });

@@ -145,7 +145,7 @@ function solveCommand(p: Parsed, io: Io): number {
     const r = prepare(file, opt(p, '--point'), io);
     if (!r) return 1;
     const sol = r.a.point(r.point)!;
-    io.out(`Point ${r.point}: solved in ${sol.iterations} Newton iteration(s)`);
+    io.out(`Point ${r.point}: solved in ${sol.iterations} Newton iteration(s), relative residual ${sol.residual.toExponential(1)}`);
     io.out(formatValues(r.a.values(sol), digits));
     return 0;
   }
@@ -165,6 +165,8 @@ function solveCommand(p: Parsed, io: Io): number {
     ok: !!r,
     point: r?.point ?? opt(p, '--point') ?? null,
     iterations: sol?.iterations ?? null,
+    // achieved relative residual of the solved point (PointSolution.residual); null when it did not solve
+    residual: r && sol ? sol.residual : null,
     values,
     diagnostics,
     // problems that are not about a place in the file (no point, several points, an unknown point name)
@@ -189,7 +191,7 @@ function linearizeCommand(p: Parsed, io: Io): number {
   const values = r.a.values(sol);
   const eqs = r.a.deviationEquations(r.point, format === 'json' ? 6 : digits)!;
   if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, opt(p, '--digits') === undefined ? undefined : digits));
-  else if (format !== 'text') io.out(exportLinearModel(lin, values, format as ExportFormat, { digits: opt(p, '--digits') === undefined ? undefined : digits }));
+  else if (format !== 'text') io.out(exportLinearModel(lin, values, format as ExportFormat, { digits: opt(p, '--digits') === undefined ? undefined : digits, solve: { iterations: sol.iterations, residual: sol.residual } }));
   else io.out(formatLinearText(r.a, lin, values, eqs, digits));
   return 0;
 }

@@ -103,7 +103,7 @@ export const catalogue = {
   P505: { severity: 'warning', text: 'Not differentiable at point "{point}": {detail}. The linear model takes one slope there (0 for abs and sign, one side for min and max) and does not hold for moves both ways: move the point off the kink or smooth the model.' },
   P506: { severity: 'error', text: 'At point "{point}" the steady state is not isolated: {names} can move without changing any equation. Fix one of them with "=".' },
   P507: { severity: 'error', text: 'At point "{point}" {what} cannot be solved from the equations (the Jacobian with respect to {names} is singular: index above 1 or a singular algebraic loop).' },
-  P508: { severity: 'error', text: 'At point "{point}" this equation has no unknown left and does not hold: residual {residual}. Change a fixed value or free one with "~".' },
+  P508: { severity: 'error', text: 'At point "{point}" this equation has no unknown left and does not hold: residual {residual}{form}. Change a fixed value or free one with "~".' },
   P509: { severity: 'error', text: 'No point to use: add a "point NAME:" block with the values to fix.' },
   P510: { severity: 'error', text: 'Constant "{name}" cannot be evaluated: {detail}.' },
   P511: { severity: 'error', text: 'At point "{point}" the linear model has {what} in {entry}, the row this equation gives: choose units (or a time unit) that bring the model\'s numbers nearer 1, or check the equation for a division by a tiny value.' },

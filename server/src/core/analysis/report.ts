@@ -116,6 +116,8 @@ export interface ReportData extends LinearSignals {
   ok: boolean;
   problems: string[];
   values: ValueRow[];
+  /** How the point was solved: Newton iterations and the achieved relative residual (see PointSolution.residual). */
+  solve?: { iterations: number; residual: number };
   outputsAreStates: boolean;
   matrices: { A: number[][]; B: number[][]; C: number[][]; D: number[][] } | null;
   stability: StabilityVerdict | null;
@@ -177,6 +179,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     return data;
   }
   data.values = a.values(sol).map((v) => ({ name: v.name, kind: v.kind, value: v.value, unit: v.unit, role: v.role }));
+  data.solve = { iterations: sol.iterations, residual: sol.residual };
   const lin = a.linear(point);
   if (!lin || !lin.ok) {
     data.problems.push(...(lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearized at this point.']));

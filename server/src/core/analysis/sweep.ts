@@ -22,11 +22,13 @@ import { perUnit } from './dynamics';
 import { simplifyUnitText } from '../semantics/simplifyUnit';
 import { eigenvalues, sortEigen } from '../numeric/eigen';
 import { sparseLU } from '../numeric/sparseLU';
-import { solvePoint, type PointSolution } from '../solve/pointSolver';
+import { pointSetup, solvePoint, type PointSolution } from '../solve/pointSolver';
 import { unitSuffix, unitText } from '../semantics/units';
 import { MAX_STEPS, declaredSweeps, varSlot, variedProblem, type SweepSpec } from '../pipeline/sweepChecks';
 // declared sweeps are checked in the pipeline; re-exported for the shells
 export { MAX_STEPS, declaredSweeps, sweepCandidates, sweepDiagnostics, variedProblem, type DeclaredSweep, type SweepSpec } from '../pipeline/sweepChecks';
+import { locateFold } from './fold';
+import { steadyModel } from '../model/steady';
 
 export interface SweepOptions {
   /** A failed continuation step is halved at most this many times (default 12). */
@@ -90,6 +92,8 @@ export interface SweepStop {
   at: number;
   /** The value that could not be reached. */
   next: number;
+  /** At a fold: the steady state there (declared units, aligned with SweepResult.columns), located with `at`. */
+  values?: number[];
   message: string;
 }
 
@@ -453,6 +457,15 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
     const singular = ref !== undefined && m !== undefined && m.sigma <= 1e-4 * ref.sigma;
     const where = `${spec.vary} = ${fmt(good.p)}`;
     if (singular) {
+      // the fold itself, by Newton on the extended system (fold.ts); the bisection's end if that fails
+      const f = locateFold(a.bound, lm, block!, id, toSI(good.p), good.sol.values, good.sol.unknowns, { maxDistance: Math.abs(toSI(bad) - toSI(good.p)) + 0.01 * gridStep * Math.abs(slot!.scale) });
+      if (f) {
+        const at = declaredValue(slot!, f.p);
+        return {
+          kind: 'fold', at, next: bad, values: colSlots.map((s) => declaredValue(lm.slots[s], f.values[s])),
+          message: `fold at ${spec.vary} = ${fmt(at)}: the steady-state Jacobian is singular there and no steady state continues beyond it (the branch ends or turns back); the sweep stops. Points beyond it need another starting point on the other side.`,
+        };
+      }
       return {
         kind: 'fold', at: good.p, next: bad,
         message: `fold at ${where}: the steady-state Jacobian becomes singular there and no steady state continues beyond it (the branch ends or turns back); the sweep stops. Points beyond it need another starting point on the other side.`,
@@ -490,7 +503,7 @@ interface JacobianMeasure {
  */
 function jacobianMeasure(a: Analysis, sol: PointSolution, ref?: JacobianMeasure): JacobianMeasure | undefined {
   const lm = a.lowered;
-  const cm = compileModel(lm);
+  const cm = compileModel(steadyModel(lm));
   const colOf = new Map<number, number>();
   sol.unknowns.forEach((s, j) => colOf.set(s, j));
   const nU = sol.unknowns.length;

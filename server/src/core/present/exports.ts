@@ -21,9 +21,16 @@ export const LINEAR_SCHEMA = 'poise-linear/1';
 export interface ExportOptions {
   /** Significant digits; undefined writes every number exactly (round-trips). */
   digits?: number;
+  /** How the point was solved (JSON `solve` field): Newton iterations and the achieved relative residual. */
+  solve?: PointSolveInfo;
 }
 
-export type LinearExportJson = { schema: typeof LINEAR_SCHEMA } & LinearJson & { caution: string };
+export interface PointSolveInfo {
+  iterations: number;
+  residual: number;
+}
+
+export type LinearExportJson = { schema: typeof LINEAR_SCHEMA } & LinearJson & { caution: string; solve?: PointSolveInfo };
 
 /**
  * The linear model at a point in one export format. Throws an Error whose message says what is wrong
@@ -35,13 +42,13 @@ export function exportLinear(a: Analysis, point: string | undefined, format: Exp
   if (!sol.ok) throw new Error(`point "${sol.name}" does not solve: ${sol.diagnostics.find((d) => d.severity === 'error')?.message ?? 'see the problems'}`);
   const lin = a.linear(sol.name);
   if (!lin || !lin.ok) throw new Error(`the linear model at point "${sol.name}" cannot be formed: ${lin?.diagnostics.find((d) => d.severity === 'error')?.message ?? 'see the problems'}`);
-  return exportLinearModel(lin, a.values(sol), format, opts);
+  return exportLinearModel(lin, a.values(sol), format, { solve: { iterations: sol.iterations, residual: sol.residual }, ...opts });
 }
 
 /** Same as exportLinear, from a linear model and the point's values. */
 export function exportLinearModel(lin: LinearModel, values: VariableValue[], format: ExportFormat, opts: ExportOptions = {}): string {
   switch (format) {
-    case 'json': return JSON.stringify(linearExportJson(lin, values), jsonNumbers, 1) + '\n';
+    case 'json': return JSON.stringify(linearExportJson(lin, values, opts.solve), jsonNumbers, 1) + '\n';
     case 'csv': return linearCsv(lin, values, opts);
     case 'markdown': return linearMarkdown(lin, values, opts);
     case 'latex': return linearLatex(lin, values, opts);
@@ -49,8 +56,10 @@ export function exportLinearModel(lin: LinearModel, values: VariableValue[], for
   }
 }
 
-export function linearExportJson(lin: LinearModel, values: VariableValue[]): LinearExportJson {
-  return { schema: LINEAR_SCHEMA, ...linearJson(lin, values, deviationEquations(lin, 6)), caution: LINEAR_CAUTION };
+export function linearExportJson(lin: LinearModel, values: VariableValue[], solve?: PointSolveInfo): LinearExportJson {
+  const j: LinearExportJson = { schema: LINEAR_SCHEMA, ...linearJson(lin, values, deviationEquations(lin, 6)), caution: LINEAR_CAUTION };
+  if (solve) j.solve = { iterations: solve.iterations, residual: solve.residual };
+  return j;
 }
 
 /** JSON has no NaN or Infinity: they become null. */

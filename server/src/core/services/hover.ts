@@ -193,7 +193,7 @@ function pointText(a: Analysis, name: string, digits: number): string {
     out.push('', `Not solved: ${st.message}`);
     return out.join('\n');
   }
-  out[0] += ` — solved in ${st.solution.iterations} Newton iteration(s)`;
+  out[0] += ` — solved in ${st.solution.iterations} Newton iteration(s), relative residual ${st.solution.residual.toExponential(1)}`;
   const lin = a.linear(name);
   if (!lin || !lin.ok) {
     const d = lin?.diagnostics.find((x) => x.severity === 'error');

@@ -13,6 +13,7 @@ import { constExprValue, type LoweredModel } from '../model/model';
 import { sparseLU } from '../numeric/sparseLU';
 import { isDimensionless } from '../semantics/units';
 import { leftovers, listNames, maximumMatching } from '../model/structure';
+import { steadyIncidence, steadyModel } from '../model/steady';
 import type { Span } from '../text';
 import { formatShort } from '../numbers';
 
@@ -28,7 +29,11 @@ export interface PointSolution {
   unknowns: number[];
   fixed: Set<number>;
   iterations: number;
-  /** Largest scaled residual at the end. */
+  /**
+   * Achieved relative residual of a solved point: the largest over the equations of |F_i| divided by
+   * max_j |∂F_i/∂x_j|·max(|x_j|, unit of x_j) at the solution (0 when every equation holds exactly; about
+   * 1e-16 is the limit of double precision). For a point that did not converge, the largest scaled residual.
+   */
   residual: number;
   diagnostics: Diagnostic[];
 }
@@ -142,7 +147,10 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   const { values, fixed, unknowns } = setup;
   if (opts.start) for (const id of unknowns) if (Number.isFinite(opts.start[id])) values[id] = opts.start[id];
   const guesses = Float64Array.from(values);
-  const cm = compileModel(lm);
+  // the steady-state residuals (every derivative zero, folded): their incidence decides which equations
+  // hold unknowns at this point, and Newton solves them
+  const sm = steadyModel(lm);
+  const cm = compileModel(sm);
   const result: PointSolution = { name, block, ok: false, values, guesses, unknowns, fixed, iterations: 0, residual: NaN, diagnostics };
   // a value the point writes (or a constant it gives again, or one computed from it) that is not finite
   const bad = nonFiniteLines(m, lm, block, values);
@@ -153,26 +161,8 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
 
   const colOf = new Map<number, number>();
   unknowns.forEach((s, i) => colOf.set(s, i));
-  // equations with unknowns vs consistency checks
-  const active: number[] = [];
-  const checks: number[] = [];
-  for (let r = 0; r < cm.nEq; r++) {
-    let has = false;
-    for (const k of cm.rowEntries[r]) if (colOf.has(cm.cols[k])) has = true;
-    if (!has) {
-      // structural incidence (derivative pattern may drop e.g. sign()) — use the residual's slots
-      for (const s of E.slots(lm.equations[r].residual)) if (colOf.has(s)) has = true;
-    }
-    (has ? active : checks).push(r);
-  }
-  const adj = active.map((r) => {
-    const out: number[] = [];
-    for (const s of E.slots(lm.equations[r].residual)) {
-      const c = colOf.get(s);
-      if (c !== undefined) out.push(c);
-    }
-    return out;
-  });
+  // equations with unknowns (on the steady-state incidence) vs consistency checks
+  const { active, checks, adj } = steadyIncidence(sm, unknowns);
   const nR = active.length;
   const nC = unknowns.length;
   const mt = maximumMatching(nR, nC, adj);
@@ -181,18 +171,29 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   const pointSpan = block.name.span;
   if (mt.size < nR || mt.size < nC) {
     const lo = leftovers(nR, nC, adj, mt);
-    const freeCols = lo.underCols.filter((c) => mt.colMatch[c] < 0).map((c) => lm.slots[unknowns[c]].name);
+    // the under-determined part: unknowns no equation determines at this point (the unmatched ones first)
+    const unmatchedCols = lo.underCols.filter((c) => mt.colMatch[c] < 0);
+    const underCols = [...unmatchedCols, ...lo.underCols.filter((c) => mt.colMatch[c] >= 0)];
+    const freeCols = underCols.map((c) => lm.slots[unknowns[c]].name);
+    // the over-determined part: equations that determine fewer unknowns than they are
     const extraRows = lo.overRows.filter((r) => mt.rowMatch[r] < 0).map((r) => active[r]);
-    let advice: string;
-    // which fixed values appear in the left-over equations: candidates to free
     const cand = new Set<string>();
-    if (nC > nR || (nC === nR && freeCols.length)) {
-      advice = `Fix ${Math.max(1, nC - nR)} more value(s) with "=", e.g. ${listNames(freeCols)}.`;
-    } else {
-      // every equation of the over-determined part (not only the one the matching left out) may be relieved
-      for (const r of lo.overRows) for (const s of E.slots(lm.equations[active[r]].residual)) if (fixed.has(s)) cand.add(lm.slots[s].name);
-      advice = `Free ${Math.max(1, nR - nC)} fixed value(s) (write "~" instead of "=")${cand.size ? `, e.g. ${listNames([...cand])}` : ''}; left over: ${extraRows.map((r) => `"${lm.equations[r].label}"`).join(', ')}.`;
+    for (const r of lo.overRows) for (const s of E.slots(sm.equations[active[r]].residual)) if (fixed.has(s)) cand.add(lm.slots[s].name);
+    const parts: string[] = [];
+    if (unmatchedCols.length) {
+      const k = unmatchedCols.length;
+      parts.push(freeCols.length > k
+        ? `Fix ${k} more value(s) with "=": at this point ${listNames(freeCols)} have only ${freeCols.length - k} equation(s) between them; fix ${k} of them.`
+        : `Fix ${k} more value(s) with "=": at this point no equation determines ${listNames(freeCols)}.`);
     }
+    if (extraRows.length) {
+      const k = extraRows.length;
+      const overNames = lo.overCols.map((c) => lm.slots[unknowns[c]].name);
+      const eqs = lo.overRows.map((r) => steadyLabel(lm, sm, active[r]));
+      parts.push(`Free ${k} fixed value(s) (write "~" instead of "=")${cand.size ? `, e.g. ${listNames([...cand])}` : ''}: at this point ${eqs.join(', ')} determine only ${listNames(overNames)}; left over: ${extraRows.map((r) => `"${lm.equations[r].label}"`).join(', ')}.`);
+    }
+    if (checks.length) parts.push(`(${checks.length} equation(s) with no unknown at this point are checks, not counted.)`);
+    const advice = parts.join(' ');
     // data for quick fixes: names that could be fixed (missing) or freed (free), and the counts
     diagnostics.push(diag('P501', pointSpan, { point: name, equations: nR, unknowns: nC, advice }, { data: { point: name, missing: freeCols, free: [...cand], equations: nR, unknowns: nC } }));
     return result;
@@ -372,13 +373,45 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     return result;
   }
 
+  // Polish: once the tolerance is met, full Newton steps (scaled variables, the Jacobian at the current
+  // values) while they still lower the relative residual, down to the limit of double precision. Cheap
+  // (one or two iterations, quadratic convergence), and it makes the point as exact as the arithmetic allows.
+  if (nR === nU && nU > 0) {
+    let best = currentResidual();
+    for (let k = 0; k < 4 && best > 0; k++) {
+      const e = entries();
+      const rhs = new Float64Array(nR);
+      for (let i = 0; i < nR; i++) rhs[i] = -F[active[i]] * rowScale[i];
+      const lu = sparseLU(nU, e);
+      if (!lu.ok) break;
+      const dy = lu.solve(rhs);
+      let moved = false;
+      for (let j = 0; j < nU; j++) {
+        x0[j] = values[unknowns[j]];
+        const v = x0[j] + dy[j] * xs[j];
+        if (Number.isFinite(v)) values[unknowns[j]] = v;
+        if (values[unknowns[j]] !== x0[j]) moved = true;
+      }
+      const r = moved ? currentResidual() : best;
+      if (!(r < best)) {
+        for (let j = 0; j < nU; j++) values[unknowns[j]] = x0[j];
+        break;
+      }
+      best = r;
+      it++;
+    }
+    result.iterations = it;
+    result.residual = best;
+  }
+
   // consistency checks
   cm.residual(values, F);
   for (const r of checks) {
     const f = F[r];
-    const scale = equationScale(lm, r, values);
+    const scale = equationScale(sm, r, values);
     if (!Number.isFinite(f) || !(Math.abs(f) <= 1e-8 * scale)) { // an infinite term makes the scale infinite too
-      diagnostics.push(diag('P508', lm.equations[r].span, { point: name, residual: Number.isFinite(f) ? f.toExponential(3) : String(f) }, { related: [{ span: pointSpan, message: `point ${name}` }] }));
+      const form = steadyForm(lm, sm, r);
+      diagnostics.push(diag('P508', lm.equations[r].span, { point: name, residual: Number.isFinite(f) ? f.toExponential(3) : String(f), form: form ? ` (with every derivative zero it reads ${form} = 0)` : '' }, { related: [{ span: pointSpan, message: `point ${name}` }] }));
     }
   }
   // isolated? Jacobian at the solution must be nonsingular
@@ -396,6 +429,23 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   diagnostics.push(...pointChecks(lm, values, name, pointSpan));
   result.ok = !diagnostics.some((d) => d.severity === 'error');
   return result;
+}
+
+/** An equation's label and, when derivatives dropped out of it, what it reads at a steady state. */
+function steadyLabel(lm: LoweredModel, sm: LoweredModel, r: number): string {
+  const eq = lm.equations[r];
+  const form = steadyForm(lm, sm, r);
+  return form ? `"${eq.label}" (every derivative zero: ${form} = 0)` : `"${eq.label}"`;
+}
+
+/** The steady-state residual as text when derivatives dropped out of the equation (and it is short). */
+function steadyForm(lm: LoweredModel, sm: LoweredModel, r: number): string | undefined {
+  if (sm.equations[r] === lm.equations[r]) return undefined;
+  let n = sm.equations[r].residual;
+  // "… = 0" reads the same with either sign: drop a leading −1 (−(u − x) = 0 reads u − x = 0)
+  if (n.t === 'mul' && E.isNum(n.args[0], -1)) n = E.mul(n.args.slice(1));
+  const text = E.print(n, { name: (id) => lm.slots[id].name, digits: 4, readable: true });
+  return text.length <= 60 ? text : undefined;
 }
 
 function equationScale(lm: LoweredModel, r: number, values: Float64Array): number {
