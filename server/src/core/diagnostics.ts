@@ -42,6 +42,7 @@ export const catalogue = {
   P111: { severity: 'error', text: '"Δ" is reserved for deviation variables in generated linear blocks; rename "{name}".' },
   P112: { severity: 'error', text: 'Block "{name}" has no lines: indent its lines under the header.' },
   P113: { severity: 'error', text: 'A sweep line is "vary NAME = FROM to TO steps N" with an optional "log".' },
+  P114: { severity: 'error', text: 'Expression nested deeper than {limit} levels (parentheses, calls, powers, signs): split it with a var.' },
 
   // 2xx names
   P201: { severity: 'error', text: 'Unknown name "{name}": declare it (const, input, state, var or output) or fix the spelling.' },

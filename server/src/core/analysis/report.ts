@@ -13,6 +13,7 @@ import { formatNumber } from '../algebra/expr';
 import { declaredValue } from '../solve/linearizer';
 import { linearStepResponse } from '../numeric/expm';
 import { Simulator } from './simulate';
+import { maxOf, pushAll } from '../arrays';
 
 export { renderReportHtml, type RenderOptions } from '../present/reportHtml';
 
@@ -174,18 +175,18 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   }
   const errors = a.diagnostics.filter((d) => d.severity === 'error');
   if (errors.length || !a.canSolve) {
-    data.problems.push(...(errors.length ? errors.map((d) => d.message) : ['The model has errors; fix them first.']));
+    pushAll(data.problems, errors.length ? errors.map((d) => d.message) : ['The model has errors; fix them first.']);
     return data;
   }
   const sol = a.point(point);
   if (!sol || !sol.ok) {
-    data.problems.push(...(sol?.diagnostics.filter((d) => d.severity === 'error').map((d) => d.message) ?? ['The point could not be solved.']));
+    pushAll(data.problems, sol?.diagnostics.filter((d) => d.severity === 'error').map((d) => d.message) ?? ['The point could not be solved.']);
     return data;
   }
   data.values = a.values(sol).map((v) => ({ name: v.name, kind: v.kind, value: v.value, unit: v.unit, role: v.role }));
   const lin = a.linear(point);
   if (!lin || !lin.ok) {
-    data.problems.push(...(lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearised at this point.']));
+    pushAll(data.problems, lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearised at this point.']);
     return data;
   }
   const dyn = analyzeDynamics(lin);
@@ -450,11 +451,11 @@ export function formatReportText(r: ReportData, d = 4): string {
   const t = r.timeUnit;
   out.push(`${r.title} — report of point "${r.point}" (time in ${t})`);
   if (!r.ok) {
-    out.push('', 'The report could not be made:', ...r.problems.map((p) => `  ${p}`));
+    pushAll(out, ['', 'The report could not be made:', ...r.problems.map((p) => `  ${p}`)]);
     return out.join('\n');
   }
   out.push('', 'Operating point:');
-  const w = Math.max(4, ...r.values.filter((v) => v.kind !== 'const').map((v) => v.name.length));
+  const w = maxOf(r.values.filter((v) => v.kind !== 'const').map((v) => v.name.length), 4);
   for (const v of r.values) if (v.kind !== 'const') out.push(`  ${v.name.padEnd(w)}  ${f(v.value, 6).padStart(12)}${u(v.unit ? `[${v.unit}]` : '')}${v.role === 'fixed' ? '  (fixed)' : ''}`);
   out.push('', `Stability: ${r.stability!.verdict}. ${r.stability!.reason}`);
   out.push('', `Modes (eigenvalues in 1/${t}):`);
@@ -522,6 +523,6 @@ export function formatReportText(r: ReportData, d = 4): string {
       if (v.note) out.push(`      ${v.note}`);
     }
   }
-  out.push('', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`));
+  pushAll(out, ['', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`)]);
   return out.join('\n');
 }

@@ -24,6 +24,7 @@ import { pointSetup, solvePoint, type PointSolution } from '../solve/pointSolver
 import type { Span } from '../text';
 import { hasUnitLiteral } from '../semantics/unitChecker';
 import { dimsEqual, parseUnit } from '../semantics/units';
+import { maxOf, minOf, pushAll } from '../arrays';
 
 /** What to sweep. `from` and `to` are in the declared unit of the varied name. */
 export interface SweepSpec {
@@ -554,7 +555,7 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
     const sol = solveAt(grid[0]);
     if (usable(sol)) start = { p: grid[0], sol };
     else {
-      result.diagnostics.push(...sol.diagnostics);
+      pushAll(result.diagnostics, sol.diagnostics);
       const why = sol.diagnostics.find((d) => d.severity === 'error');
       result.stop = { kind: 'start', at: NaN, next: grid[0], message: `no steady state at ${spec.vary} = ${fmt(grid[0])}${why ? `: ${why.message}` : ''}` };
       return result;
@@ -810,15 +811,15 @@ export function formatSweepText(r: SweepResult, digits = 5): string {
   const headers = [`${r.vary.name}${u(r.vary.unit)}`, 'stability', `eigenvalues [1/${r.timeUnit}] (largest real part first)`, `slowest τ [${r.timeUnit}]`, 'min ζ', ...shownCols.map(({ c }) => `${c.name}${u(c.unit)}`)];
   const rows: string[][] = r.points.map((p) => {
     const timed = p.modes.filter((m) => m.timeConstant !== null);
-    const slow = timed.length ? Math.max(...timed.map((m) => m.timeConstant!)) : NaN;
+    const slow = timed.length ? maxOf(timed.map((m) => m.timeConstant!)) : NaN;
     const pairs = p.modes.filter((m) => m.im > 0 && m.damping !== null);
-    const zmin = pairs.length ? Math.min(...pairs.map((m) => m.damping!)) : NaN;
+    const zmin = pairs.length ? minOf(pairs.map((m) => m.damping!)) : NaN;
     return [
       formatNumber(p.value, 6), p.stability, eigText(p.eigenvalues, digits), Number.isNaN(slow) ? '-' : formatNumber(slow, digits), Number.isNaN(zmin) ? '-' : formatNumber(zmin, digits),
       ...shownCols.map(({ i }) => formatNumber(p.values[i], digits)),
     ];
   });
-  const w = headers.map((h, j) => Math.max(h.length, ...rows.map((row) => row[j].length)));
+  const w = headers.map((h, j) => maxOf(rows.map((row) => row[j].length), h.length));
   out.push('  ' + headers.map((h, j) => h.padEnd(w[j])).join('  ').trimEnd());
   for (const row of rows) out.push('  ' + row.map((c, j) => (j === 1 || j === 2 ? c.padEnd(w[j]) : c.padStart(w[j]))).join('  ').trimEnd());
   if (r.columns.length - 1 > shownCols.length) out.push(`  (${r.columns.length - 1 - shownCols.length} more variables in --format json or csv)`);

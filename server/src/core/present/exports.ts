@@ -10,6 +10,7 @@ import { formatNumber } from '../algebra/expr';
 import { linearEigen, linearJson, rows, type LinearJson } from './format';
 import { deviationEquations, type LinearModel } from '../solve/linearizer';
 import { coefficientUnit } from '../analysis/symbolic';
+import { pushAll } from '../arrays';
 
 export const EXPORT_FORMATS = ['json', 'csv', 'markdown', 'latex', 'numpy'] as const;
 export type ExportFormat = (typeof EXPORT_FORMATS)[number];
@@ -120,7 +121,9 @@ export function linearMarkdown(lin: LinearModel, values: VariableValue[], o: Exp
   out.push(`## Linear model at point \`${lin.point}\``, '', `Time in ${lin.timeUnit}. Each Δ variable is the deviation from the point, in its declared unit.`, '');
   out.push('| variable | value | unit | role |', '|---|---:|---|---|');
   for (const v of values) if (v.kind !== 'const') out.push(`| ${mdEscape(v.name)} | ${fmt(v.value, o)} | ${mdEscape(v.unit)} | ${v.role} |`);
-  out.push('', '```', ...deviationLines(lin, o, 'text'), '```', '');
+  out.push('', '```');
+  pushAll(out, deviationLines(lin, o, 'text'));
+  out.push('```', '');
   for (const M of matrices(lin)) {
     out.push(`**${M.name}** (${M.r}×${M.c})`, '');
     if (!M.r || !M.c) {

@@ -5,6 +5,7 @@
  */
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
+import { forEachExpr } from '../syntax/walk';
 import type { ModelSymbol, Reference } from '../semantics/binder';
 import { BUILTIN_ARITY } from '../algebra/expr';
 import { KEYWORDS } from '../syntax/parser';
@@ -145,14 +146,7 @@ export function pointAt(a: Analysis, offset: number): string | null {
 
 /** Calls `f` on every expression node of the file (constants, outputs, equations, points, linear blocks, sweeps). */
 export function walkExpressions(file: A.ModelFile, f: (e: A.Expr) => void): void {
-  const walk = (e: A.Expr): void => {
-    f(e);
-    switch (e.kind) {
-      case 'unary': walk(e.arg); break;
-      case 'binary': walk(e.left); walk(e.right); break;
-      case 'call': e.args.forEach(walk); break;
-    }
-  };
+  const walk = (e: A.Expr): void => forEachExpr(e, (x) => void f(x));
   for (const st of file.statements) {
     switch (st.kind) {
       case 'const': walk(st.value); break;
