@@ -461,7 +461,7 @@ function pr(n: Node, o: PrintOptions): [string, number] {
       const printed = n.args.map((a) => pr(a, o));
       if (o.readable) {
         const firstPos = printed.findIndex(([t]) => !t.startsWith('-'));
-        if (firstPos > 0) printed.unshift(...printed.splice(firstPos, 1));
+        if (firstPos > 0) printed.unshift(printed.splice(firstPos, 1)[0]);
       }
       printed.forEach(([t0, p], i) => {
         let t = t0;
