@@ -11,6 +11,7 @@ import { formatLinearText, formatValues } from '../core/present/format';
 import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
 import { reportCommand } from './report';
+import { parseDigits } from './digits';
 
 export interface Io {
   out(s: string): void;
@@ -125,6 +126,13 @@ function opt(p: Parsed, name: string): string | undefined {
   return v;
 }
 
+/** --digits checked (1..17) before anything is printed; `fallback` when it is not given. */
+function digitsOpt(p: Parsed, fallback: number): number {
+  const d = parseDigits(opt(p, '--digits'), fallback);
+  if (typeof d !== 'number') throw new UsageError(d.error);
+  return d;
+}
+
 function oneFile(p: Parsed): string {
   if (p.files.length !== 1) throw new UsageError(`"poise ${p.cmd}" takes one model file${p.files.length ? `, not ${p.files.length}` : ''}`);
   return p.files[0];
@@ -146,7 +154,17 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         if (!p.files.length) throw new UsageError('"poise check" needs at least one model file');
         let errors = 0;
         for (const f of p.files) {
-          const a = analyze(readModel(f));
+          let text: string;
+          try {
+            text = readModel(f);
+          } catch (e) {
+            // a file that cannot be read is an error of its own: check the others, exit 1
+            if (!(e instanceof UsageError)) throw e;
+            io.err(`poise: ${e.message}`);
+            errors++;
+            continue;
+          }
+          const a = analyze(text);
           const ds = sortDiags(a.allDiagnostics());
           for (const d of ds) io.out(formatDiagnostic(a, f, d));
           errors += ds.filter((d) => d.severity === 'error').length;
@@ -155,18 +173,19 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
       }
       case 'solve': {
         const file = oneFile(p);
+        const digits = digitsOpt(p, 6);
         const r = prepare(file, opt(p, '--point'), io);
         if (!r) return 1;
         const sol = r.a.point(r.point)!;
         io.out(`Point ${r.point}: solved in ${sol.iterations} Newton iteration(s)`);
-        io.out(formatValues(r.a.values(sol), Number(opt(p, '--digits') ?? 6)));
+        io.out(formatValues(r.a.values(sol), digits));
         return 0;
       }
       case 'linearize': {
         const file = oneFile(p);
         const format = opt(p, '--format') ?? 'text';
         if (!['text', ...EXPORT_FORMATS].includes(format)) throw new UsageError(`unknown format "${format}": use text, ${EXPORT_FORMATS.join(', ')}`);
-        const digits = Number(opt(p, '--digits') ?? (format === 'json' ? 17 : 5));
+        const digits = digitsOpt(p, format === 'json' ? 17 : 5);
         const r = prepare(file, opt(p, '--point'), io);
         if (!r) return 1;
         const lin = r.a.linear(r.point);

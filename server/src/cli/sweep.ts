@@ -15,6 +15,7 @@ import type { Diagnostic } from '../core/diagnostics';
 import { sweepHtml } from '../core/present/sweepReport';
 import { declaredSweeps, formatSweepText, runSweep, sweepCsv, sweepJson, sweepRequest, type SweepSpec } from '../core/analysis/sweep';
 import type { CliHelpers, Io, Parsed } from './main';
+import { parseDigits } from './digits';
 
 function where(a: Analysis, file: string, d: Diagnostic): string {
   const p = a.lines.position(d.span.start);
@@ -25,9 +26,8 @@ export async function sweepCommand(p: Parsed, io: Io, h: CliHelpers): Promise<nu
   const file = h.oneFile(p);
   const format = h.opt(p, '--format') ?? 'text';
   if (!['text', 'json', 'csv'].includes(format)) throw new h.UsageError(`unknown format "${format}": use text, json or csv`);
-  const digitsOpt = h.opt(p, '--digits');
-  const digits = digitsOpt === undefined ? 5 : Number(digitsOpt);
-  if (!Number.isInteger(digits) || digits < 1 || digits > 17) throw new h.UsageError('--digits wants a whole number from 1 to 17');
+  const digits = parseDigits(h.opt(p, '--digits'), 5);
+  if (typeof digits !== 'number') throw new h.UsageError(digits.error);
   const html = h.opt(p, '--html');
   const vary = h.opt(p, '--vary');
   const sweepName = h.opt(p, '--sweep');
