@@ -3,6 +3,7 @@
  * a built-in function, a keyword, a unit bracket, or an equation line. Shared by hover, definition,
  * references, rename and the point lookup the editor commands use. Pure.
  */
+import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
 import { forEachExpr } from '../syntax/walk';
@@ -108,7 +109,7 @@ export function targetAt(a: Analysis, offset: number): Target | undefined {
     const word = text.slice(w.start, w.end);
     let k = w.end;
     while (text[k] === ' ' || text[k] === '\t') k++;
-    if (word in BUILTIN_ARITY && text[k] === '(') return { kind: 'builtin', name: word, span: w };
+    if (hasName(BUILTIN_ARITY, word) && text[k] === '(') return { kind: 'builtin', name: word, span: w };
     if (word === 'pi' && !m.symbols.has('pi')) return { kind: 'constant', name: 'pi', span: w };
     if (KEYWORDS.has(word) && !m.symbols.has(word) && text[w.start - 1] !== 'Δ') return { kind: 'keyword', word, span: w };
   }
@@ -146,7 +147,12 @@ export function pointAt(a: Analysis, offset: number): string | null {
 
 /** Calls `f` on every expression node of the file (constants, outputs, equations, points, linear blocks, sweeps). */
 export function walkExpressions(file: A.ModelFile, f: (e: A.Expr) => void): void {
-  const walk = (e: A.Expr): void => forEachExpr(e, (x) => void f(x));
+  // operators and calls only, as written (an explicit stack: a sum may have 10^5 terms)
+  const walk = (e: A.Expr): void =>
+    forEachExpr(e, (x) => {
+      f(x);
+      return x.kind === 'unary' || x.kind === 'binary' || x.kind === 'call';
+    });
   for (const st of file.statements) {
     switch (st.kind) {
       case 'const': walk(st.value); break;

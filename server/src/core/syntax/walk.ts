@@ -36,6 +36,9 @@ export function children(e: A.Expr): A.Expr[] {
     case 'unary': return [e.arg];
     case 'binary': return [e.left, e.right];
     case 'call': return e.args;
+    case 'list': return e.items;
+    case 'reduce': return [e.range.from, e.range.to, e.body];
+    case 'name': return e.index ? [e.index] : [];
     default: return [];
   }
 }
