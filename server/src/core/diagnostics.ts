@@ -43,6 +43,7 @@ export const catalogue = {
   P112: { severity: 'error', text: 'Block "{name}" has no lines: indent its lines under the header.' },
   P113: { severity: 'error', text: 'A sweep line is "vary NAME = FROM to TO steps N" with an optional "log".' },
   P114: { severity: 'error', text: 'The number "{text}" is {what} for double precision (magnitudes from about 1e-308 to 1e308) and would be read as {becomes}: write it with a unit that brings it into range (e.g. [nm] or [GW]), or write 0 if zero is meant.' },
+  P115: { severity: 'error', text: 'Expression nested deeper than {limit} levels (parentheses, calls, powers, signs): split it with a var.' },
   P120: { severity: 'error', text: 'Empty index: write the element\'s index inside the brackets, e.g. h[1] or h[i+1].' },
   P121: { severity: 'error', text: 'A range "first..last" belongs in a declaration (state h[1..n]) or an each header; here write one index.' },
   P122: { severity: 'error', text: 'An output family is defined element by element: write "each i in 1..n:" and under it "output {name}[i] [unit] = …".' },

@@ -162,7 +162,7 @@ export function add(args: Node[], src?: Span): Node {
   }
   const flat: Node[] = [];
   for (const a of args) {
-    if (a.t === 'add') flat.push(...a.args);
+    if (a.t === 'add') for (const x of a.args) flat.push(x); // no spread: a sum may have 10^5 terms
     else flat.push(a);
   }
   let c = 0;
@@ -209,7 +209,7 @@ export function mul(args: Node[], src?: Span): Node {
   }
   const flat: Node[] = [];
   for (const a of args) {
-    if (a.t === 'mul') flat.push(...a.args);
+    if (a.t === 'mul') for (const x of a.args) flat.push(x);
     else flat.push(a);
   }
   let c = 1;
@@ -265,9 +265,15 @@ const FOLD: Readonly<Record<FnName, (...a: number[]) => number>> = nameTable({
   pick: (a: number, b: number, p: number, q: number) => (a <= b ? p : q),
 });
 
+/** A built-in function of (at most four) numbers, without spreading them into the call. */
+export function applyFn(name: FnName, a: number[]): number {
+  const f = FOLD[name];
+  return a.length === 1 ? f(a[0]) : a.length === 2 ? f(a[0], a[1]) : f(a[0], a[1], a[2], a[3]);
+}
+
 export function fn(name: FnName, args: Node[], src?: Span): Node {
   if (args.every((a) => a.t === 'num')) {
-    const r = FOLD[name](...args.map((a) => (a as Num).v));
+    const r = applyFn(name, args.map((a) => (a as Num).v));
     if (Number.isFinite(r)) return num(r, src);
   }
   if (name === 'pick' && same(args[2], args[3])) return args[2];
@@ -294,7 +300,7 @@ export function evaluate(n: Node, v: ArrayLike<number>): number {
       return s;
     }
     case 'pow': return powValue(evaluate(n.base, v), evaluate(n.exp, v));
-    case 'fn': return FOLD[n.fn](...n.args.map((a) => evaluate(a, v)));
+    case 'fn': return applyFn(n.fn, n.args.map((a) => evaluate(a, v)));
   }
 }
 
@@ -455,7 +461,7 @@ function pr(n: Node, o: PrintOptions): [string, number] {
       const printed = n.args.map((a) => pr(a, o));
       if (o.readable) {
         const firstPos = printed.findIndex(([t]) => !t.startsWith('-'));
-        if (firstPos > 0) printed.unshift(...printed.splice(firstPos, 1));
+        if (firstPos > 0) printed.unshift(printed.splice(firstPos, 1)[0]);
       }
       printed.forEach(([t0, p], i) => {
         let t = t0;

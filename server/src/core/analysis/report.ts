@@ -15,6 +15,7 @@ import {
 import { declaredValue, type LinearSignals } from '../solve/linearizer';
 import { linearStepResponse } from '../numeric/expm';
 import { Simulator } from './simulate';
+import { maxOf, pushAll } from '../arrays';
 
 export interface ReportOptions {
   /** Step size per input (declared unit) for the step-response plots; default 10 % of the operating value (of one unit when it is 0). */
@@ -170,19 +171,19 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   }
   const errors = a.diagnostics.filter((d) => d.severity === 'error');
   if (errors.length || !a.canSolve) {
-    data.problems.push(...(errors.length ? errors.map((d) => d.message) : ['The model has errors; fix them first.']));
+    pushAll(data.problems, errors.length ? errors.map((d) => d.message) : ['The model has errors; fix them first.']);
     return data;
   }
   const sol = a.point(point);
   if (!sol || !sol.ok) {
-    data.problems.push(...(sol?.diagnostics.filter((d) => d.severity === 'error').map((d) => d.message) ?? ['The point could not be solved.']));
+    pushAll(data.problems, sol?.diagnostics.filter((d) => d.severity === 'error').map((d) => d.message) ?? ['The point could not be solved.']);
     return data;
   }
   data.values = a.values(sol).map((v) => ({ name: v.name, kind: v.kind, value: v.value, unit: v.unit, role: v.role }));
   data.solve = { iterations: sol.iterations, residual: sol.residual };
   const lin = a.linear(point);
   if (!lin || !lin.ok) {
-    data.problems.push(...(lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearized at this point.']));
+    pushAll(data.problems, lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearized at this point.']);
     return data;
   }
   const dyn = analyzeDynamics(lin);

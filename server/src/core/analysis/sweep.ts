@@ -29,6 +29,7 @@ import { MAX_STEPS, declaredSweeps, varSlot, variedProblem, type SweepSpec } fro
 export { MAX_STEPS, declaredSweeps, sweepCandidates, sweepDiagnostics, variedProblem, type DeclaredSweep, type SweepSpec } from '../pipeline/sweepChecks';
 import { locateFold } from './fold';
 import { steadyModel } from '../model/steady';
+import { maxOf, minOf, pushAll } from '../arrays';
 
 export interface SweepOptions {
   /** A failed continuation step is halved at most this many times (default 12). */
@@ -342,7 +343,7 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
     const sol = solveAt(grid[0]);
     if (usable(sol)) start = { p: grid[0], sol };
     else {
-      result.diagnostics.push(...sol.diagnostics);
+      pushAll(result.diagnostics, sol.diagnostics);
       const why = sol.diagnostics.find((d) => d.severity === 'error');
       result.stop = { kind: 'start', at: NaN, next: grid[0], message: `no steady state at ${spec.vary} = ${fmt(grid[0])}${why ? `: ${why.message}` : ''}` };
       return result;

@@ -25,6 +25,7 @@ import type { LinearModel } from '../solve/linearizer';
 import type { LoweredModel, Slot } from '../model/model';
 import { unitText } from '../semantics/units';
 import { simplifyUnitText } from '../semantics/simplifyUnit';
+import { maxOf } from '../arrays';
 
 export interface SymbolicOptions {
   /** Largest formula kept, in expression nodes (default 250). */
@@ -73,17 +74,30 @@ export interface SymbolicLinear {
 // ---------------------------------------------------------------- sizes and simplification
 
 const sizeCache = new WeakMap<E.Node, number>();
-export function nodeSize(n: E.Node): number {
-  let s = sizeCache.get(n);
-  if (s !== undefined) return s;
-  switch (n.t) {
-    case 'num':
-    case 'sym': s = 1; break;
-    case 'pow': s = 1 + nodeSize(n.base) + nodeSize(n.exp); break;
-    default: s = 1 + n.args.reduce((acc, a) => acc + nodeSize(a), 0);
+/** Size of the written-out tree (shared sub-expressions counted each time), computed over the graph with an explicit stack. */
+export function nodeSize(root: E.Node): number {
+  const hit = sizeCache.get(root);
+  if (hit !== undefined) return hit;
+  const kids = (n: E.Node): E.Node[] => (n.t === 'num' || n.t === 'sym' ? [] : n.t === 'pow' ? [n.base, n.exp] : n.args);
+  const stack: [E.Node, boolean][] = [[root, false]];
+  while (stack.length) {
+    const top = stack[stack.length - 1];
+    const n = top[0];
+    if (sizeCache.has(n)) {
+      stack.pop();
+      continue;
+    }
+    if (!top[1]) {
+      top[1] = true;
+      for (const k of kids(n)) if (!sizeCache.has(k)) stack.push([k, false]);
+      continue;
+    }
+    stack.pop();
+    let s = 1;
+    for (const k of kids(n)) s += sizeCache.get(k)!;
+    sizeCache.set(n, s);
   }
-  sizeCache.set(n, s);
-  return s;
+  return sizeCache.get(root)!;
 }
 
 /** Factors of a product as [base, numeric exponent] (non-numeric exponents stay inside the base). */
@@ -290,7 +304,8 @@ function build(a: Analysis, si: Float64Array, lin: LinearModel, opts: SymbolicOp
     const v = J[k];
     const r = cm.rows[k];
     const s = cm.cols[k];
-    const node = symbolic ? ok(atPoint(cm.nodes[k])) : undefined;
+    // a derivative far larger than any formula we show is not expanded at all (its tree can be huge: a power tower)
+    const node = symbolic && nodeSize(cm.nodes[k]) <= 40 * maxNodes ? ok(atPoint(cm.nodes[k])) : undefined;
     if (v === 0 && (!node || E.isNum(node, 0))) continue;
     if (colOf[s] >= 0) M[r].set(colOf[s], { node, v });
     else if (stateIdx[s] >= 0) R[r].set(stateIdx[s], { node: node && E.neg(node), v: -v });
@@ -588,7 +603,7 @@ export function formatSymbolic(s: SymbolicLinear, digits?: number): string {
   out.push('');
   if (s.symbols.length) {
     out.push('Symbols:');
-    const w = Math.max(...s.symbols.map((x) => x.name.length));
+    const w = maxOf(s.symbols.map((x) => x.name.length));
     for (const x of s.symbols) {
       const what = x.kind === 'const' ? 'constant' : `value of ${x.of} at point ${s.point}`;
       out.push(`  ${x.name.padEnd(w)} = ${E.formatNumber(x.value, 6)}${x.unit ? ` [${x.unit}]` : ''}   (${what})`);

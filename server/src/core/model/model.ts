@@ -4,12 +4,14 @@
  * Model equations come first (residual lhs − rhs), then one definition per output (y − h = 0).
  */
 import type * as A from '../syntax/ast';
+import { leftSpine } from '../syntax/walk';
 import { BUILTIN_CONSTANTS, type BoundModel, type ModelSymbol } from '../semantics/binder';
 import * as E from '../algebra/expr';
 import type { Span } from '../text';
 import { hasName } from '../names';
 import { constantValue, literalSI, type UnitFacts } from '../semantics/unitChecker';
 import { ONE_UNIT, type UnitInfo } from '../semantics/units';
+import { pushAll } from '../arrays';
 
 export type SlotKind = 'const' | 'state' | 'deriv' | 'input' | 'var' | 'output';
 
@@ -90,7 +92,7 @@ export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
     const ids: number[] = [];
     for (let k = 0; k < n; k++) ids.push(add(s, 'state', k));
     const h = add(s, 'deriv', n);
-    stateComponents.push(...ids);
+    pushAll(stateComponents, ids);
     for (let k = 0; k < n; k++) componentDerivative.push(k + 1 < n ? ids[k + 1] : h);
     highest.push(h);
   }
@@ -117,18 +119,7 @@ export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
         return id < 0 ? E.num(NaN, e.span) : E.sym(id, e.span);
       }
       case 'unary': return e.op === '-' ? E.neg(low(e.arg), e.span) : low(e.arg);
-      case 'binary': {
-        const a = low(e.left);
-        const b = low(e.right);
-        switch (e.op) {
-          case '+': return E.add([a, b], e.span);
-          case '-': return E.sub(a, b, e.span);
-          case '*': return E.mul([a, b], e.span);
-          case '/': return E.div(a, b, e.span);
-          case '^': return E.pow(a, b, e.span);
-        }
-        return E.num(NaN);
-      }
+      case 'binary': return lowChain(e);
       case 'call': {
         if (!hasName(E.BUILTIN_ARITY, e.fn)) return E.num(NaN, e.span);
         return E.fn(e.fn as E.FnName, e.args.map(low), e.span);
@@ -137,6 +128,37 @@ export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
       case 'reduce': // replaced by the elaborator; left only after an error it reported
       case 'error': return E.num(NaN, e.span);
     }
+  };
+
+  /**
+   * A chain of binary operators, unwound in a loop (a sum of 10^5 terms is as long a chain). Runs of + −
+   * and of * / are gathered and folded by one add/mul each, so a long sum costs linear time, not the
+   * quadratic time of adding one term at a time to an ever longer sum.
+   */
+  const lowChain = (top: A.BinaryExpr): E.Node => {
+    const { first, nodes } = leftSpine(top);
+    let acc = low(first);
+    let k = 0;
+    while (k < nodes.length) {
+      const n = nodes[k];
+      if (n.op === '^') {
+        acc = E.pow(acc, low(n.right), n.span);
+        k++;
+        continue;
+      }
+      const additive = n.op === '+' || n.op === '-';
+      const terms: E.Node[] = [acc];
+      let last = n;
+      while (k < nodes.length && (additive ? nodes[k].op === '+' || nodes[k].op === '-' : nodes[k].op === '*' || nodes[k].op === '/')) {
+        last = nodes[k];
+        const b = low(last.right);
+        if (additive) terms.push(last.op === '+' ? b : E.neg(b));
+        else terms.push(last.op === '*' ? b : E.pow(b, E.num(-1), last.span)); // the divisor keeps the span (division-by-zero ranges)
+        k++;
+      }
+      acc = additive ? E.add(terms, last.span) : E.mul(terms, last.span);
+    }
+    return acc;
   };
 
   const equations: ModelEquation[] = [];

@@ -18,6 +18,7 @@ import { LineMap } from '../text';
 import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 import { unitText } from '../semantics/units';
 import { memoryHost, UNTITLED, type SourceHost } from '../sources';
+import { pushAll } from '../arrays';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;
@@ -164,12 +165,12 @@ export class Analysis {
       for (const p of this.bound.points) {
         if (!p.name.name) continue;
         const s = this.point(p.name.name);
-        if (s) out.push(...s.diagnostics);
+        if (s) pushAll(out, s.diagnostics);
         const l = s && s.ok ? this.linear(p.name.name) : undefined;
-        if (l) out.push(...l.diagnostics);
+        if (l) pushAll(out, l.diagnostics);
       }
     }
-    if (this.canSolve) out.push(...sweepDiagnostics(this));
+    if (this.canSolve) pushAll(out, sweepDiagnostics(this));
     for (const lb of this.bound.linears) {
       if (!lb.name.name || !this.pointBlock(lb.name.name)) continue;
       const want = this.digest(lb.name.name);

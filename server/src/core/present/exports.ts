@@ -12,6 +12,7 @@ import { deviationEquations, type LinearModel } from '../solve/linearizer';
 import { coefficientUnit } from '../analysis/symbolic';
 import { unitText } from '../semantics/units';
 import { simplifyUnitText } from '../semantics/simplifyUnit';
+import { pushAll } from '../arrays';
 
 export const EXPORT_FORMATS = ['json', 'csv', 'markdown', 'latex', 'numpy'] as const;
 export type ExportFormat = (typeof EXPORT_FORMATS)[number];
@@ -132,7 +133,9 @@ export function linearMarkdown(lin: LinearModel, values: VariableValue[], o: Exp
   out.push(`## Linear model at point \`${lin.point}\``, '', `Time in ${lin.timeUnit}. Each Δ variable is the deviation from the point, in its declared unit.`, '');
   out.push('| variable | value | unit | role |', '|---|---:|---|---|');
   for (const v of values) if (v.kind !== 'const') out.push(`| ${mdEscape(v.name)} | ${fmt(v.value, o)} | ${mdEscape(v.unit)} | ${v.role} |`);
-  out.push('', '```', ...deviationLines(lin, o, 'text'), '```', '');
+  out.push('', '```');
+  pushAll(out, deviationLines(lin, o, 'text'));
+  out.push('```', '');
   for (const M of matrices(lin)) {
     if (!M.r || !M.c) {
       out.push(`**${M.name}** ${emptyMatrixText(M.name, M.r, M.c).slice(M.name.length + 1)}`, '');

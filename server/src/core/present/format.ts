@@ -8,6 +8,7 @@ import { formatNumber } from '../algebra/expr';
 import type { DeviationEquation, LinearModel } from '../solve/linearizer';
 import { eigenvalues, sortEigen } from '../numeric/eigen';
 import { unitSuffix, unitText } from '../semantics/units';
+import { maxOf, pushAll } from '../arrays';
 
 export interface LinearJson {
   point: string;
@@ -66,7 +67,7 @@ const u1 = unitText;
 
 export function formatValues(values: VariableValue[], digits = 6, withConstants = false): string {
   const shown = values.filter((v) => withConstants || v.kind !== 'const');
-  const w = Math.max(4, ...shown.map((v) => v.name.length));
+  const w = maxOf(shown.map((v) => v.name.length), 4);
   return shown
     .map((v) => `  ${v.name.padEnd(w)}  ${formatNumber(v.value, digits).padStart(12)} ${v.unit ? `[${v.unit}]` : ''}${v.role === 'fixed' ? '  (fixed)' : ''}`.trimEnd())
     .join('\n');
@@ -91,8 +92,8 @@ export function emptyMatrixText(name: string, r: number, c: number): string {
 export function formatMatrix(name: string, a: Float64Array, r: number, c: number, rowNames: string[], colNames: string[], digits = 5): string {
   if (r === 0 || c === 0) return emptyMatrixText(name, r, c);
   const cells = rows(a, r, c).map((row) => row.map((x) => formatNumber(x, digits)));
-  const w = Math.max(8, ...cells.flat().map((s) => s.length), ...colNames.map((s) => s.length));
-  const rw = Math.max(...rowNames.map((s) => s.length));
+  const w = maxOf(colNames.map((s) => s.length), maxOf(cells.flat().map((s) => s.length), 8));
+  const rw = maxOf(rowNames.map((s) => s.length));
   const lines = [`${name} (${r}×${c})`, `  ${''.padEnd(rw)}  ${colNames.map((s) => s.padStart(w)).join(' ')}`];
   cells.forEach((row, i) => lines.push(`  ${rowNames[i].padEnd(rw)}  ${row.map((s) => s.padStart(w)).join(' ')}`));
   return lines.join('\n');
@@ -130,7 +131,9 @@ export function formatLinearMarkdown(lin: LinearModel, values: VariableValue[], 
   out.push(`## Linear model at point \`${lin.point}\` (time in ${lin.timeUnit})`, '');
   out.push('| variable | value | unit | |', '|---|---:|---|---|');
   for (const v of values) if (v.kind !== 'const') out.push(`| ${v.name} | ${formatNumber(v.value, 6)} | ${v.unit} | ${v.role} |`);
-  out.push('', '```', ...eqs.map((e) => e.text), '```', '');
+  out.push('', '```');
+  pushAll(out, eqs.map((e) => e.text));
+  out.push('```', '');
   const table = (name: string, a: Float64Array, r: number, c: number, rn: string[], cn: string[]) => {
     if (!r || !c) return;
     out.push(`**${name}**`, '', `| | ${cn.map((x) => `Δ${x}`).join(' | ')} |`, `|---|${cn.map(() => '---:').join('|')}|`);

@@ -11,6 +11,7 @@ import type { ReportData, StepReport, ValidityLimit, ValidityReport } from '../a
 import { factorsOf, transferLines } from '../analysis/transferText';
 import { chart, esc, htmlPage, legend, linRange, num, newPage, r1, type AxisSpec, type PageContext, type Series } from './svgCharts';
 import { unitSuffix } from '../semantics/units';
+import { maxOf, minOf, pushAll } from '../arrays';
 
 export interface RenderOptions {
   /** Nonce for the inline style and script (webview). */
@@ -135,7 +136,7 @@ function poleZeroMap(page: PageContext, d: ReportData): string {
   const t = d.timeUnit;
   const pts: Complex[] = [...d.eigenvalues];
   const zeroSets = d.transfer.filter((tf) => tf.zeros.length).slice(0, 6);
-  for (const tf of zeroSets) pts.push(...tf.zeros);
+  for (const tf of zeroSets) pushAll(pts, tf.zeros);
   let mx = 0;
   let mn = Infinity;
   for (const p of pts) {
@@ -238,9 +239,9 @@ function sectionBode(page: PageContext, d: ReportData): string {
         ym = { ...ym, min: Math.floor((mid - 10) / 5) * 5, max: Math.ceil((mid + 10) / 5) * 5 };
       }
       let yp = linRange(ph, 'phase [deg]', { pad: 0.06 });
-      const span = Math.max(...ph) - Math.min(...ph);
+      const span = maxOf(ph) - minOf(ph);
       const st = [15, 30, 45, 90, 180, 360, 720].find((x) => span / x <= 5) ?? 1440;
-      yp = { ...yp, min: Math.floor(Math.min(...ph) / st) * st, max: Math.ceil(Math.max(...ph) / st) * st, step: st };
+      yp = { ...yp, min: Math.floor(minOf(ph) / st) * st, max: Math.ceil(maxOf(ph) / st) * st, step: st };
       if (yp.max - yp.min < 2 * st) {
         yp.min -= st;
         yp.max += st;
@@ -263,7 +264,7 @@ function stepCharts(page: PageContext, d: ReportData, s: StepReport): string {
   let outs = s.outputs.filter((o) => o.linked);
   if (!outs.length) return '<p class="muted">No output responds to this input in the linear model.</p>';
   if (outs.length > PANEL_LIMIT) {
-    const rel = (o: (typeof outs)[number]) => Math.max(...o.linear.map(Math.abs)) / (Math.max(...outs.flatMap((x) => x.linear.map(Math.abs))) || 1);
+    const rel = (o: (typeof outs)[number]) => maxOf(o.linear.map(Math.abs)) / (maxOf(outs.flatMap((x) => x.linear.map(Math.abs))) || 1);
     outs = outs.slice().sort((a, b) => rel(b) - rel(a)).slice(0, PANEL_LIMIT);
   }
   const failT = s.status !== 'ok' && s.outputs[0] ? s.t[Math.max(0, s.outputs[0].nonlinear.length - 1)] : undefined;
@@ -334,8 +335,8 @@ function sectionValidity(page: PageContext, d: ReportData): string {
     .map((v, k) => {
       const okS = v.samples.filter((s) => s.status === 'ok' && s.error !== null);
       const pos = okS.map((s) => Math.max(s.error!, 1e-6) * 100);
-      const ymin = Math.pow(10, Math.floor(Math.log10(Math.min(...pos, v.tolerance * 100) * 0.8)));
-      const ymax = Math.pow(10, Math.ceil(Math.log10(Math.max(...pos, v.tolerance * 100) * 1.25)));
+      const ymin = Math.pow(10, Math.floor(Math.log10(minOf(pos, v.tolerance * 100) * 0.8)));
+      const ymax = Math.pow(10, Math.ceil(Math.log10(maxOf(pos, v.tolerance * 100) * 1.25)));
       const steps = v.samples.map((s) => s.step);
       const x = linRange([...steps, 0], `step in ${v.input}${bracket(v.unit)} from ${formatNumber(v.operatingValue, 4)}`);
       const y: AxisSpec = { kind: 'log', min: ymin, max: ymax, label: 'difference [% of the change]' };

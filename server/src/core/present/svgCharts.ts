@@ -4,6 +4,7 @@
  * the cursor script, so both pages look alike. Pure: returns strings.
  */
 import { formatNumber } from '../algebra/expr';
+import { maxOf } from '../arrays';
 
 export const esc = (s: string): string => s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 
@@ -251,7 +252,7 @@ export function chart(page: PageContext, spec0: ChartSpec): string {
   const H = spec.height ?? 260;
   let tx0 = ticksOf(spec.x);
   let ty0 = ticksOf(spec.y);
-  const labelWidth = Math.max(0, ...ty0.major.map((v) => tickLabel(v).replace(/<[^>]+>/g, '').length * 6.1));
+  const labelWidth = maxOf(ty0.major.map((v) => tickLabel(v).replace(/<[^>]+>/g, '').length * 6.1), 0);
   const L = Math.round(Math.max(48, 30 + labelWidth));
   const R = 14;
   const T = spec.title ? 26 : 12;

@@ -8,6 +8,7 @@ import { CAUTIONS } from '../analysis/report';
 import type { SweepResult } from '../analysis/sweep';
 import { chart, colourRamp, esc, htmlPage, legend, linRange, newPage, num, PALETTE, type AxisSpec, type Series } from './svgCharts';
 import { unitSuffix } from '../semantics/units';
+import { maxOf, minOf } from '../arrays';
 
 export interface SweepHtmlOptions {
   /** Shown in the heading, e.g. the model file's name. */
@@ -48,8 +49,8 @@ const u = unitSuffix;
 /** Axis for the swept value: logarithmic for a log sweep. */
 function sweptAxis(r: SweepResult, values: number[]): AxisSpec {
   const label = `${r.vary.name}${u(r.vary.unit)}`;
-  const lo = Math.min(...values, r.vary.from, r.vary.to);
-  const hi = Math.max(...values, r.vary.from, r.vary.to);
+  const lo = minOf(values, Math.min(r.vary.from, r.vary.to));
+  const hi = maxOf(values, Math.max(r.vary.from, r.vary.to));
   if (r.vary.log && lo > 0) return { kind: 'log', min: lo, max: hi, label };
   return { ...linRange([lo, hi], label, { pad: 0 }), min: lo, max: hi };
 }
@@ -58,9 +59,9 @@ function sweptAxis(r: SweepResult, values: number[]): AxisSpec {
 function valueAxis(vals: number[], label: string): AxisSpec {
   const f = vals.filter((v) => Number.isFinite(v));
   const pos = f.filter((v) => v > 0);
-  if (pos.length === f.length && pos.length && Math.max(...pos) / Math.min(...pos) > 100) {
-    const lo = Math.pow(10, Math.floor(Math.log10(Math.min(...pos))));
-    const hi = Math.pow(10, Math.ceil(Math.log10(Math.max(...pos))));
+  if (pos.length === f.length && pos.length && maxOf(pos) / minOf(pos) > 100) {
+    const lo = Math.pow(10, Math.floor(Math.log10(minOf(pos))));
+    const hi = Math.pow(10, Math.ceil(Math.log10(maxOf(pos))));
     return { kind: 'log', min: lo, max: hi === lo ? lo * 10 : hi, label };
   }
   return linRange(f, label);
@@ -119,8 +120,8 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
     // eigenvalue paths, coloured by the swept value
     const all = pts.flatMap((p) => p.eigenvalues);
     const { x, y } = complexPlaneAxes([...all, ...r.crossings.map((c) => c.eigenvalue)], t);
-    const lo = Math.min(...xs);
-    const hi = Math.max(...xs);
+    const lo = minOf(xs);
+    const hi = maxOf(xs);
     const logBins = r.vary.log && lo > 0;
     const binOf = (v: number) => {
       const f = hi === lo ? 0 : logBins ? Math.log(v / lo) / Math.log(hi / lo) : (v - lo) / (hi - lo);
@@ -147,7 +148,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
     // against the swept value
     const sx = sweptAxis(r, xs);
     const charts: string[] = [];
-    const maxRe = pts.map((p) => (p.eigenvalues.length ? Math.max(...p.eigenvalues.map((e) => e.re)) : NaN));
+    const maxRe = pts.map((p) => (p.eigenvalues.length ? maxOf(p.eigenvalues.map((e) => e.re)) : NaN));
     if (pts.some((p) => p.eigenvalues.length)) {
       charts.push(
         `<figure class="chart card">${chart(page, {
@@ -158,7 +159,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
       );
     }
     // time constants: the k-th slowest mode at each value
-    const nTau = Math.min(6, Math.max(0, ...pts.map((p) => p.modes.filter((m) => m.timeConstant !== null).length)));
+    const nTau = Math.min(6, maxOf(pts.map((p) => p.modes.filter((m) => m.timeConstant !== null).length), 0));
     if (nTau > 0) {
       const taus = pts.map((p) => p.modes.map((m) => m.timeConstant).filter((v): v is number => v !== null).sort((a, b) => b - a));
       const series: Series[] = [];
@@ -170,7 +171,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
     if (pts.some((p) => p.modes.some((m) => m.damping !== null))) {
       const z = pts.map((p) => {
         const ds = p.modes.map((m) => m.damping).filter((v): v is number => v !== null);
-        return ds.length ? Math.min(...ds) : null;
+        return ds.length ? minOf(ds) : null;
       });
       charts.push(
         `<figure class="chart card">${chart(page, {
@@ -202,7 +203,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
       .map((p, k) => {
         const taus = p.modes.map((m) => m.timeConstant).filter((v): v is number => v !== null);
         const zs = p.modes.map((m) => m.damping).filter((v): v is number => v !== null);
-        return `<tr><td class="num">${num(p.value, 6)}</td><td><span class="dot ${p.stability}"></span>${p.stability}</td><td class="num">${num(maxRe[k], d)}</td><td class="num">${taus.length ? num(Math.max(...taus), d) : '—'}</td><td class="num">${zs.length ? num(Math.min(...zs), d) : '—'}</td>${cols.map(({ k: c }) => `<td class="num">${num(p.values[c], d)}</td>`).join('')}</tr>`;
+        return `<tr><td class="num">${num(p.value, 6)}</td><td><span class="dot ${p.stability}"></span>${p.stability}</td><td class="num">${num(maxRe[k], d)}</td><td class="num">${taus.length ? num(maxOf(taus), d) : '—'}</td><td class="num">${zs.length ? num(minOf(zs), d) : '—'}</td>${cols.map(({ k: c }) => `<td class="num">${num(p.values[c], d)}</td>`).join('')}</tr>`;
       })
       .join('');
     sections.push(`<section id="points"><h2>Points</h2><details${pts.length <= 25 ? ' open' : ''}><summary>${pts.length} operating points</summary><div class="scroll"><table class="data"><thead>${head}</thead><tbody>${body}</tbody></table></div></details></section>`);

@@ -7,6 +7,7 @@ import type * as A from '../syntax/ast';
 import { diag, type Diagnostic } from '../diagnostics';
 import { BUILTIN_ARITY } from '../algebra/expr';
 import { RESERVED } from '../syntax/parser';
+import { leftSpine } from '../syntax/walk';
 import type { Span } from '../text';
 import { hasName, nameTable } from '../names';
 
@@ -142,8 +143,11 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInI
       case 'unary':
         return walk(e.arg, where, statement, check);
       case 'binary':
-        walk(e.left, where, statement, check);
-        return walk(e.right, where, statement, check);
+        for (const x of leftSpine(e).nodes) {
+          if (x.left.kind !== 'binary') walk(x.left, where, statement, check);
+          walk(x.right, where, statement, check);
+        }
+        return;
       case 'call': {
         const arity = hasName(BUILTIN_ARITY, e.fn) ? (BUILTIN_ARITY as Record<string, number>)[e.fn] : undefined;
         if (arity === undefined) {

@@ -5,11 +5,12 @@
  * A file without any unit bracket is nondimensional: nothing is checked and time is dimensionless.
  */
 import type * as A from '../syntax/ast';
+import { foldChain, someExpr } from '../syntax/walk';
 import type { BoundModel, ModelSymbol } from './binder';
 import { BUILTIN_CONSTANTS } from './binder';
 import { diag, type Diagnostic } from '../diagnostics';
+import { applyFn, BUILTIN_ARITY, type FnName } from '../algebra/expr';
 import { hasName } from '../names';
-import { BUILTIN_ARITY } from '../algebra/expr';
 import {
   DIMENSIONLESS, ONE_UNIT, SCALED_UNIT_PROBLEM, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit,
   type Dims, type UnitInfo,
@@ -48,22 +49,21 @@ export function constantValue(e: A.Expr, m: BoundModel, constant: (s: ModelSymbo
         return s && s.kind === 'const' ? constant(s) : NaN;
       }
       case 'unary': return x.op === '-' ? -value(x.arg) : value(x.arg);
-      case 'binary': {
-        const a = value(x.left);
-        const b = value(x.right);
-        switch (x.op) {
-          case '+': return a + b;
-          case '-': return a - b;
-          case '*': return a * b;
-          case '/': return a / b;
-          case '^': return Math.pow(a, b);
-        }
-        return NaN;
-      }
+      case 'binary':
+        return foldChain(x, value, (n, a, b) => {
+          switch (n.op) {
+            case '+': return a + b;
+            case '-': return a - b;
+            case '*': return a * b;
+            case '/': return a / b;
+            case '^': return Math.pow(a, b);
+          }
+          return NaN;
+        });
       case 'call': {
         const args = x.args.map(value);
         if (!hasName(BUILTIN_ARITY, x.fn)) return NaN;
-        return (Math as unknown as Record<string, (...v: number[]) => number>)[x.fn](...args);
+        return applyFn(x.fn as FnName, args);
       }
       default: return NaN;
     }
@@ -157,9 +157,7 @@ export function checkUnits(m: BoundModel): UnitFacts {
       case 'reduce':
       case 'error': return null;
       case 'unary': return infer(e.arg);
-      case 'binary': {
-        const a = infer(e.left);
-        const b = infer(e.right);
+      case 'binary': return foldChain(e, infer, (e, a, b) => {
         switch (e.op) {
           case '+':
           case '-':
@@ -183,7 +181,7 @@ export function checkUnits(m: BoundModel): UnitFacts {
           }
         }
         return null;
-      }
+      });
       case 'call': {
         const args = e.args.map(infer);
         const [a, b] = args;
@@ -271,25 +269,12 @@ function isZeroLit(e: A.Expr): boolean {
 }
 
 export function hasUnitLiteral(e: A.Expr): boolean {
-  switch (e.kind) {
-    case 'number': return !!e.unit;
-    case 'unary': return hasUnitLiteral(e.arg);
-    case 'binary': return hasUnitLiteral(e.left) || hasUnitLiteral(e.right);
-    case 'call': return e.args.some(hasUnitLiteral);
-    default: return false;
-  }
+  return someExpr(e, (x) => x.kind === 'number' && !!x.unit);
 }
 
 /** Whether an expression holds a syntax error or a unit already reported (P301/P311): no second message. */
 function hasError(e: A.Expr): boolean {
-  switch (e.kind) {
-    case 'error': return true;
-    case 'number': return !!e.unit && typeof parseUnit(e.unit.text) === 'string';
-    case 'unary': return hasError(e.arg);
-    case 'binary': return hasError(e.left) || hasError(e.right);
-    case 'call': return e.args.some(hasError);
-    default: return false;
-  }
+  return someExpr(e, (x) => x.kind === 'error' || (x.kind === 'number' && !!x.unit && typeof parseUnit(x.unit.text) === 'string'));
 }
 
 function relatedDecls(m: BoundModel, eq: A.EquationStmt) {

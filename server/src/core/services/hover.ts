@@ -8,6 +8,7 @@
 import { hasName, nameTable } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
+import { someExpr } from '../syntax/walk';
 import type { ModelSymbol } from '../semantics/binder';
 import * as E from '../algebra/expr';
 import { AXIS_TOL, analyzeDynamics, eigenFigures, stabilityOf, type Dynamics } from '../analysis/dynamics';
@@ -21,6 +22,7 @@ import { inComment, statementAt, targetAt, type Target } from './locate';
 import { pointStatus } from './solve';
 import { dimsOf } from './unitInference';
 import { unitSuffix, unitSuffix as bracket, unitText as unitOf } from '../semantics/units';
+import { maxOf, minOf, pushAll } from '../arrays';
 
 export interface HoverOptions {
   /** Significant digits of the numbers shown. */
@@ -149,7 +151,7 @@ function constText(a: Analysis, s: ModelSymbol, digits: number): string {
     const l = p.lines.find((x) => x.name.name === s.name && x.mode === 'fixed');
     if (l) overrides.push(`- point ${code(p.name.name)}: ${code(a.text.slice(l.value.span.start, l.value.span.end))}`);
   }
-  if (overrides.length) out.push('', 'Other values:', ...overrides);
+  if (overrides.length) pushAll(out, ['', 'Other values:', ...overrides]);
   const seen = new Set<number>();
   const uses: string[] = [];
   for (const r of a.bound.references) {
@@ -158,7 +160,7 @@ function constText(a: Analysis, s: ModelSymbol, digits: number): string {
     const st = a.parsed.file.statements[r.statement];
     uses.push(`- line ${lineOf(a, st.span.start)}: ${code(oneLine(a.text.slice(st.span.start, st.span.end)))}`);
   }
-  out.push('', uses.length ? 'Used in:' : 'Not used in any equation.', ...uses.slice(0, 20));
+  pushAll(out, ['', uses.length ? 'Used in:' : 'Not used in any equation.', ...uses.slice(0, 20)]);
   if (uses.length > 20) out.push(`- … and ${uses.length - 20} more`);
   return out.join('\n');
 }
@@ -220,7 +222,7 @@ function pointText(a: Analysis, name: string, digits: number): string {
     const v = dyn.stability.verdict;
     out.push(`**${v === 'stable' ? 'Stable' : v === 'marginal' ? 'Marginally stable' : 'Unstable'}**: ${dyn.stability.reason}`);
   } else {
-    const big = Math.max(...eig.map((e) => Math.hypot(e.re, e.im)), 0);
+    const big = maxOf(eig.map((e) => Math.hypot(e.re, e.im)), 0);
     const classes = eig.map((e) => stabilityOf(e.re, AXIS_TOL * big));
     const unstable = classes.filter((c) => c === 'unstable').length;
     const onAxis = classes.filter((c) => c === 'marginal').length;
@@ -229,11 +231,11 @@ function pointText(a: Analysis, name: string, digits: number): string {
     else out.push('**Stable**: every eigenvalue has a negative real part.');
   }
   // one time constant per real eigenvalue or conjugate pair in the left half-plane
-  const tolAxis = AXIS_TOL * Math.max(...eig.map((e) => Math.hypot(e.re, e.im)), 0);
+  const tolAxis = AXIS_TOL * maxOf(eig.map((e) => Math.hypot(e.re, e.im)), 0);
   const taus = eig.filter((e) => e.im >= 0 && e.re < -tolAxis).map((e) => eigenFigures(e, false).timeConstant!);
   if (taus.length) {
-    const slow = Math.max(...taus);
-    const fast = Math.min(...taus);
+    const slow = maxOf(taus);
+    const fast = minOf(taus);
     out.push('', taus.length > 1 ? `Time constants [${tu}]: slowest ${fmt(slow, digits)}, fastest ${fmt(fast, digits)}` : `Time constant [${tu}]: ${fmt(slow, digits)}`);
   }
   for (const e of eig.filter((x) => x.im > 0).slice(0, 4)) {
@@ -328,18 +330,7 @@ function per(num: string, den: string): string {
 
 function usesSlot(a: Analysis, e: A.Expr, id: number): boolean {
   const slot = a.lowered.slots[id];
-  let hit = false;
-  const walk = (x: A.Expr): void => {
-    if (hit) return;
-    switch (x.kind) {
-      case 'name': if (x.name === slot.symbol.name && x.primes === slot.order) hit = true; return;
-      case 'unary': return walk(x.arg);
-      case 'binary': walk(x.left); return walk(x.right);
-      case 'call': return x.args.forEach(walk);
-    }
-  };
-  walk(e);
-  return hit;
+  return someExpr(e, (x) => x.kind === 'name' && x.name === slot.symbol.name && x.primes === slot.order);
 }
 
 // ---------------------------------------------------------------- coefficients of generated blocks
@@ -380,13 +371,20 @@ function coefficientAt(a: Analysis, offset: number): CoefficientAt | undefined {
   const lhs = deltaName(eq.lhs);
   if (!lhs || !within(eq.rhs.span, offset)) return undefined;
   let hit: CoefficientAt | undefined;
-  const visit = (e: A.Expr, sign: number): void => {
-    if (hit || !within(e.span, offset)) return;
-    if (e.kind === 'binary' && (e.op === '+' || e.op === '-')) {
-      visit(e.left, sign);
-      visit(e.right, e.op === '-' ? -sign : sign);
-      return;
+  const visit = (e0: A.Expr, sign0: number): void => {
+    let e = e0;
+    let sign = sign0;
+    // down a sum in a loop (a generated equation has a term per column): the left operand first, as written
+    while (e.kind === 'binary' && (e.op === '+' || e.op === '-')) {
+      if (hit || !within(e.span, offset)) return;
+      if (within(e.left.span, offset)) {
+        e = e.left;
+        continue;
+      }
+      sign = e.op === '-' ? -sign : sign;
+      e = e.right;
     }
+    if (hit || !within(e.span, offset)) return;
     if (e.kind === 'unary') return visit(e.arg, e.op === '-' ? -sign : sign);
     let coef: number | undefined;
     let name: A.NameExpr | undefined;

@@ -6,6 +6,7 @@
 import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
+import { forEachExpr } from '../syntax/walk';
 import type { ModelSymbol, Reference } from '../semantics/binder';
 import { BUILTIN_ARITY } from '../algebra/expr';
 import { KEYWORDS } from '../syntax/parser';
@@ -146,14 +147,12 @@ export function pointAt(a: Analysis, offset: number): string | null {
 
 /** Calls `f` on every expression node of the file (constants, outputs, equations, points, linear blocks, sweeps). */
 export function walkExpressions(file: A.ModelFile, f: (e: A.Expr) => void): void {
-  const walk = (e: A.Expr): void => {
-    f(e);
-    switch (e.kind) {
-      case 'unary': walk(e.arg); break;
-      case 'binary': walk(e.left); walk(e.right); break;
-      case 'call': e.args.forEach(walk); break;
-    }
-  };
+  // operators and calls only, as written (an explicit stack: a sum may have 10^5 terms)
+  const walk = (e: A.Expr): void =>
+    forEachExpr(e, (x) => {
+      f(x);
+      return x.kind === 'unary' || x.kind === 'binary' || x.kind === 'call';
+    });
   for (const st of file.statements) {
     switch (st.kind) {
       case 'const': walk(st.value); break;

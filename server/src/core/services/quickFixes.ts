@@ -18,6 +18,7 @@ import { blockIndent } from './solve';
 import { requiredDims, unitTextFor } from './unitInference';
 import { dimsMul, dimsPow } from '../semantics/units';
 import { unitSuffix } from '../semantics/units';
+import { pushAll } from '../arrays';
 
 export interface DiagnosticRef {
   code: string;
@@ -40,8 +41,8 @@ export function quickFixes(a: Analysis, diagnostics: readonly DiagnosticRef[], d
   for (const d of diagnostics) {
     const data = (d.data && typeof d.data === 'object' ? d.data : {}) as Record<string, unknown>;
     switch (d.code) {
-      case 'P201': out.push(...unknownName(a, d, data)); break;
-      case 'P501': out.push(...unbalancedPoint(a, d, data)); break;
+      case 'P201': pushAll(out, unknownName(a, d, data)); break;
+      case 'P501': pushAll(out, unbalancedPoint(a, d, data)); break;
       case 'P601': {
         const point = typeof data.point === 'string' ? data.point : undefined;
         const r = point ? linearizeEdit(a, point, digits) : undefined;

@@ -6,6 +6,7 @@
  */
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
+import { findInExpr } from '../syntax/walk';
 import type { Diagnostic } from '../diagnostics';
 import { formatNumber } from '../algebra/expr';
 import { declaredValue } from '../solve/linearizer';
@@ -114,11 +115,5 @@ export function blockIndent(a: Analysis, block: { lines?: { span: { start: numbe
 
 /** The first unit bracket written in a value expression. */
 function firstUnit(e: A.Expr): A.UnitRef | undefined {
-  switch (e.kind) {
-    case 'number': return e.unit;
-    case 'unary': return firstUnit(e.arg);
-    case 'binary': return firstUnit(e.left) ?? firstUnit(e.right);
-    case 'call': for (const x of e.args) { const u = firstUnit(x); if (u) return u; } return undefined;
-    default: return undefined;
-  }
+  return findInExpr(e, (x) => (x.kind === 'number' ? x.unit : undefined));
 }

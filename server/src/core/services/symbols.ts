@@ -4,6 +4,7 @@
  */
 import type { Analysis } from '../pipeline/analysis';
 import type { Span } from '../text';
+import { maxOf, minOf } from '../arrays';
 
 export type OutlineKind = 'group' | 'const' | 'input' | 'state' | 'var' | 'output' | 'equation' | 'point' | 'pointLine' | 'linear' | 'sweep';
 
@@ -28,7 +29,7 @@ export function documentOutline(a: Analysis): OutlineItem[] {
   const groups: OutlineItem[] = [];
   const group = (name: string, items: OutlineItem[]) => {
     if (!items.length) return;
-    const span = { start: Math.min(...items.map((i) => i.span.start)), end: Math.max(...items.map((i) => i.span.end)) };
+    const span = { start: minOf(items.map((i) => i.span.start)), end: maxOf(items.map((i) => i.span.end)) };
     groups.push({ name, kind: 'group', span, selection: items[0].selection, detail: `${items.length}`, children: items });
   };
   const unit = (u?: { text: string }) => (u ? `[${u.text}]` : '');

@@ -7,6 +7,7 @@
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
 import type { Span } from '../text';
+import { children, foldChain } from '../syntax/walk';
 import { DIMENSIONLESS, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit, type Dims } from '../semantics/units';
 
 /** Dimension of an expression from the declared units (null when unknown, e.g. an undeclared name). */
@@ -26,9 +27,7 @@ export function dimsOf(a: Analysis, e: A.Expr): Dims | null {
       return u ? dimsDiv(u.dims, dimsPow(a.units.time.dims, e.primes)) : null;
     }
     case 'unary': return dimsOf(a, e.arg);
-    case 'binary': {
-      const l = dimsOf(a, e.left);
-      const r = dimsOf(a, e.right);
+    case 'binary': return foldChain(e, (x) => dimsOf(a, x), (e, l, r) => {
       switch (e.op) {
         case '+': case '-': return l ?? r;
         case '*': return l && r ? dimsMul(l, r) : null;
@@ -41,7 +40,7 @@ export function dimsOf(a: Analysis, e: A.Expr): Dims | null {
         }
       }
       return null;
-    }
+    });
     case 'call': {
       const x = e.args[0] ? dimsOf(a, e.args[0]) : null;
       switch (e.fn) {
@@ -62,12 +61,17 @@ function constantExponent(e: A.Expr): number | undefined {
 
 /** Path from `root` down to the name node whose name span is `span` (root first), or undefined. */
 function pathTo(root: A.Expr, span: Span): A.Expr[] | undefined {
-  if (root.kind === 'name' && root.nameSpan.start === span.start && root.nameSpan.end === span.end) return [root];
-  if (root.span.end < span.start || root.span.start > span.end) return undefined;
-  const kids: A.Expr[] = root.kind === 'unary' ? [root.arg] : root.kind === 'binary' ? [root.left, root.right] : root.kind === 'call' ? root.args : [];
-  for (const k of kids) {
-    const p = pathTo(k, span);
-    if (p) return [root, ...p];
+  // a loop, not recursion: the path into a long sum is as long as the sum
+  const path: A.Expr[] = [];
+  let x: A.Expr | undefined = root;
+  while (x) {
+    if (x.kind === 'name' && x.nameSpan.start === span.start && x.nameSpan.end === span.end) {
+      path.push(x);
+      return path;
+    }
+    if (x.span.end < span.start || x.span.start > span.end) return undefined;
+    path.push(x);
+    x = children(x).find((k) => k.span.start <= span.start && span.end <= k.span.end);
   }
   return undefined;
 }
@@ -93,7 +97,7 @@ export function requiredDims(a: Analysis, span: Span): Dims | null {
         if (parent.kind === 'unary') continue;
         if (parent.kind === 'binary') {
           const other = parent.left === child ? parent.right : parent.left;
-          const od = dimsOf(a, other);
+          const od = parent.op === '+' || parent.op === '-' || parent.op === '^' ? null : dimsOf(a, other); // only where it matters (a path down a long sum stays linear)
           switch (parent.op) {
             case '+': case '-': break;
             case '*': need = od ? dimsDiv(need, od) : null; break;

@@ -5,6 +5,7 @@
  * line search and a Levenberg–Marquardt fallback; deterministic, with an iteration cap.
  */
 import type * as A from '../syntax/ast';
+import { someExpr } from '../syntax/walk';
 import type { BoundModel } from '../semantics/binder';
 import { diag, type Diagnostic } from '../diagnostics';
 import * as E from '../algebra/expr';
@@ -16,6 +17,7 @@ import { leftovers, listNames, maximumMatching } from '../model/structure';
 import { steadyIncidence, steadyModel } from '../model/steady';
 import type { Span } from '../text';
 import { formatShort } from '../numbers';
+import { pushAll } from '../arrays';
 
 export interface PointSolution {
   name: string;
@@ -130,14 +132,7 @@ function nonFiniteLines(m: BoundModel, lm: LoweredModel, block: A.PointBlock, va
 }
 
 function hasUnit(e: A.Expr, dimensionalConst: (name: string) => boolean): boolean {
-  switch (e.kind) {
-    case 'number': return !!e.unit;
-    case 'name': return dimensionalConst(e.name);
-    case 'unary': return hasUnit(e.arg, dimensionalConst);
-    case 'binary': return hasUnit(e.left, dimensionalConst) || hasUnit(e.right, dimensionalConst);
-    case 'call': return e.args.some((a) => hasUnit(a, dimensionalConst));
-    default: return false;
-  }
+  return someExpr(e, (x) => (x.kind === 'number' && !!x.unit) || (x.kind === 'name' && dimensionalConst(x.name)));
 }
 
 export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock, opts: SolveOptions = {}): PointSolution {
@@ -426,7 +421,7 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
       diagnostics.push(diag('P506', pointSpan, { point: name, names: listNames(names) }, { data: { point: name, names } }));
     }
   }
-  diagnostics.push(...pointChecks(lm, values, name, pointSpan));
+  pushAll(diagnostics, pointChecks(lm, values, name, pointSpan));
   result.ok = !diagnostics.some((d) => d.severity === 'error');
   return result;
 }

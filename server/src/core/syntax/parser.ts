@@ -6,6 +6,7 @@ import type * as A from './ast';
 import { diag, type Diagnostic } from '../diagnostics';
 import { lex, type Token } from './lexer';
 import type { Span } from '../text';
+import { pushAll } from '../arrays';
 
 export interface ParseResult {
   file: A.ModelFile;
@@ -23,6 +24,13 @@ interface Line {
   indent: number;
   span: Span;
 }
+
+/**
+ * The deepest nesting of parentheses, calls, powers and signs an expression may have (docs/language.md).
+ * Every later stage walks expressions recursively along their nesting (long flat chains such as a sum of
+ * 10^5 terms are walked iteratively), so bounding the depth here keeps every stage off the stack limit.
+ */
+export const MAX_NESTING = 1000;
 
 class SyntaxError_ {
   constructor(readonly d: Diagnostic) {}
@@ -53,6 +61,8 @@ function splitLines(tokens: Token[]): Line[] {
 /** Parses the tokens of one logical line. */
 class LineParser {
   i = 0;
+  /** Nesting of the expression being parsed (see MAX_NESTING). */
+  depth = 0;
   constructor(readonly toks: Token[], readonly endOffset: number, readonly src: string) {}
 
   peek(k = 0): Token | undefined {
@@ -93,6 +103,11 @@ class LineParser {
     if (!this.atEnd()) this.fail(expected);
   }
 
+  /** Enters one level of nesting; too deep is a P114 at the token that opens the level. */
+  enter(): void {
+    if (++this.depth > MAX_NESTING) throw new SyntaxError_(diag('P115', this.here(), { limit: MAX_NESTING }));
+  }
+
   /** The bracket right after the previous token (no space): an index or a range, not a unit. */
   adjacentBracket(): Token | undefined {
     const t = this.peek();
@@ -111,6 +126,7 @@ class LineParser {
       throw new SyntaxError_({ ...d, span: { start: d.span.start + shift, end: d.span.end + shift } });
     }
     const lp = new LineParser(toks, t.span.end - 1, this.src);
+    lp.depth = this.depth; // an index inside an index still counts towards MAX_NESTING
     if (lp.atEnd()) throw new SyntaxError_(diag('P120', t.span));
     const first = lp.expr();
     if (lp.isOp('..')) {
@@ -147,6 +163,15 @@ class LineParser {
 
   // ---- expressions (Pratt) ----
   expr(minPrec = 0): A.Expr {
+    this.enter();
+    try {
+      return this.exprAt(minPrec);
+    } finally {
+      this.depth--;
+    }
+  }
+
+  private exprAt(minPrec: number): A.Expr {
     let left = this.unary();
     for (;;) {
       const t = this.peek();
@@ -170,6 +195,15 @@ class LineParser {
 
   /** Operand of ^: allows a leading sign (x^-1) and binds to the right. */
   powerOperand(): A.Expr {
+    this.enter();
+    try {
+      return this.powerOperandAt();
+    } finally {
+      this.depth--;
+    }
+  }
+
+  private powerOperandAt(): A.Expr {
     const t = this.peek();
     if (t && t.kind === 'op' && (t.text === '-' || t.text === '+')) {
       this.i++;
@@ -346,7 +380,7 @@ export function parse(text: string): ParseResult {
   } catch {
     return { file: { statements: [], comments: [], length: text.length }, diagnostics: [] };
   }
-  diagnostics.push(...lexed.diagnostics);
+  pushAll(diagnostics, lexed.diagnostics);
   const lines = splitLines(lexed.tokens);
   const statements: A.Statement[] = [];
 
