@@ -112,3 +112,17 @@ describe('long work and cancellation', () => {
     expect(s.exited).toBeUndefined();
   }, 120000);
 });
+
+describe('hover Markdown', () => {
+  it('escapes unit text from the model (CommonMark 0.31 §2.4 backslash escapes)', async () => {
+    const uri = uriOf('markup.poise');
+    await s.open(uri, "state x [m*s]\nvar y [<img src=x onerror=alert(1)>]\nx' = -x\ny = 1\n");
+    const hx = await s.hover(uri, s.pos(uri, 'x ['));
+    expect(hx!.contents.value).toContain('[m\\*s]');
+    const hy = await s.hover(uri, s.pos(uri, 'y ['));
+    expect(hy!.contents.value).toContain('\\<img');
+    expect(hy!.contents.value).not.toMatch(/(^|[^\\])<img/);
+    const hu = await s.hover(uri, s.pos(uri, '<img', 2));
+    expect(hu!.contents.value).not.toMatch(/(^|[^\\])<img/);
+  });
+});
