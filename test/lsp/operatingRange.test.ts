@@ -300,7 +300,8 @@ function readCoefficient(md: string) {
   const m = /^`([^`]+)` = (\S+)(?: \[(.+)\])?$/.exec(line!)!;
   const symbols: Record<string, number> = {};
   for (const r of md.matchAll(/^\| `([^`]+)` \| (\S+)(?: \[[^\]]*\])? \|/gm)) symbols[r[1]] = Number(r[2]);
-  return { formula: m[1], value: Number(m[2]), unit: m[3] ?? '', symbols, head: md.split('\n')[0] };
+  // the unit as Markdown shows it: backslash escapes removed (CommonMark §2.4)
+  return { formula: m[1], value: Number(m[2]), unit: (m[3] ?? '').replace(/\\(.)/g, '$1'), symbols, head: md.split('\n')[0] };
 }
 
 const printed = (v: number) => Number(v.toPrecision(DIGITS));

@@ -14,6 +14,9 @@ import { toDiagnostic } from './convert';
 import { allDiagnostics } from './jobs';
 import { Cancelled } from './offload';
 
+/** Pause between the static diagnostics of a slow model and starting its points in the worker (ms). */
+const POINT_DELAY_MS = 150;
+
 export interface DiagnosticsOptions {
   /** Delay between the last edit and the run (ms). */
   debounceMs: number;
@@ -56,6 +59,7 @@ export class DiagnosticsRun {
     if (t) clearTimeout(t);
     this.timers.delete(uri);
     this.generation.delete(uri);
+    this.lastPublished.delete(uri);
     void this.connection.sendDiagnostics({ uri, diagnostics: [] });
   }
 
@@ -64,7 +68,10 @@ export class DiagnosticsRun {
     this.timers.clear();
   }
 
+  private readonly lastPublished = new Map<string, readonly Diagnostic[]>();
+
   private publish(uri: string, version: number, a: Analysis, ds: readonly Diagnostic[]): void {
+    this.lastPublished.set(uri, ds);
     const sorted = [...ds].sort((x, y) => x.span.start - y.span.start || x.code.localeCompare(y.code));
     void this.connection.sendDiagnostics({ uri, version, diagnostics: sorted.map((d) => toDiagnostic(a, uri, d)) });
   }
@@ -83,9 +90,18 @@ export class DiagnosticsRun {
     const slow = points && this.analyses.slow(d);
     let ds: readonly Diagnostic[];
     if (slow) {
+      // static diagnostics at once; then the points' (solved in the worker); then what the linear models
+      // add, built last, in the background: a hover or a lens asked meanwhile goes first
       this.publish(uri, version, a, staticDiagnostics(a));
+      // while typing goes on, the worker is not started for every keystroke
+      await new Promise<void>((r) => setTimeout(r, POINT_DELAY_MS));
+      if (!current()) return;
+      const snapshot = this.analyses.snapshot(d);
       try {
-        ds = await this.analyses.models.run(this.analyses.snapshot(d), { kind: 'diagnostics' }, undefined, diagnosticsTag(uri));
+        const points = await this.analyses.models.run(snapshot, { kind: 'pointDiagnostics' }, undefined, diagnosticsTag(uri));
+        if (!current()) return;
+        this.publish(uri, version, a, points);
+        ds = await this.analyses.models.run(snapshot, { kind: 'diagnostics' }, undefined, diagnosticsTag(uri));
       } catch (e) {
         if (e instanceof Cancelled) return;
         throw e;
@@ -96,10 +112,15 @@ export class DiagnosticsRun {
     const t2 = performance.now();
     if (points) this.analyses.notePointTime(uri, t2 - t1);
     if (!current() || this.analyses.documents.get(uri)?.version !== version) return;
-    this.publish(uri, version, a, ds);
+    if (!slow || !sameDiagnostics(ds, this.lastPublished.get(uri))) this.publish(uri, version, a, ds);
     if (this.options.timing) {
       this.log(`diagnostics ${uri} v${version}: analyze ${(t1 - t0).toFixed(1)} ms, points ${(t2 - t1).toFixed(1)} ms${slow ? ' (worker; static diagnostics first)' : ''}, total ${(performance.now() - t0).toFixed(1)} ms`);
     }
   }
 }
 
+
+function sameDiagnostics(x: readonly Diagnostic[], y: readonly Diagnostic[] | undefined): boolean {
+  if (!y || x.length !== y.length) return false;
+  return x.every((d, i) => d.code === y[i].code && d.span.start === y[i].span.start && d.span.end === y[i].span.end && d.message === y[i].message);
+}

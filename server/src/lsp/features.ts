@@ -164,10 +164,16 @@ export function registerFeatures(x: FeatureContext): void {
         out.push({ title: f.title, kind: CodeActionKind.QuickFix, diagnostics: [(f.diagnostic as Ref).lsp as never], isPreferred: f.isPreferred, edit: workspaceEdit(d.doc, d.a, f.edits) });
       }
     }
-    // Solve and Linearize as source actions too, for editors without code lenses (Helix, …)
+    // Solve and Linearize as source actions too, for editors without code lenses (Helix, …): with their
+    // edit for a quick model; for a slow one as the command, so nothing is solved until it is chosen
     const point = pointAt(d.a, d.a.lines.offset(p.range.start));
-    for (const [kind, action] of [[SOLVE_ACTION, 'solve'], [LINEARIZE_ACTION, 'linearize']] as const) {
+    for (const [kind, action, command] of [[SOLVE_ACTION, 'solve', SOLVE_COMMAND], [LINEARIZE_ACTION, 'linearize', LINEARIZE_COMMAND]] as const) {
       if (!point || !wanted(kind)) continue;
+      if (analyses.slow(d)) {
+        const title = catalogueText(action === 'solve' ? 'P706' : 'P707', { point });
+        out.push({ title, kind, command: { title, command, arguments: [d.doc.uri, point] } });
+        continue;
+      }
       const r = await analyses.compute(d, { kind: 'pointEdit', action, point, digits: d.s.digits }, token);
       if (r.ok && r.edits.length) out.push({ title: r.label, kind, edit: workspaceEdit(d.doc, d.a, r.edits) });
     }

@@ -8,7 +8,7 @@
  * the request is then answered with that message.
  */
 import { buildReport, renderReportHtml } from '../core/analysis/report';
-import { declaredSweeps, runSweep, sweepCandidates, variedProblem, type SweepSpec } from '../core/analysis/sweep';
+import { declaredSweeps, runSweep, sweepCandidates, sweepDiagnostics, variedProblem, type SweepSpec } from '../core/analysis/sweep';
 import { catalogueText, type Diagnostic } from '../core/diagnostics';
 import type { Analysis } from '../core/pipeline/analysis';
 import { EXPORT_FORMATS, exportLinear, type ExportFormat } from '../core/present/exports';
@@ -16,7 +16,7 @@ import { sweepHtml } from '../core/present/sweepReport';
 import type { TextEdit } from '../core/services/edits';
 import { hover, type HoverResult } from '../core/services/hover';
 import { pointLenses, type PointLens } from '../core/services/lenses';
-import { linearizeEdit } from '../core/services/linearBlock';
+import { linearizeEdit, staleBlockDiagnostics } from '../core/services/linearBlock';
 import { solveEdits } from '../core/services/solve';
 import type { ExportParams, PageResult, SweepCandidate, SweepParams } from './requests';
 
@@ -30,6 +30,7 @@ export interface JobSettings {
 
 export type Job =
   | { kind: 'diagnostics' }
+  | { kind: 'pointDiagnostics' }
   | { kind: 'lenses'; digits: number }
   | { kind: 'hover'; offset: number; digits: number; activePoint: string }
   | { kind: 'pointEdit'; action: 'solve' | 'linearize'; point: string; digits: number }
@@ -42,6 +43,7 @@ export type PointEdit = { ok: true; label: string; edits: TextEdit[] } | { ok: f
 
 export interface JobResults {
   diagnostics: Diagnostic[];
+  pointDiagnostics: Diagnostic[];
   lenses: PointLens[];
   hover: HoverResult | null;
   pointEdit: PointEdit;
@@ -95,6 +97,20 @@ export function pointEdit(a: Analysis, action: 'solve' | 'linearize', point: str
 /** Every diagnostic of the document, points solved (sorted by position, then code). */
 export function allDiagnostics(a: Analysis): Diagnostic[] {
   return [...a.allDiagnostics()].sort((x, y) => x.span.start - y.span.start || x.code.localeCompare(y.code));
+}
+
+/**
+ * The diagnostics of the document with its points solved but no linear model built: everything
+ * `allDiagnostics` gives except what only linearizing finds (a non-finite or singular Jacobian at a point).
+ */
+export function pointDiagnostics(a: Analysis): Diagnostic[] {
+  const out = [...a.diagnostics];
+  if (a.canSolve) {
+    for (const name of new Set(a.pointNames)) out.push(...(a.point(name)?.diagnostics ?? []));
+    out.push(...sweepDiagnostics(a));
+  }
+  out.push(...staleBlockDiagnostics(a));
+  return out.sort((x, y) => x.span.start - y.span.start || x.code.localeCompare(y.code));
 }
 
 function report(a: Analysis, job: Extract<Job, { kind: 'report' }>): PageResult {
@@ -157,6 +173,8 @@ function runAny(a: Analysis, job: Job): JobResults[keyof JobResults] {
   switch (job.kind) {
     case 'diagnostics':
       return allDiagnostics(a);
+    case 'pointDiagnostics':
+      return pointDiagnostics(a);
     case 'lenses':
       return pointLenses(a, job.digits);
     case 'hover':

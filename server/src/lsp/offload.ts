@@ -28,6 +28,8 @@ export class OffloadError extends Error {
 interface Pending {
   request: WorkerRequest;
   tag?: string;
+  /** Someone waits for it (a hover, a lens): it goes before background work still waiting. */
+  interactive: boolean;
   resolve: (v: unknown) => void;
   reject: (e: Error) => void;
   dispose?: () => void;
@@ -49,18 +51,24 @@ export class Offload {
   constructor(private readonly name: string, private readonly log: (message: string) => void) {}
 
   /**
-   * Runs `job` on `doc` in the worker. `tag` names work a newer request supersedes (see cancelTag);
-   * the token cancels it. Rejects with Cancelled or OffloadError.
+   * Runs `job` on `doc` in the worker. `tag` names background work a newer edit supersedes (see
+   * cancelTag; untagged jobs are interactive and go first); the token cancels it. Rejects with Cancelled
+   * or OffloadError.
    */
   run<J extends Job>(doc: DocumentSnapshot, job: J, token?: CancellationToken, tag?: string): Promise<JobResult<J>> {
     return new Promise<JobResult<J>>((resolve, reject) => {
       if (this.disposed || token?.isCancellationRequested) return reject(new Cancelled());
-      const p: Pending = { request: { id: this.nextId++, doc, job }, tag, resolve: resolve as (v: unknown) => void, reject };
+      const p: Pending = { request: { id: this.nextId++, doc, job }, tag, interactive: tag === undefined, resolve: resolve as (v: unknown) => void, reject };
       if (token) {
         const sub = token.onCancellationRequested(() => this.cancel(p));
         p.dispose = () => sub.dispose();
       }
-      this.queue.push(p);
+      if (p.interactive) {
+        const at = this.queue.findIndex((q) => !q.interactive);
+        this.queue.splice(at < 0 ? this.queue.length : at, 0, p);
+      } else {
+        this.queue.push(p);
+      }
       this.pump();
     });
   }
