@@ -64,6 +64,30 @@ export interface SparseLUResult {
   conditionEstimate(): number;
   /** Number of stored entries of L and U (multipliers + upper entries + pivots). */
   readonly factorNnz: number;
+  /** The factors themselves, for solvers that touch only the non-zeros (sparseSolve.ts). */
+  readonly factors: SparseFactors;
+}
+
+/**
+ * The factors of D_r A D_c = P L U Q in step form: step k pivots on row pivRow[k], column pivCol[k]
+ * (original numbering) with value pivVal[k]; its multipliers are li/lv[lp[k] … lp[k+1]−1] (rows of later
+ * steps), its upper entries ui/uv[up[k] … up[k+1]−1] (columns of later steps). rs, cs: the row and column
+ * scales (powers of two).
+ */
+export interface SparseFactors {
+  n: number;
+  rank: number;
+  rs: Float64Array;
+  cs: Float64Array;
+  pivRow: Int32Array;
+  pivCol: Int32Array;
+  pivVal: Float64Array;
+  lp: Int32Array;
+  li: Int32Array;
+  lv: Float64Array;
+  up: Int32Array;
+  ui: Int32Array;
+  uv: Float64Array;
 }
 
 /** Fraction of non-zeros in the active submatrix above which the dense kernel takes over. */
@@ -893,6 +917,7 @@ export function sparseLU(
     solveTranspose,
     conditionEstimate,
     factorNnz: li.length + ui.length + rank,
+    factors: { n, rank, rs, cs, pivRow, pivCol, pivVal, lp, li, lv, up, ui, uv },
   };
 }
 

@@ -10,6 +10,8 @@ import { formatNumber } from '../algebra/expr';
 import { compileModel } from '../model/jacobian';
 import type { LoweredModel, Slot } from '../model/model';
 import { sparseLU } from '../numeric/sparseLU';
+import { SparseSolver } from '../numeric/sparseSolve';
+import { csrFromTriplets, csrToDense, type CsrMatrix } from '../numeric/csr';
 import { listNames } from '../model/structure';
 import type { Span } from '../text';
 
@@ -22,11 +24,16 @@ export interface LinearModel {
   stateUnits: string[];
   inputUnits: string[];
   outputUnits: string[];
-  /** Row-major dense matrices in declared units. */
-  A: Float64Array;
-  B: Float64Array;
-  C: Float64Array;
-  D: Float64Array;
+  /** A, B, C, D in compressed sparse rows, declared units: the core's own form, at any size. */
+  sparse: LinearSparse;
+  /**
+   * Row-major dense matrices in declared units, built from `sparse` on first use (for the dense methods:
+   * dynamics, reports, sweeps on models small enough for them).
+   */
+  readonly A: Float64Array;
+  readonly B: Float64Array;
+  readonly C: Float64Array;
+  readonly D: Float64Array;
   n: number;
   m: number;
   p: number;
@@ -40,6 +47,31 @@ export interface LinearModel {
   ok: boolean;
 }
 
+export interface LinearSparse {
+  A: CsrMatrix;
+  B: CsrMatrix;
+  C: CsrMatrix;
+  D: CsrMatrix;
+}
+
+const emptyCsr = (rows: number, cols: number): CsrMatrix => ({ rows, cols, rowPtr: new Int32Array(rows + 1), colIdx: new Int32Array(0), values: new Float64Array(0) });
+
+/** A linear model object whose dense A, B, C, D are made from the sparse ones when first read. */
+export function withDenseViews<T extends Omit<LinearModel, 'A' | 'B' | 'C' | 'D'>>(base: T): T & LinearModel {
+  const cache: Partial<Record<'A' | 'B' | 'C' | 'D', Float64Array>> = {};
+  for (const k of ['A', 'B', 'C', 'D'] as const) {
+    Object.defineProperty(base, k, {
+      enumerable: true,
+      configurable: true,
+      get: () => (cache[k] ??= csrToDense(base.sparse[k]).data),
+    });
+  }
+  return base as T & LinearModel;
+}
+
+/** Relative size below which an entry of A–D is taken as left over from cancellation (see chop). */
+const CHOP = 1e-13;
+
 export function linearize(lm: LoweredModel, unknownSlots: number[], values: Float64Array, point: string, pointSpan: Span): LinearModel {
   const cm = compileModel(lm);
   const diagnostics: Diagnostic[] = [];
@@ -49,12 +81,12 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
   const n = states.length;
   const m = inputs.length;
   const p = outputs.length;
-  const res: LinearModel = {
+  const res = withDenseViews({
     point, states: states.map((s) => lm.slots[s].name), inputs: inputs.map((s) => lm.slots[s].name), outputs: outputs.map((s) => lm.slots[s].name),
     stateUnits: states.map((s) => lm.slots[s].unit.text), inputUnits: inputs.map((s) => lm.slots[s].unit.text), outputUnits: outputs.map((s) => lm.slots[s].unit.text),
-    A: new Float64Array(n * n), B: new Float64Array(n * m), C: new Float64Array(p * n), D: new Float64Array(p * m), n, m, p,
-    stateSlots: states, inputSlots: inputs, outputSlots: outputs, timeUnit: lm.timeUnit || 's', diagnostics, ok: false,
-  };
+    sparse: { A: emptyCsr(n, n), B: emptyCsr(n, m), C: emptyCsr(p, n), D: emptyCsr(p, m) }, n, m, p,
+    stateSlots: states, inputSlots: inputs, outputSlots: outputs, timeUnit: lm.timeUnit || 's', diagnostics, ok: false as boolean,
+  });
 
   const N = unknownSlots.length; // highest derivatives then algebraic
   const colOf = new Int32Array(lm.slots.length).fill(-1);
@@ -66,24 +98,6 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
 
   const J = new Float64Array(cm.nodes.length);
   cm.jacobian(values, J);
-  const mRows: number[] = [];
-  const mCols: number[] = [];
-  const mVals: number[] = [];
-  // right-hand sides: one column per state component and per input (sparse lists)
-  const rhsX: { r: number; v: number }[][] = Array.from({ length: n }, () => []);
-  const rhsU: { r: number; v: number }[][] = Array.from({ length: m }, () => []);
-  for (let k = 0; k < J.length; k++) {
-    const v = J[k];
-    if (v === 0) continue;
-    const r = cm.rows[k];
-    const s = cm.cols[k];
-    if (colOf[s] >= 0) {
-      mRows.push(r);
-      mCols.push(colOf[s]);
-      mVals.push(v);
-    } else if (stateIdx[s] >= 0) rhsX[stateIdx[s]].push({ r, v: -v });
-    else if (inputIdx[s] >= 0) rhsU[inputIdx[s]].push({ r, v: -v });
-  }
   for (let k = 0; k < J.length; k++) {
     if (!Number.isFinite(J[k])) {
       diagnostics.push(diag('P504', lm.equations[cm.rows[k]].span, { point, detail: `the derivative with respect to ${lm.slots[cm.cols[k]].name} is not finite` }));
@@ -91,7 +105,48 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
     }
   }
   if (cm.nEq !== N) return res; // structure errors are reported by the structure checker
-  const lu = sparseLU(N, { rows: Int32Array.from(mRows), cols: Int32Array.from(mCols), vals: Float64Array.from(mVals), nnz: mRows.length });
+  // the square block ∂F/∂(w, z) as triplets; the right-hand sides (one column per state component and
+  // per input) in compressed columns: column c holds rhsRow/rhsVal[rhsPtr[c] … rhsPtr[c+1]−1]
+  let nM = 0;
+  const rhsPtr = new Int32Array(n + m + 1);
+  const rhsColOf = (s: number) => (stateIdx[s] >= 0 ? stateIdx[s] : inputIdx[s] >= 0 ? n + inputIdx[s] : -1);
+  for (let k = 0; k < J.length; k++) {
+    if (J[k] === 0) continue;
+    const s = cm.cols[k];
+    if (colOf[s] >= 0) nM++;
+    else {
+      const c = rhsColOf(s);
+      if (c >= 0) rhsPtr[c + 1]++;
+    }
+  }
+  for (let c = 0; c < n + m; c++) rhsPtr[c + 1] += rhsPtr[c];
+  const mRows = new Int32Array(nM);
+  const mCols = new Int32Array(nM);
+  const mVals = new Float64Array(nM);
+  const rhsRow = new Int32Array(rhsPtr[n + m]);
+  const rhsVal = new Float64Array(rhsPtr[n + m]);
+  {
+    const fillAt = rhsPtr.slice(0, n + m);
+    let w = 0;
+    for (let k = 0; k < J.length; k++) {
+      const v = J[k];
+      if (v === 0) continue;
+      const r = cm.rows[k];
+      const s = cm.cols[k];
+      if (colOf[s] >= 0) {
+        mRows[w] = r;
+        mCols[w] = colOf[s];
+        mVals[w++] = v;
+      } else {
+        const c = rhsColOf(s);
+        if (c >= 0) {
+          rhsRow[fillAt[c]] = r;
+          rhsVal[fillAt[c]++] = -v;
+        }
+      }
+    }
+  }
+  const lu = sparseLU(N, { rows: mRows, cols: mCols, vals: mVals, nnz: nM });
   if (!lu.ok) {
     const names = lu.singularCols.map((c) => lm.slots[unknownSlots[c]].name);
     const hasDeriv = lu.singularCols.some((c) => lm.slots[unknownSlots[c]].kind === 'deriv');
@@ -99,59 +154,72 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
     return res;
   }
 
-  // rows of interest in the solution: highest derivatives feeding A/B, outputs feeding C/D
   const tscale = lm.timeScale;
   const sl = lm.slots;
-  const b = new Float64Array(N);
-  const solveCol = (col: { r: number; v: number }[]): Float64Array => {
-    b.fill(0);
-    for (const e of col) b[e.r] += e.v;
-    return lu.solve(b);
-  };
   // For each state component i, its derivative slot: either another component (shift) or a highest derivative.
   const derivRow = lm.componentDerivative.map((d) => (stateIdx[d] >= 0 ? -1 - stateIdx[d] : colOf[d]));
-  const outRow = outputs.map((o) => colOf[o]);
-  const fill = (j: number, x: Float64Array, srcScale: number, Mx: Float64Array, ncol: number, Dy: Float64Array) => {
-    for (let i = 0; i < n; i++) {
-      const dr = derivRow[i];
-      if (dr >= 0) {
-        const si = sl[states[i]].scale;
-        Mx[i * ncol + j] = x[dr] * srcScale / si * tscale;
-      }
+  // which rows of A/B and C/D each unknown feeds
+  const stateOfUnknown = new Int32Array(N).fill(-1);
+  for (let i = 0; i < n; i++) if (derivRow[i] >= 0) stateOfUnknown[derivRow[i]] = i;
+  const outputOfUnknown = new Int32Array(N).fill(-1);
+  for (let i = 0; i < p; i++) if (colOf[outputs[i]] >= 0) outputOfUnknown[colOf[outputs[i]]] = i;
+  const stateScale = states.map((s) => sl[s].scale);
+  const outScale = outputs.map((s) => sl[s].scale);
+
+  // entries of [A B] (rows: state components) and [C D] (rows: outputs) as triplets with their bounds
+  const top = new Triplets();
+  const bottom = new Triplets();
+  const solver = new SparseSolver(lu.factors);
+  for (let c = 0; c < n + m; c++) {
+    const srcScale = c < n ? sl[states[c]].scale : sl[inputs[c - n]].scale;
+    const r0 = rhsPtr[c];
+    const sol = solver.solve(rhsRow.subarray(r0), rhsVal.subarray(r0), rhsPtr[c + 1] - r0, true);
+    for (let t = 0; t < sol.count; t++) {
+      const u = sol.cols[t];
+      const i = stateOfUnknown[u];
+      if (i >= 0) top.push(i, c, ((sol.x[u] * srcScale) / stateScale[i]) * tscale, ((sol.bound[u] * srcScale) / stateScale[i]) * tscale);
+      const o = outputOfUnknown[u];
+      if (o >= 0) bottom.push(o, c, (sol.x[u] * srcScale) / outScale[o], (sol.bound[u] * srcScale) / outScale[o]);
     }
-    for (let i = 0; i < p; i++) Dy[i * ncol + j] = x[outRow[i]] * srcScale / sl[outputs[i]].scale;
-  };
-  for (let j = 0; j < n; j++) {
-    const x = solveCol(rhsX[j]);
-    fill(j, x, sl[states[j]].scale, res.A, n, res.C);
-  }
-  for (let j = 0; j < m; j++) {
-    const x = solveCol(rhsU[j]);
-    fill(j, x, sl[inputs[j]].scale, res.B, m, res.D);
   }
   // shift rows of higher-order states: d(x^(k))/dt = x^(k+1)
   for (let i = 0; i < n; i++) {
     const dr = derivRow[i];
     if (dr < 0) {
       const j = -1 - dr;
-      res.A[i * n + j] = (sl[states[j]].scale / sl[states[i]].scale) * tscale;
+      const v = (sl[states[j]].scale / sl[states[i]].scale) * tscale;
+      top.push(i, j, v, Math.abs(v));
     }
   }
-  chop(res.A, res.B, n, n, m);
-  chop(res.C, res.D, p, n, m);
+  [res.sparse.A, res.sparse.B] = top.toCsr(n, n, m);
+  [res.sparse.C, res.sparse.D] = bottom.toCsr(p, n, m);
   res.ok = true;
   return res;
 }
 
-/** Zero the round-off left where terms cancel exactly (|x| < 1e-13 of the largest entry in its row of [M N]). */
-function chop(M: Float64Array, N: Float64Array, r: number, c1: number, c2: number): void {
-  for (let i = 0; i < r; i++) {
-    let mx = 0;
-    for (let j = 0; j < c1; j++) mx = Math.max(mx, Math.abs(M[i * c1 + j]));
-    for (let j = 0; j < c2; j++) mx = Math.max(mx, Math.abs(N[i * c2 + j]));
-    const tol = mx * 1e-13;
-    for (let j = 0; j < c1; j++) if (Math.abs(M[i * c1 + j]) < tol) M[i * c1 + j] = 0;
-    for (let j = 0; j < c2; j++) if (Math.abs(N[i * c2 + j]) < tol) N[i * c2 + j] = 0;
+/**
+ * Entries (row, column of [M N], value, bound) of a pair of matrices sharing their rows. An entry whose
+ * magnitude is below CHOP times its bound (the same substitutions in absolute values) is what is left
+ * where terms cancel exactly; it is dropped. The test compares each entry with its own terms only, so a
+ * model whose coefficients span many orders of magnitude keeps every entry (no row-wide threshold).
+ */
+class Triplets {
+  r: number[] = [];
+  c: number[] = [];
+  v: number[] = [];
+  push(i: number, j: number, v: number, bound: number): void {
+    if (v === 0 || Math.abs(v) < CHOP * bound) return;
+    this.r.push(i);
+    this.c.push(j);
+    this.v.push(v);
+  }
+  toCsr(rows: number, c1: number, c2: number): [CsrMatrix, CsrMatrix] {
+    const left: number[] = [];
+    const right: number[] = [];
+    for (let k = 0; k < this.r.length; k++) (this.c[k] < c1 ? left : right).push(k);
+    const pick = (ks: number[], off: number, cols: number) =>
+      csrFromTriplets(rows, cols, ks.map((k) => this.r[k]), ks.map((k) => this.c[k] - off), ks.map((k) => this.v[k]));
+    return [pick(left, 0, c1), pick(right, c1, c2)];
   }
 }
 
@@ -176,9 +244,12 @@ export interface DeviationEquation {
  */
 export function deviationEquations(lin: LinearModel, digits = 4): DeviationEquation[] {
   const out: DeviationEquation[] = [];
-  const { n, m, p } = lin;
-  const row = (lhs: string, coefs: [number, string][], kind: 'state' | 'output', index: number) => {
-    const terms = coefs.filter(([c]) => c !== 0).map(([coef, name]) => ({ coef, name }));
+  const { n, p } = lin;
+  const { A, B, C, D } = lin.sparse;
+  const row = (lhs: string, M: CsrMatrix, N: CsrMatrix, i: number, kind: 'state' | 'output') => {
+    const terms: { coef: number; name: string }[] = [];
+    for (let t = M.rowPtr[i]; t < M.rowPtr[i + 1]; t++) if (M.values[t] !== 0) terms.push({ coef: M.values[t], name: lin.states[M.colIdx[t]] });
+    for (let t = N.rowPtr[i]; t < N.rowPtr[i + 1]; t++) if (N.values[t] !== 0) terms.push({ coef: N.values[t], name: lin.inputs[N.colIdx[t]] });
     let text = '';
     terms.forEach((t, k) => {
       const c = Number(formatNumber(t.coef, digits));
@@ -187,29 +258,30 @@ export function deviationEquations(lin: LinearModel, digits = 4): DeviationEquat
       const sign = c < 0 ? (k === 0 ? '-' : ' - ') : k === 0 ? '' : ' + ';
       text += `${sign}${coefText}Δ${t.name}`;
     });
-    out.push({ lhs, terms, text: `${lhs} = ${text || '0'}`, kind, index });
+    out.push({ lhs, terms, text: `${lhs} = ${text || '0'}`, kind, index: i });
   };
+  const stateIndex = new Map<string, number>();
+  lin.states.forEach((s, i) => stateIndex.set(s, i));
   for (let i = 0; i < n; i++) {
-    const name = lin.states[i];
-    const next = name + "'";
-    if (lin.states.includes(next)) {
-      // implied shift row: check it really is the identity
-      const j = lin.states.indexOf(next);
-      let pure = lin.A[i * n + j] !== 0;
-      for (let k = 0; k < n && pure; k++) if (k !== j && lin.A[i * n + k] !== 0) pure = false;
-      for (let k = 0; k < m && pure; k++) if (lin.B[i * m + k] !== 0) pure = false;
-      if (pure) continue;
-    }
-    const coefs: [number, string][] = [];
-    for (let j = 0; j < n; j++) coefs.push([lin.A[i * n + j], lin.states[j]]);
-    for (let j = 0; j < m; j++) coefs.push([lin.B[i * m + j], lin.inputs[j]]);
-    row(`Δ${next}`, coefs, 'state', i);
+    const next = lin.states[i] + "'";
+    const j = stateIndex.get(next);
+    if (j !== undefined && impliedShift(lin.sparse, i, j)) continue;
+    row(`Δ${next}`, A, B, i, 'state');
   }
-  for (let i = 0; i < p; i++) {
-    const coefs: [number, string][] = [];
-    for (let j = 0; j < n; j++) coefs.push([lin.C[i * n + j], lin.states[j]]);
-    for (let j = 0; j < m; j++) coefs.push([lin.D[i * m + j], lin.inputs[j]]);
-    row(`Δ${lin.outputs[i]}`, coefs, 'output', i);
-  }
+  for (let i = 0; i < p; i++) row(`Δ${lin.outputs[i]}`, C, D, i, 'output');
   return out;
+}
+
+/** Whether row i of [A B] is only a non-zero in column j (exactly `one` there when given). */
+export function impliedShift(s: LinearSparse, i: number, j: number, one?: number): boolean {
+  const { A, B } = s;
+  let hit = false;
+  for (let t = A.rowPtr[i]; t < A.rowPtr[i + 1]; t++) {
+    const v = A.values[t];
+    if (v === 0) continue;
+    if (A.colIdx[t] !== j || (one !== undefined && v !== one)) return false;
+    hit = true;
+  }
+  for (let t = B.rowPtr[i]; t < B.rowPtr[i + 1]; t++) if (B.values[t] !== 0) return false;
+  return hit;
 }
