@@ -9,7 +9,7 @@ import * as path from 'path';
 import { Analysis } from '../server/src/core/pipeline/analysis';
 import { eigenvalues } from '../server/src/core/numeric/eigen';
 import { runSweep } from '../server/src/core/analysis/sweep';
-import { lspLatency } from './lspLatency';
+import { latencyLines, lspLatency } from './lspLatency';
 import { massChain, reportBench } from './report';
 import { tankChain, tankChainSympy } from './models';
 
@@ -116,10 +116,9 @@ async function main() {
   }
   console.log('');
 
-  // language server: one-character edit → diagnostics, 2000-equation model
+  // language server: one-character edit → diagnostics, 2,000- and 10,000-equation models
   if (process.env.POISE_BENCH_LSP !== '0') {
-    const l = await lspLatency(1000);
-    console.log(`language server, 2000-equation model: open → diagnostics ${l.open.toFixed(0)} ms; one-character edit → diagnostics median ${l.median.toFixed(0)} ms (${l.all.length} edits, 30 ms debounce included)`);
+    for (const n of [1000, 5000]) for (const line of latencyLines(await lspLatency(n))) console.log(line);
   }
 
   // whole-process comparison with SymPy, same job, same run

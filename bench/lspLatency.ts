@@ -1,53 +1,102 @@
 /**
- * Language-server latency: a chain of 1000 tanks (2000 equations) opened in the real server over stdio;
- * one-character edits; time from didChange to the first publishDiagnostics of that version.
+ * Language-server latency: a chain of N tanks (2N equations) opened in the real server over stdio;
+ * one-character edits of a constant; time from didChange to the first publishDiagnostics of that version
+ * (and to the last one, when the points' diagnostics follow later), and the time a hover sent right after
+ * the first diagnostics takes while the points are being solved. The server's own time per stage comes
+ * from its timing log. Run alone: `node out/bench/lspLatency.js [N,N…]`.
  */
 import { spawn } from 'child_process';
 import * as path from 'path';
 import { createMessageConnection, StreamMessageReader, StreamMessageWriter } from 'vscode-jsonrpc/node';
 import { tankChain } from './models';
 
-export async function lspLatency(n = 1000, edits = 21): Promise<{ open: number; median: number; all: number[] }> {
+export interface LspLatency {
+  equations: number;
+  open: number;
+  /** didChange → first publishDiagnostics of the version (ms), median. */
+  median: number;
+  /** didChange → last publishDiagnostics of the version (points solved), median. */
+  finalMedian: number;
+  /** A hover sent just after the first diagnostics (ms), median. */
+  hoverMedian: number;
+  /** Server time of the static stages (parse … structure), median. */
+  analyzeMedian: number;
+  all: number[];
+}
+
+const median = (xs: number[]) => {
+  const v = [...xs].sort((a, b) => a - b);
+  return v.length ? v[Math.floor(v.length / 2)] : NaN;
+};
+
+export async function lspLatency(n = 1000, edits = 11): Promise<LspLatency> {
   const root = path.join(__dirname, '..', '..');
   const p = spawn(process.execPath, [path.join(root, 'bin', 'poise.js'), 'lsp', '--stdio'], { stdio: ['pipe', 'pipe', 'inherit'] });
   const c = createMessageConnection(new StreamMessageReader(p.stdout!), new StreamMessageWriter(p.stdin!));
-  const waiters: { version: number; resolve: (t: number) => void }[] = [];
-  c.onNotification('textDocument/publishDiagnostics', (msg: { version?: number }) => {
-    const t = performance.now();
-    for (let i = waiters.length - 1; i >= 0; i--) {
-      if (waiters[i].version === msg.version) {
-        waiters[i].resolve(t);
-        waiters.splice(i, 1);
-      }
+  const published: { version: number; at: number }[] = [];
+  const logs: { text: string; at: number }[] = [];
+  let wake: (() => void) | undefined;
+  const until = async <T>(pred: () => T | undefined, timeoutMs = 120000): Promise<T | undefined> => {
+    const end = performance.now() + timeoutMs;
+    for (;;) {
+      const v = pred();
+      if (v !== undefined) return v;
+      if (performance.now() > end) return undefined;
+      await new Promise<void>((r) => {
+        wake = r;
+        setTimeout(r, 50);
+      });
     }
+  };
+  c.onNotification('textDocument/publishDiagnostics', (msg: { version?: number }) => {
+    published.push({ version: msg.version ?? -1, at: performance.now() });
+    wake?.();
+  });
+  c.onNotification('window/logMessage', (msg: { message: string }) => {
+    logs.push({ text: msg.message, at: performance.now() });
+    wake?.();
   });
   c.onRequest('workspace/configuration', (params: { items: unknown[] }) => params.items.map(() => ({})));
   c.onRequest('client/registerCapability', () => null);
   c.listen();
-  await c.sendRequest('initialize', { processId: process.pid, rootUri: null, capabilities: { workspace: { configuration: true } } });
+  await c.sendRequest('initialize', { processId: process.pid, rootUri: null, capabilities: { workspace: { configuration: true } }, initializationOptions: { timing: true } });
   c.sendNotification('initialized', {});
   const uri = 'file:///bench/chain.poise';
   let text = tankChain(n);
-  const wait = (version: number) => new Promise<number>((resolve) => waiters.push({ version, resolve }));
+  const doneLog = (v: number) => logs.find((l) => l.text.startsWith(`diagnostics ${uri} v${v}:`));
   let t0 = performance.now();
-  const opened = wait(1);
   c.sendNotification('textDocument/didOpen', { textDocument: { uri, languageId: 'poise', version: 1, text } });
-  const open = (await opened) - t0;
+  await until(() => doneLog(1), 600000);
+  const open = published.find((x) => x.version === 1)!.at - t0;
   const all: number[] = [];
+  const finals: number[] = [];
+  const hovers: number[] = [];
+  const analyze: number[] = [];
   // edit the constant's value one character at a time (1.5 → 1.6 → 1.5 …): a real change every time
   const line = text.split('\n').findIndex((l) => l.startsWith('const area'));
   const col = 'const area = 1.'.length;
+  const hoverAt = { line: text.split('\n').findIndex((l) => l.startsWith('state h1 ')), character: 7 };
   for (let v = 2; v < 2 + edits; v++) {
     const ch = v % 2 ? '5' : '6';
     text = text.replace(/^const area = 1\.\d/m, `const area = 1.${ch}`);
-    const done = wait(v);
     t0 = performance.now();
     c.sendNotification('textDocument/didChange', {
       textDocument: { uri, version: v },
       contentChanges: [{ range: { start: { line, character: col }, end: { line, character: col + 1 } }, text: ch }],
     });
-    all.push((await done) - t0);
-    await new Promise((r) => setTimeout(r, 600)); // let the point solve finish before the next edit
+    const first = await until(() => published.find((x) => x.version === v));
+    if (!first) throw new Error(`no diagnostics for version ${v}`);
+    all.push(first.at - t0);
+    const h0 = performance.now();
+    await c.sendRequest('textDocument/hover', { textDocument: { uri }, position: hoverAt });
+    hovers.push(performance.now() - h0);
+    const done = await until(() => doneLog(v), 600000);
+    if (done) {
+      finals.push(published.filter((x) => x.version === v).at(-1)!.at - t0);
+      const m = /analyze ([\d.]+) ms/.exec(done.text);
+      if (m) analyze.push(Number(m[1]));
+    }
+    await new Promise((r) => setTimeout(r, 100));
   }
   p.stdin!.on('error', () => undefined); // the server may close its end first
   const exited = new Promise<void>((r) => p.once('exit', () => r()));
@@ -56,6 +105,27 @@ export async function lspLatency(n = 1000, edits = 21): Promise<{ open: number; 
   await Promise.race([exited, new Promise((r) => setTimeout(r, 2000))]);
   c.dispose();
   if (p.exitCode === null) p.kill();
-  const sorted = [...all].sort((a, b) => a - b);
-  return { open, median: sorted[Math.floor(sorted.length / 2)], all };
+  return { equations: 2 * n, open, median: median(all), finalMedian: median(finals), hoverMedian: median(hovers), analyzeMedian: median(analyze), all };
+}
+
+/** Targets (issue: a responsive editor): edit → first diagnostics, median. */
+export const LSP_TARGETS: Record<number, number> = { 2000: 50, 10000: 100 };
+
+/** Printable lines: each measured value next to its target. */
+export function latencyLines(l: LspLatency): string[] {
+  const target = LSP_TARGETS[l.equations];
+  return [
+    `language server, ${l.equations}-equation model: one-character edit → first diagnostics median ${l.median.toFixed(0)} ms` +
+      (target ? ` (target < ${target} ms: ${l.median < target ? 'met' : 'NOT met'})` : '') +
+      `; of which static analysis ${l.analyzeMedian.toFixed(0)} ms and the 30 ms debounce`,
+    `  → points' diagnostics median ${l.finalMedian.toFixed(0)} ms; a hover sent meanwhile answered in ${l.hoverMedian.toFixed(0)} ms (median); open → diagnostics ${l.open.toFixed(0)} ms`,
+  ];
+}
+
+if (require.main === module) {
+  void (async () => {
+    for (const n of (process.argv[2] ?? '1000,5000').split(',').map(Number)) {
+      for (const l of latencyLines(await lspLatency(n))) console.log(l);
+    }
+  })();
 }

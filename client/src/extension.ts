@@ -1,6 +1,6 @@
 // The Poise extension: starts the bundled language server (dist/server.js) for `poise` documents and adds
 // the client-side commands (reports, sweeps, export). Every page and list comes from the server
-// (poise/report, poise/sweep, poise/sweepCandidates, poise/export); the client only asks and shows. Solve and Linearize run on the server: the server
+// (the requests typed in server/src/lsp/requests.ts); the client only asks and shows. Solve and Linearize run on the server: the server
 // declares `poise.server.solvePoint` / `poise.server.linearizePoint` as executeCommand commands, the
 // language client registers them, and the palette commands here only find the point at the cursor first.
 import * as path from 'path';
@@ -11,17 +11,13 @@ import {
   type ServerOptions,
   TransportKind,
 } from 'vscode-languageclient/node';
-import { PanelManager, type PageResult } from './panels';
+import {
+  ExportRequest, LINEARIZE_COMMAND, PointAtRequest, ReportRequest, SOLVE_COMMAND, SweepCandidatesRequest, SweepRequest,
+  type ExportFormatName, type SweepCandidate, type SweepSpecArg,
+} from '../../server/src/lsp/requests';
+import { PanelManager } from './panels';
 
 const LANGUAGE = 'poise';
-
-interface PointAtResult {
-  point: string | null;
-}
-interface ExportResult {
-  text: string;
-}
-type ExportFormat = 'json' | 'csv' | 'markdown' | 'latex' | 'numpy';
 
 let client: LanguageClient | undefined;
 let starting: Promise<void> | undefined;
@@ -67,7 +63,7 @@ async function target(args: unknown[]): Promise<{ uri: vscode.Uri; point: string
     throw new Error('open a .poise model and put the cursor inside a point block');
   }
   const c = await runningClient();
-  const result = await c.sendRequest<PointAtResult>('poise/pointAt', {
+  const result = await c.sendRequest(PointAtRequest, {
     uri: c.code2ProtocolConverter.asUri(editor.document.uri),
     position: c.code2ProtocolConverter.asPosition(editor.selection.active),
   });
@@ -93,7 +89,7 @@ async function openReport(panels: PanelManager, args: unknown[]): Promise<void> 
     uri,
     viewType: 'poise.report',
     title: `Report: ${point}`,
-    fetch: async () => (await runningClient()).sendRequest<PageResult>('poise/report', { uri: wire, point }),
+    fetch: async () => (await runningClient()).sendRequest(ReportRequest, { uri: wire, point }),
   });
 }
 
@@ -108,30 +104,6 @@ function numberValidator(text: string): string | undefined {
 /** A number as a short text for an input box: 0.45 rather than 0.44999999999999996. */
 function shortNumber(v: number): string {
   return String(Number(v.toPrecision(6)));
-}
-
-/** What the server offers to vary at a point (`poise/sweepCandidates`): constants and the values the point fixes. */
-interface SweepCandidate {
-  name: string;
-  kind: string;
-  /** declared unit, '' when dimensionless */
-  unit: string;
-  /** value at the point, declared unit */
-  value: number;
-  /** suggested range */
-  from: number;
-  to: number;
-}
-
-/** A sweep to run without asking: the arguments a "Run sweep" lens gives (a declared `sweep` block). */
-interface SweepSpecArg {
-  /** name of the declared sweep block; the server reruns it as the model now declares it */
-  sweep?: string;
-  vary: string;
-  from: number;
-  to: number;
-  steps: number;
-  log?: boolean;
 }
 
 function sweepSpecArg(value: unknown): SweepSpecArg | undefined {
@@ -151,7 +123,7 @@ function sweepSpecArg(value: unknown): SweepSpecArg | undefined {
 
 async function askVary(wire: string, point: string): Promise<{ name: string; unit: string; from: number; to: number }> {
   const c = await runningClient();
-  const candidates = await c.sendRequest<SweepCandidate[]>('poise/sweepCandidates', { uri: wire, point });
+  const candidates = await c.sendRequest(SweepCandidatesRequest, { uri: wire, point });
   const order: Record<string, number> = { input: 0, const: 1, state: 2, var: 3, output: 4 };
   const sorted = [...(candidates ?? [])].sort((a, b) => (order[a.kind] ?? 5) - (order[b.kind] ?? 5));
   type Item = vscode.QuickPickItem & { candidate?: SweepCandidate };
@@ -249,14 +221,14 @@ async function sweep(panels: PanelManager, args: unknown[]): Promise<void> {
       uri,
       viewType: 'poise.sweep',
       title: spec.sweep ? `Sweep ${spec.sweep}: ${spec.vary} (${point})` : `Sweep: ${spec.vary} (${point})`,
-      fetch: async () => (await runningClient()).sendRequest<PageResult>('poise/sweep', params),
+      fetch: async () => (await runningClient()).sendRequest(SweepRequest, params),
     });
   } catch (e) {
     if (!(e instanceof Cancelled)) throw e;
   }
 }
 
-const FORMATS: { format: ExportFormat; label: string; description: string; extension: string; language: string }[] = [
+const FORMATS: { format: ExportFormatName; label: string; description: string; extension: string; language: string }[] = [
   { format: 'json', label: 'JSON', description: 'matrices A, B, C, D with names and units', extension: 'json', language: 'json' },
   { format: 'csv', label: 'CSV', description: 'one row per number: kind, row, column, value, unit', extension: 'csv', language: 'plaintext' },
   { format: 'markdown', label: 'Markdown', description: 'tables for notes and reports', extension: 'md', language: 'markdown' },
@@ -272,7 +244,7 @@ async function exportLinear(args: unknown[]): Promise<void> {
   });
   if (!choice) return;
   const c = await runningClient();
-  const result = await c.sendRequest<ExportResult>('poise/export', {
+  const result = await c.sendRequest(ExportRequest, {
     uri: await protocolUri(uri),
     point,
     format: choice.format,
@@ -324,11 +296,11 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
     panels,
     vscode.commands.registerCommand(
       'poise.solvePoint',
-      guarded('poise.solvePoint', (...args: unknown[]) => serverCommand('poise.server.solvePoint', args)),
+      guarded('poise.solvePoint', (...args: unknown[]) => serverCommand(SOLVE_COMMAND, args)),
     ),
     vscode.commands.registerCommand(
       'poise.linearizePoint',
-      guarded('poise.linearizePoint', (...args: unknown[]) => serverCommand('poise.server.linearizePoint', args)),
+      guarded('poise.linearizePoint', (...args: unknown[]) => serverCommand(LINEARIZE_COMMAND, args)),
     ),
     vscode.commands.registerCommand('poise.openReport', guarded('poise.openReport', (...args: unknown[]) => openReport(panels, args))),
     vscode.commands.registerCommand('poise.sweep', guarded('poise.sweep', (...args: unknown[]) => sweep(panels, args))),

@@ -5,15 +5,16 @@
 //   img-src data: blob:                 images only from data:/blob: URLs (inline SVG needs no permission)
 //   font-src data:                      fonts only when embedded as data: URLs
 //   style-src 'unsafe-inline'           <style> blocks and style="" attributes written by the server
-//   script-src 'nonce-N'                only <script> elements (without src) that we stamp with a fresh nonce
-// Consequences for the HTML the server sends: scripts must be inline <script> blocks (they get the nonce
-// here); inline event-handler attributes (onclick="...") and javascript: URLs do not run; nothing is
+//   script-src 'nonce-N'                only the page's own <script> (declared by its hash in the page's policy),
+//                                       which we stamp with a fresh nonce
+// Consequences for the HTML the server sends: its one script must be an inline <script> block whose hash
+// the page's own policy lists (secureHtml below); inline event-handler attributes (onclick="...") and javascript: URLs do not run; nothing is
 // fetched from the network. The page may use the editor's theme through the CSS variables
 // (--vscode-editor-foreground, --vscode-editor-background, --vscode-font-family, ...) and the body classes
 // `vscode-light`, `vscode-dark`, `vscode-high-contrast` that the editor sets; when the colour theme changes the
 // page also receives a message {type: 'poise.theme', kind: 'light' | 'dark' | 'high-contrast' | 'high-contrast-light'}.
 
-import { randomBytes } from 'crypto';
+import { createHash, randomBytes } from 'crypto';
 
 export function makeNonce(): string {
   return randomBytes(18).toString('base64').replace(/[+/=]/g, '');
@@ -38,15 +39,33 @@ export function escapeHtml(text: string): string {
   return text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
 }
 
+/** The SHA-256 of a text's UTF-8 bytes as a CSP source expression ('sha256-…'). */
+export function cspHash(text: string): string {
+  return `'sha256-${createHash('sha256').update(text, 'utf8').digest('base64')}'`;
+}
+
+const CSP_META = /<meta\b[^>]*http-equiv\s*=\s*["']?content-security-policy["']?[^>]*>/gi;
+
 /**
  * Returns `html` with our CSP meta element and base style as the first children of <head>, and the nonce on
- * every inline <script> element (scripts with a `src` attribute get no nonce, so they stay blocked).
+ * the page's own script only: the page declares it by its hash in its own policy (the standalone page's
+ * `script-src 'sha256-…'`, server/src/core/present/svgCharts.ts). Any other inline script, and every script
+ * with a `src`, gets no nonce and so stays blocked. The page's own policy is replaced by ours (it was
+ * written for the page opened as a file).
  */
 export function secureHtml(html: string, nonce: string): string {
   const head = `<meta http-equiv="Content-Security-Policy" content="${contentSecurityPolicy(nonce)}">${BASE_STYLE}`;
-  let out = html.replace(/<script\b([^>]*)>/gi, (tag: string, attrs: string) =>
-    /\bsrc\s*=/i.test(attrs) || /\bnonce\s*=/i.test(attrs) ? tag : `<script nonce="${nonce}"${attrs}>`,
-  );
+  const declared = new Set<string>();
+  for (const meta of html.match(CSP_META) ?? []) {
+    const content = /\bcontent\s*=\s*"([^"]*)"/i.exec(meta)?.[1] ?? '';
+    for (const m of content.replace(/&#39;|&apos;/g, "'").matchAll(/'sha256-[A-Za-z0-9+/=]+'/g)) declared.add(m[0]);
+  }
+  let out = html.replace(CSP_META, '');
+  out = out.replace(/<script\b([^>]*)>([\s\S]*?)<\/script>/gi, (_whole: string, attrs: string, body: string) => {
+    const clean = attrs.replace(/\snonce\s*=\s*("[^"]*"|'[^']*'|[^\s>]*)/gi, '');
+    if (/\bsrc\s*=/i.test(attrs) || !declared.has(cspHash(body))) return `<script${clean}>${body}</script>`;
+    return `<script nonce="${nonce}"${clean}>${body}</script>`;
+  });
   if (/<head\b[^>]*>/i.test(out)) {
     out = out.replace(/<head\b[^>]*>/i, (m) => m + head);
   } else if (/<html\b[^>]*>/i.test(out)) {

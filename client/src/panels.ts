@@ -1,12 +1,10 @@
 // Webview panels that show a page computed by the language server (a point's report, a sweep) and keep it
 // up to date while the model is edited.
 import * as vscode from 'vscode';
+import type { PageResult } from '../../server/src/lsp/requests';
 import { makeNonce, messagePage, secureHtml } from './html';
 
-export interface PageResult {
-  html: string;
-  title: string;
-}
+export type { PageResult };
 
 export interface PanelSpec {
   /** identity of the panel: one panel per key */

@@ -281,7 +281,7 @@ describe('poise/export', () => {
   it('answers errors with a readable message', async () => {
     const uri = uriOf('export-errors.poise');
     await s.open(uri, BUFFER);
-    expect((await rpcError(s.request('poise/export', { uri, point: 'dry_day', format: 'yaml' }))).message).toMatch(/unknown export format "yaml".*latex/);
+    expect((await rpcError(s.request('poise/export', { uri, point: 'dry_day', format: 'yaml' }))).message).toMatch(/Unknown export format "yaml".*latex/);
     expect((await rpcError(s.request('poise/export', { uri, point: 'nowhere', format: 'json' }))).message).toContain('no point named "nowhere"');
     // a point that cannot be solved: sqrt of a negative level (inflow < 0 cannot drain through the valve)
     await s.change(uri, BUFFER.replace('inflow = 1.5 [L/s]', 'inflow = -1.5 [L/s]'));
@@ -300,7 +300,8 @@ function readCoefficient(md: string) {
   const m = /^`([^`]+)` = (\S+)(?: \[(.+)\])?$/.exec(line!)!;
   const symbols: Record<string, number> = {};
   for (const r of md.matchAll(/^\| `([^`]+)` \| (\S+)(?: \[[^\]]*\])? \|/gm)) symbols[r[1]] = Number(r[2]);
-  return { formula: m[1], value: Number(m[2]), unit: m[3] ?? '', symbols, head: md.split('\n')[0] };
+  // the unit as Markdown shows it: backslash escapes removed (CommonMark §2.4)
+  return { formula: m[1], value: Number(m[2]), unit: (m[3] ?? '').replace(/\\(.)/g, '$1'), symbols, head: md.split('\n')[0] };
 }
 
 const printed = (v: number) => Number(v.toPrecision(DIGITS));

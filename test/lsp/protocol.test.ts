@@ -96,16 +96,17 @@ describe('stdio server answering a plain JSON-RPC client (an LSP client other th
     await s.until(() => (s.published.get(uri)!.at(-1)!.params.diagnostics.length === 0 ? true : undefined), 5000, 'cleared diagnostics');
   });
 
-  it('answers bad or untimely requests with neutral results and keeps running', async () => {
+  it('answers bad or untimely requests with neutral results or errors and keeps running', async () => {
     const ghost = uriOf('never-opened.poise');
     const pos = { line: 0, character: 0 };
     expect(await s.request('textDocument/hover', { textDocument: { uri: ghost }, position: pos })).toBeNull();
     expect(await s.request('textDocument/codeLens', { textDocument: { uri: ghost } })).toEqual([]);
     expect(await s.request('textDocument/completion', { textDocument: { uri: ghost }, position: pos })).toEqual({ isIncomplete: false, items: [] });
-    // malformed parameters: the handler fails inside, the answer is neutral
-    expect(await s.request('textDocument/hover', { position: pos })).toBeNull();
-    expect(await s.request('textDocument/documentSymbol', {})).toEqual([]);
-    expect(await s.request('workspace/executeCommand', { command: 'poise.server.solvePoint', arguments: [42] })).toEqual({ applied: false, message: 'the document is not open' });
+    // malformed parameters: the invalid-params error (-32602, LSP 3.17), before any handler runs (see guard.test.ts)
+    await expect(s.request('textDocument/hover', { position: pos })).rejects.toMatchObject({ code: -32602 });
+    await expect(s.request('textDocument/documentSymbol', {})).rejects.toMatchObject({ code: -32602 });
+    // a command for a document that is not open: not applied, and the editor is told why
+    expect(await s.request('workspace/executeCommand', { command: 'poise.server.solvePoint', arguments: [42] })).toEqual({ applied: false, message: 'the model file is not open in the editor: open the model file first.' });
     const uri = uriOf('after.poise');
     await s.open(uri, 'state x\nx\' = -x\npoint p:\n  x ~ 1\n');
     // past the end of the document

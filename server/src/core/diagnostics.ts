@@ -114,12 +114,41 @@ export const catalogue = {
   // 6xx generated blocks and sweeps
   P601: { severity: 'warning', text: 'Linear block "{name}" is stale: the model or point changed since it was generated. Regenerate it.' },
   P602: { severity: 'error', text: 'Sweep "{name}": {detail}' },
+
+  // 7xx titles of editor actions (quick fixes, source actions); the severity is not shown
+  P701: { severity: 'info', text: 'Regenerate linear block' },
+  P702: { severity: 'info', text: 'Change to {name}' },
+  P703: { severity: 'info', text: 'Declare "{name}" as {kind}' },
+  P704: { severity: 'info', text: 'Fix {names} with "=" in point {point}' },
+  P705: { severity: 'info', text: 'Free {name} (write "~") in point {point}' },
+  P706: { severity: 'info', text: 'Solve point {point}' },
+  P707: { severity: 'info', text: 'Linearize at point {point}' },
+
+  // 8xx answers of the language server to requests and commands (error responses and editor messages)
+  P801: { severity: 'error', text: '{file} is not open in the editor: open the model file first.' },
+  P802: { severity: 'error', text: '{file} has no point: add a "point NAME:" block.' },
+  P803: { severity: 'error', text: '{file} has no point named "{point}": use one of {names}.' },
+  P804: { severity: 'error', text: 'Point "{point}" cannot be solved: {detail}' },
+  P805: { severity: 'error', text: 'Point "{point}" cannot be linearized: {detail}' },
+  P806: { severity: 'error', text: '{file} has errors: fix them before {action}.' },
+  P807: { severity: 'error', text: 'Invalid parameters for {method}: {detail}' },
+  P808: { severity: 'error', text: '{method} failed inside the server ({detail}); the server keeps running. Please report it.' },
+  P809: { severity: 'error', text: 'The request {method} was cancelled.' },
+  P810: { severity: 'error', text: 'Unknown export format "{format}": use one of {formats}.' },
+  P811: { severity: 'error', text: 'Sweep "{name}" is incomplete: it needs "from POINT" and a "vary NAME = FROM to TO steps N" line.' },
+  P812: { severity: 'error', text: 'The sweep cannot start: {detail}' },
+  P813: { severity: 'error', text: 'The editor did not apply "{label}"{reason}.' },
 } as const satisfies Record<string, Entry>;
 
 export type Code = keyof typeof catalogue;
 
 export function format(template: string, args: Record<string, unknown>): string {
   return template.replace(/\{(\w+)\}/g, (_, k: string) => (k in args ? String(args[k]) : `{${k}}`));
+}
+
+/** The text of a catalogue entry with its placeholders filled (titles and messages that are not diagnostics). */
+export function catalogueText(code: Code, args: Record<string, unknown> = {}): string {
+  return format(catalogue[code].text, args);
 }
 
 export function diag(

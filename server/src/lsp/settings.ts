@@ -21,3 +21,66 @@ export function sanitizeSettings(raw: unknown): PoiseSettings {
     warnUnused: typeof r.warnUnused === 'boolean' ? r.warnUnused : DEFAULT_SETTINGS.warnUnused,
   };
 }
+
+/** How long to wait for workspace/configuration before using the defaults. */
+const CONFIG_TIMEOUT_MS = 3000;
+
+function withTimeout<T>(p: Promise<T>, fallback: () => T): Promise<T> {
+  return new Promise<T>((resolve) => {
+    const timer = setTimeout(() => resolve(fallback()), CONFIG_TIMEOUT_MS);
+    p.then(
+      (v) => { clearTimeout(timer); resolve(v); },
+      () => { clearTimeout(timer); resolve(fallback()); },
+    );
+  });
+}
+
+/**
+ * The settings of each document: pulled with workspace/configuration when the client supports it (one
+ * pull per document until the settings change), else the ones the client pushed, else the defaults.
+ */
+export class SettingsStore {
+  /** Whether the client answers workspace/configuration. */
+  pull = false;
+  private global: PoiseSettings = { ...DEFAULT_SETTINGS };
+  private readonly pending = new Map<string, Promise<PoiseSettings>>();
+  private readonly resolved = new Map<string, PoiseSettings>();
+  /** Bumped when the settings change, so that answers to older pulls are not cached. */
+  private epoch = 0;
+
+  constructor(private readonly fetch: (scope: { scopeUri?: string; section: string }) => Promise<unknown>) {}
+
+  /** The document's settings (pulled once per document and settings change). */
+  for(uri: string): Promise<PoiseSettings> {
+    if (!this.pull) return Promise.resolve(this.global);
+    let p = this.pending.get(uri);
+    if (!p) {
+      const epoch = this.epoch;
+      p = withTimeout(this.fetch({ scopeUri: uri, section: 'poise' }).then(sanitizeSettings), () => this.global).then((s) => {
+        if (epoch === this.epoch) this.resolved.set(uri, s); // not when the settings changed meanwhile
+        return s;
+      });
+      this.pending.set(uri, p);
+    }
+    return p;
+  }
+
+  /** Settings without waiting: the last ones pulled for the document, else the global ones. */
+  now(uri: string): PoiseSettings {
+    return this.resolved.get(uri) ?? this.global;
+  }
+
+  /** The settings changed: `pushed` is what the client sent with the change, if anything. */
+  async changed(pushed?: unknown): Promise<void> {
+    if (pushed !== undefined) this.global = sanitizeSettings(pushed);
+    this.epoch++;
+    this.pending.clear();
+    this.resolved.clear();
+    if (this.pull) this.global = await withTimeout(this.fetch({ section: 'poise' }).then(sanitizeSettings), () => this.global);
+  }
+
+  forget(uri: string): void {
+    this.pending.delete(uri);
+    this.resolved.delete(uri);
+  }
+}

@@ -3,6 +3,7 @@
  * reportHtml.ts, and the sweep page, sweepReport.ts): the one home of the chart code, the style sheet and
  * the cursor script, so both pages look alike. Pure: returns strings.
  */
+import { cspHash } from './sha256';
 import { formatNumber } from '../algebra/expr';
 import { maxOf } from '../arrays';
 
@@ -490,6 +491,9 @@ var l=+d.l,rr=+d.r,t=+d.t,b=+d.b;if(x<l||x>rr||y<t||y>b){ro.textContent='';retur
 var xv=inv(d.xk,+d.x0,+d.x1,+d.xc,(x-l)/(rr-l)),yv=inv(d.yk,+d.y0,+d.y1,+d.yc,(b-y)/(b-t));ro.textContent=fmt(xv)+', '+fmt(yv)});
 s.addEventListener('mouseleave',function(){ro.textContent=''})})(plots[i])})();`;
 
+/** The content-security-policy source of SCRIPT (its SHA-256), for standalone pages. */
+export const SCRIPT_HASH = cspHash(SCRIPT);
+
 export interface PageOptions {
   /** Text of the <title>. */
   title: string;
@@ -514,9 +518,11 @@ export interface PageOptions {
 /** A complete standalone page: content security policy that allows nothing from outside, the shared CSS and cursor script. */
 export function htmlPage(o: PageOptions): string {
   const nonce = o.nonce;
+  const style = `${CSS}${o.css ?? ''}`;
+  // standalone: the one style sheet and the one script are allowed by their hashes, nothing else inline
   const csp = nonce
     ? `default-src 'none'; img-src ${o.cspSource ?? ''} data:; style-src ${o.cspSource ?? ''} 'nonce-${nonce}'; script-src 'nonce-${nonce}'; font-src ${o.cspSource ?? ''}; base-uri 'none'; form-action 'none'`
-    : "default-src 'none'; img-src data:; style-src 'unsafe-inline'; script-src 'unsafe-inline'; base-uri 'none'; form-action 'none'";
+    : `default-src 'none'; img-src data:; style-src ${cspHash(style)}; script-src ${SCRIPT_HASH}; base-uri 'none'; form-action 'none'`;
   const na = nonce ? ` nonce="${esc(nonce)}"` : '';
   return `<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">
@@ -524,7 +530,7 @@ export function htmlPage(o: PageOptions): string {
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <meta name="generator" content="Poise">
 <title>${esc(o.title)}</title>
-<style${na}>${CSS}${o.css ?? ''}</style></head>
+<style${na}>${style}</style></head>
 <body><main>
 <header class="top"><h1>${o.heading}</h1>${o.headerExtra ?? ''}</header>
 ${o.nav ? `<nav aria-label="sections">${o.nav}</nav>` : ''}

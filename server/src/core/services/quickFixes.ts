@@ -12,6 +12,7 @@ import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
 import { BUILTIN_ARITY } from '../algebra/expr';
 import type { Span } from '../text';
+import { catalogueText } from '../diagnostics';
 import { eol, type TextEdit } from './edits';
 import { linearizeEdit } from './linearBlock';
 import { blockIndent } from './solve';
@@ -46,7 +47,7 @@ export function quickFixes(a: Analysis, diagnostics: readonly DiagnosticRef[], d
       case 'P601': {
         const point = typeof data.point === 'string' ? data.point : undefined;
         const r = point ? linearizeEdit(a, point, digits) : undefined;
-        if (r && r.ok) out.push({ title: 'Regenerate linear block', edits: [r.edit], isPreferred: true, diagnostic: d });
+        if (r && r.ok) out.push({ title: catalogueText('P701'), edits: [r.edit], isPreferred: true, diagnostic: d });
         break;
       }
     }
@@ -59,10 +60,10 @@ function unknownName(a: Analysis, d: DiagnosticRef, data: Record<string, unknown
   if (!name) return [];
   const out: QuickFix[] = [];
   if (data.call) {
-    for (const fn of similar(name, Object.keys(BUILTIN_ARITY))) out.push({ title: `Change to ${fn}`, edits: [{ span: d.span, newText: fn }], diagnostic: d });
+    for (const fn of similar(name, Object.keys(BUILTIN_ARITY))) out.push({ title: catalogueText('P702', { name: fn }), edits: [{ span: d.span, newText: fn }], diagnostic: d });
     return out;
   }
-  for (const s of similar(name, [...a.bound.symbols.keys()])) out.push({ title: `Change to ${s}`, edits: [{ span: d.span, newText: s }], isPreferred: true, diagnostic: d });
+  for (const s of similar(name, [...a.bound.symbols.keys()])) out.push({ title: catalogueText('P702', { name: s }), edits: [{ span: d.span, newText: s }], isPreferred: true, diagnostic: d });
   const primes = typeof data.primes === 'number' ? data.primes : 0;
   const kinds: DeclKind[] = primes > 0 ? ['state'] : ['var', 'state', 'input', 'const'];
   // the unit the name needs where it is used (e.g. the unit of the other terms of its sum)
@@ -71,7 +72,7 @@ function unknownName(a: Analysis, d: DiagnosticRef, data: Record<string, unknown
   const bracket = unit ? ` [${unit}]` : '';
   kinds.forEach((k, i) => {
     const line = k === 'const' ? `const ${name} = 1${bracket}  # set its value` : `${k} ${name}${bracket}`;
-    out.push({ title: `Declare "${name}" as ${k}`, edits: [declarationEdit(a, k, line)], isPreferred: out.length === 0 && i === 0 && primes > 0, diagnostic: d });
+    out.push({ title: catalogueText('P703', { name, kind: k }), edits: [declarationEdit(a, k, line)], isPreferred: out.length === 0 && i === 0 && primes > 0, diagnostic: d });
   });
   return out;
 }
@@ -113,19 +114,19 @@ function unbalancedPoint(a: Analysis, d: DiagnosticRef, data: Record<string, unk
     const need = Math.max(1, unk - eqs);
     for (const n of missing.slice(0, 6)) {
       const e = fixEdit(a, block, n);
-      if (e) out.push({ title: `Fix ${n} with "=" in point ${point}`, edits: [e], diagnostic: d, isPreferred: need === 1 && out.length === 0 });
+      if (e) out.push({ title: catalogueText('P704', { names: n, point }), edits: [e], diagnostic: d, isPreferred: need === 1 && out.length === 0 });
     }
     if (need > 1 && missing.length >= need) {
       const chosen = missing.slice(0, need);
       const edits = fixEdits(a, block, chosen);
-      if (edits.length) out.unshift({ title: `Fix ${chosen.join(', ')} with "=" in point ${point}`, edits, diagnostic: d, isPreferred: true });
+      if (edits.length) out.unshift({ title: catalogueText('P704', { names: chosen.join(', '), point }), edits, diagnostic: d, isPreferred: true });
     }
   }
   if (free.length && eqs > unk) {
     for (const n of free.slice(0, 6)) {
       const l = block.lines.find((x) => x.name.name === n && x.mode === 'fixed');
       const op = l && opSpan(a, l);
-      if (op) out.push({ title: `Free ${n} (write "~") in point ${point}`, edits: [{ span: op, newText: '~' }], diagnostic: d, isPreferred: eqs - unk === 1 && out.length === 0 });
+      if (op) out.push({ title: catalogueText('P705', { name: n, point }), edits: [{ span: op, newText: '~' }], diagnostic: d, isPreferred: eqs - unk === 1 && out.length === 0 });
     }
   }
   return out;
