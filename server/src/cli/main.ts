@@ -6,7 +6,7 @@ import * as fs from 'fs';
 import * as path from 'path';
 import { analyze, located, type Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
-import { EXPORT_FORMATS, exportLinearModel, type ExportFormat } from '../core/present/exports';
+import { EXPORT_FORMATS, exportChunks, SPARSE_FORMATS, type ExportFormat } from '../core/present/exports';
 import { formatLinearText, formatValues } from '../core/present/format';
 import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
@@ -27,9 +27,10 @@ export const USAGE = `Usage: poise <command> [options]
 Commands:
   check FILE...                       report problems (path:line:col: severity CODE: message); exit 1 on any error
   solve FILE [--point NAME]           solve the operating point and print every variable with its unit
-  linearize FILE [--point NAME] [--format text|json|csv|markdown|latex|numpy] [--digits N] [--symbolic]
+  linearize FILE [--point NAME] [--format text|json|csv|markdown|latex|numpy] [--digits N] [--symbolic] [--sparse]
                                       print the deviation equations and A, B, C, D at the point
-                                      (--symbolic: coefficients as formulas in the constants and point values)
+                                      (--symbolic: coefficients as formulas in the constants and point values;
+                                      --sparse: only the non-zero entries, with json, csv or numpy)
   report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE] [--format text|json]
                                       dynamics at the point: poles, gains, responses, validity range
   sweep FILE --point NAME --vary NAME=FROM:TO:N [--log] [--format text|json|csv] [--html OUT.html]
@@ -53,7 +54,7 @@ export function parseArgs(argv: string[]): Parsed {
   const [cmd = '', ...rest] = argv;
   const files: string[] = [];
   const opts = new Map<string, string | true>();
-  const flags = new Set(['--log', '--stdio', '--help', '-h', '--symbolic', '--node-ipc']);
+  const flags = new Set(['--log', '--stdio', '--help', '-h', '--symbolic', '--node-ipc', '--sparse']);
   for (let i = 0; i < rest.length; i++) {
     const a = rest[i];
     if (a.startsWith('--') || a === '-h') {
@@ -166,6 +167,8 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         const file = oneFile(p);
         const format = opt(p, '--format') ?? 'text';
         if (!['text', ...EXPORT_FORMATS].includes(format)) throw new UsageError(`unknown format "${format}": use text, ${EXPORT_FORMATS.join(', ')}`);
+        const sparse = p.opts.has('--sparse');
+        if (sparse && !SPARSE_FORMATS.includes(format as ExportFormat)) throw new UsageError(`--sparse needs --format ${SPARSE_FORMATS.join(', ')}`);
         const digits = Number(opt(p, '--digits') ?? (format === 'json' ? 17 : 5));
         const r = prepare(file, opt(p, '--point'), io);
         if (!r) return 1;
@@ -176,10 +179,14 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         }
         const sol = r.a.point(r.point)!;
         const values = r.a.values(sol);
-        const eqs = r.a.deviationEquations(r.point, format === 'json' ? 6 : digits)!;
-        if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, opt(p, '--digits') === undefined ? undefined : digits));
-        else if (format !== 'text') io.out(exportLinearModel(lin, values, format as ExportFormat, { digits: opt(p, '--digits') === undefined ? undefined : digits }));
-        else io.out(formatLinearText(r.a, lin, values, eqs, digits));
+        const digitsOpt = opt(p, '--digits') === undefined ? undefined : digits;
+        if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, digitsOpt));
+        else if (format === 'text') io.out(formatLinearText(r.a, lin, values, r.a.deviationEquations(r.point, digits)!, digits));
+        else {
+          // written as it is produced: pieces of whole lines, never one string of the whole model
+          const equations = format === 'json' ? r.a.deviationEquations(r.point, 6) : undefined;
+          for (const chunk of exportChunks(lin, values, format as ExportFormat, { digits: digitsOpt, sparse, equations })) io.out(chunk);
+        }
         return 0;
       }
       case 'lsp':
