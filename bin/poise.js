@@ -38,8 +38,11 @@ function loadCli() {
   return m.exports;
 }
 
-if (args[0] === 'lsp') {
-  // the language server (it reads --stdio / --node-ipc from the command line); kept out of the CLI bundle
+// the language server reads --stdio / --node-ipc from the command line; it is kept out of the CLI bundle.
+// Without a transport, or with --help or an option it does not know, the CLI answers instead (a message,
+// not a stack trace from the protocol library).
+const lspOptions = (a) => a === '--stdio' || a === '--node-ipc' || /^--clientProcessId(=\d+)?$/.test(a) || /^\d+$/.test(a);
+if (args[0] === 'lsp' && args.slice(1).some((a) => a === '--stdio' || a === '--node-ipc') && args.slice(1).every(lspOptions)) {
   require(fs.existsSync(dist('server.js')) ? dist('server.js') : '../out/server/src/lsp/main.js');
 } else {
   const cli = loadCli();

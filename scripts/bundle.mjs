@@ -4,7 +4,7 @@
 // Environment: POISE_SERVER_ENTRY overrides the server entry (for trying the bundle before the server
 // exists), POISE_SOURCEMAP=1 adds linked source maps, POISE_MINIFY=1 minifies.
 import { build } from 'esbuild';
-import { existsSync, rmSync } from 'node:fs';
+import { existsSync, readFileSync, rmSync } from 'node:fs';
 import { spawnSync } from 'node:child_process';
 import { dirname, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -12,6 +12,8 @@ import { fileURLToPath } from 'node:url';
 const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 const clientEntry = resolve(root, 'client/src/extension.ts');
 const serverEntry = resolve(root, process.env.POISE_SERVER_ENTRY || 'server/src/lsp/main.ts');
+// `poise --version` of the bundle: the version is written into it here (the bundle has no package.json beside it)
+const version = JSON.parse(readFileSync(resolve(root, 'package.json'), 'utf8')).version;
 
 const common = {
   bundle: true,
@@ -28,7 +30,8 @@ const common = {
 
 async function bundle(name, entry, outfile, external) {
   const started = Date.now();
-  const result = await build({ ...common, entryPoints: [entry], outfile: resolve(root, outfile), external, metafile: true });
+  const define = { POISE_VERSION: JSON.stringify(version) };
+  const result = await build({ ...common, entryPoints: [entry], outfile: resolve(root, outfile), external, metafile: true, define });
   const bytes = Object.values(result.metafile.outputs).reduce((n, o) => n + o.bytes, 0);
   console.log(`bundle: ${name} -> ${outfile} (${(bytes / 1024).toFixed(0)} KB, ${Date.now() - started} ms)`);
 }

@@ -42,9 +42,10 @@ const examples = fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).so
 const ex = (f: string) => path.join(EXAMPLES, f);
 
 describe('poise check', () => {
-  it('prints nothing and exits 0 for clean files', async () => {
+  it('says "FILE: ok" for each clean file (nothing with --quiet) and exits 0', async () => {
     const r = await run('check', ...examples.map(ex));
-    expect(r).toEqual({ code: 0, out: '', err: '' });
+    expect(r).toEqual({ code: 0, out: examples.map((f) => `${ex(f)}: ok\n`).join(''), err: '' });
+    expect(await run('check', '--quiet', ...examples.map(ex))).toEqual({ code: 0, out: '', err: '' });
   });
 
   it('prints path:line:col: severity CODE: message for each problem, exit 1 on errors', async () => {
@@ -79,7 +80,7 @@ describe('poise check', () => {
     `);
     const r = await run('check', f, ex('buffer_tank.poise'));
     expect(r.code).toBe(0);
-    expect(r.out.trimEnd().split('\n')).toEqual([`${f}:1:7: warning P203: Constant "spare" is declared but never used: use it in an equation or remove it.`]);
+    expect(r.out.trimEnd().split('\n')).toEqual([`${f}:1:7: warning P203: Constant "spare" is declared but never used: use it in an equation or remove it.`, `${ex('buffer_tank.poise')}: ok`]);
   });
 
   it('reports point problems (found by solving) too', async () => {
@@ -127,7 +128,7 @@ describe('errors: one clear line on stderr, non-zero exit, no stack trace', () =
     ['unknown point', () => ['solve', ex('buffer_tank.poise'), '--point', 'wet'], /no point named "wet".*"dry_day", "cloudburst"/],
     ['several points without --point', () => ['linearize', ex('buffer_tank.poise')], /2 points \(dry_day, cloudburst\); choose one with --point/],
     ['unknown command', () => ['frobnicate', ex('buffer_tank.poise')], /unknown command "frobnicate"/],
-    ['unknown format', () => ['linearize', ex('gantry_crane.poise'), '--format', 'yaml'], /unknown format "yaml"/],
+    ['unknown format', () => ['linearize', ex('gantry_crane.poise'), '--format', 'yaml'], /--format of "poise linearize" takes text, json, .* or numpy, not "yaml"/],
     ['option without value', () => ['solve', ex('buffer_tank.poise'), '--point'], /--point needs a value/],
     ['no file', () => ['solve'], /takes one model file/],
   ];

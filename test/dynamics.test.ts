@@ -1,5 +1,5 @@
 /**
- * Dynamics at a point (server/src/core/analysis/dynamics.ts): modes, stability, gains, transfer functions, zeros,
+ * Dynamics at a point (server/src/core/analysis/dynamics/): modes, stability, gains, transfer functions, zeros,
  * controllability/observability and frequency responses, checked against textbook closed forms, an
  * independent Routh–Hurwitz array, the shared reference eigenvalues, and independent solves with ml-matrix.
  */

@@ -21,7 +21,8 @@ import * as path from 'path';
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../server/src/core/pipeline/analysis';
 import { linearEigen } from '../server/src/core/present/format';
-import { declaredSweeps, runSweep, sweepCsv, sweepJson, sweepRequest, sweepValues, type SweepResult } from '../server/src/core/analysis/sweep';
+import { declaredSweeps, runSweep, sweepCsv, sweepJson, sweepValues, type SweepResult } from '../server/src/core/analysis/sweep';
+import { varyRequest } from '../server/src/cli/vary';
 import { main, type Io } from '../server/src/cli/main';
 import { sweepHtml } from '../server/src/core/present/sweepReport';
 import { EXAMPLES, scratchDir } from './helpers/cli';
@@ -253,16 +254,26 @@ describe('declared sweeps and requests', () => {
     expect(empty.map((x) => x.code)).toEqual(['P602']);
   });
 
-  it('reads command-line ranges with units', () => {
+  it('reads command-line ranges in the words of a declared sweep, with units', () => {
     const a = analyze(base);
-    const r = sweepRequest(a, 'nominal', 'feed=5[L/s]:0.03:6');
+    const r = varyRequest(a, 'nominal', 'feed = 5 [L/s] to 0.03 steps 6');
     expectClose(r.spec!.from, 0.005, 1e-12, 0, '5 L/s'); // 1 L = 0.001 m^3 (SI Brochure)
     expect(r.spec!.to).toBe(0.03);
     expect(r.spec!.steps).toBe(6);
-    expect(sweepRequest(a, 'nominal', 'feed=5[kg]:0.03:6').error).toMatch(/does not convert/);
-    expect(sweepRequest(a, 'nominal', 'level=1:2:3').error).toMatch(/level/);
-    expect(sweepRequest(a, 'nominal', 'feed=0:1:3', true).error).toMatch(/above zero/);
-    expect(sweepRequest(a, 'nominal', 'feed=1:2').error).toMatch(/NAME=FROM:TO:N/);
+    expect(r.spec!.log).toBe(false);
+    // the same range written as a sweep block in the model resolves to the same spec (independent route)
+    const declared = declaredSweeps(analyze(base + 'sweep s from nominal:\n  vary feed = 5 [L/s] to 0.03 steps 6\n'))[0].spec!;
+    expect({ ...r.spec, name: 's' }).toEqual(declared);
+    expect(varyRequest(a, 'nominal', 'vary feed = 0.01 to 0.03 steps 4 log').spec!.log).toBe(true);
+    expect(varyRequest(a, 'nominal', 'feed = 5 [kg] to 0.03 steps 6').error).toMatch(/P308|convert|unit/i);
+    expect(varyRequest(a, 'nominal', 'level = 1 to 2 steps 3').error).toMatch(/level/);
+    expect(varyRequest(a, 'nominal', 'feed = 0 to 1 steps 3 log').error).toMatch(/above zero/);
+    expect(varyRequest(a, 'nominal', 'feed = 1 to 2').error).toMatch(/NAME = FROM to TO steps N/);
+    expect(varyRequest(a, 'nominal', 'nosuch = 1 to 2 steps 3').error).toMatch(/nosuch/);
+    // the colon triple is refused: its parts mean different things in different tools
+    const colon = varyRequest(a, 'nominal', 'feed=1:2:3');
+    expect(colon.spec).toBeUndefined();
+    expect(colon.error).toMatch(/--vary "feed = FROM to TO steps N"/);
   });
 });
 
@@ -279,12 +290,12 @@ describe('poise sweep', () => {
 
   it('runs --vary with units and writes CSV; refuses bad requests', async () => {
     const io = capture();
-    expect(await main(['sweep', beltFile, '--point', 'fast', '--vary', 'belt=1500[mm/s]:2:5', '--format', 'csv'], io)).toBe(0);
+    expect(await main(['sweep', beltFile, '--point', 'fast', '--vary', 'belt = 1500 [mm/s] to 2 steps 5', '--format', 'csv'], io)).toBe(0);
     const lines = io.stdout.trim().split('\n');
     expect(lines.length).toBe(7);
     expect(Number(lines[1].split(',')[0])).toBe(1.5); // 1500 mm/s = 1.5 m/s
     const bad = capture();
-    expect(await main(['sweep', beltFile, '--point', 'fast', '--vary', 'slip=1:2:3'], bad)).toBe(2);
+    expect(await main(['sweep', beltFile, '--point', 'fast', '--vary', 'slip = 1 to 2 steps 3'], bad)).toBe(2);
     expect(bad.stderr).toMatch(/slip/);
     const none = capture();
     expect(await main(['sweep', beltFile, '--sweep', 'nothing'], none)).toBe(1);

@@ -6,11 +6,13 @@ import * as fs from 'fs';
 import * as path from 'path';
 import { analyze, located, type Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
-import { EXPORT_FORMATS, exportChunks, SPARSE_FORMATS, type ExportFormat } from '../core/present/exports';
+import { exportChunks, SPARSE_FORMATS, type ExportFormat } from '../core/present/exports';
 import { formatLinearText, formatValues } from '../core/present/format';
 import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
 import { reportCommand } from './report';
+import { commandHelp, commandSpec, generalHelp, nearest as nearestWord, parseCommandLine, UsageError, type Parsed } from './options';
+import { diagnosticJson, type DiagnosticJson } from './diagnosticJson';
 
 export interface Io {
   out(s: string): void;
@@ -22,55 +24,15 @@ const stdio: Io = {
   err: (s) => process.stderr.write(s.endsWith('\n') ? s : s + '\n'),
 };
 
-export const USAGE = `Usage: poise <command> [options]
+export { USAGE_TEXT as USAGE };
+const USAGE_TEXT = generalHelp();
 
-Commands:
-  check FILE...                       report problems (path:line:col: severity CODE: message); exit 1 on any error
-  solve FILE [--point NAME]           solve the operating point and print every variable with its unit
-  linearize FILE [--point NAME] [--format text|json|csv|markdown|latex|numpy] [--digits N] [--symbolic] [--sparse]
-                                      print the deviation equations and A, B, C, D at the point
-                                      (--symbolic: coefficients as formulas in the constants and point values;
-                                      --sparse: only the non-zero entries, with json, csv or numpy)
-  report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE] [--format text|json]
-                                      dynamics at the point: poles, gains, responses, validity range
-  sweep FILE --point NAME --vary NAME=FROM:TO:N [--log] [--format text|json|csv] [--html OUT.html]
-  sweep FILE --sweep NAME             linear models across a range of operating points (N steps, N+1 values;
-                                      FROM and TO in the declared unit, or with a unit: 50[mm/s])
-  lsp --stdio                         run the language server over stdio (for any LSP editor)
+export type { Parsed };
+export { UsageError };
 
-Options:
-  --help, -h      this text
-  --version       print the version`;
-
-class UsageError extends Error {}
-
-export interface Parsed {
-  cmd: string;
-  files: string[];
-  opts: Map<string, string | true>;
-}
-
+/** Parses and validates the command line against the option tables (options.ts). */
 export function parseArgs(argv: string[]): Parsed {
-  const [cmd = '', ...rest] = argv;
-  const files: string[] = [];
-  const opts = new Map<string, string | true>();
-  const flags = new Set(['--log', '--stdio', '--help', '-h', '--symbolic', '--node-ipc', '--sparse']);
-  for (let i = 0; i < rest.length; i++) {
-    const a = rest[i];
-    if (a.startsWith('--') || a === '-h') {
-      const eq = a.indexOf('=');
-      if (eq > 0) opts.set(a.slice(0, eq), a.slice(eq + 1));
-      else if (flags.has(a) || a.startsWith('--clientProcessId')) opts.set(a, true);
-      else {
-        const v = rest[i + 1];
-        if (v === undefined) throw new UsageError(`option ${a} needs a value`);
-        // repeated options (e.g. --step) are joined with ';'
-        opts.set(a, opts.has(a) ? `${opts.get(a)};${v}` : v);
-        i++;
-      }
-    } else files.push(a);
-  }
-  return { cmd, files, opts };
+  return parseCommandLine(argv);
 }
 
 function readModel(file: string): string {
@@ -93,7 +55,11 @@ function sortDiags(ds: Diagnostic[]): Diagnostic[] {
 
 /** Loads, analyses and picks the point; prints errors and returns undefined when the job cannot go on. */
 function prepare(file: string, pointName: string | undefined, io: Io): { a: Analysis; point: string } | undefined {
-  const a = analyze(readModel(file));
+  return preparePoint(analyze(readModel(file)), file, pointName, io);
+}
+
+/** prepare() on an analysis already made. */
+function preparePoint(a: Analysis, file: string, pointName: string | undefined, io: Io): { a: Analysis; point: string } | undefined {
   const errors = a.diagnostics.filter((d) => d.severity === 'error');
   if (errors.length) {
     for (const d of sortDiags(errors)) io.err(formatDiagnostic(a, file, d));
@@ -126,76 +92,155 @@ function opt(p: Parsed, name: string): string | undefined {
   return v;
 }
 
+/** Every value of a repeatable option, in order. */
+function all(p: Parsed, name: string): string[] {
+  return p.lists.get(name) ?? [];
+}
+
+/** The --digits option (validated 1..17 by the option table) or the default. */
+function digitsOf(p: Parsed, fallback: number): number {
+  const d = opt(p, '--digits');
+  return d === undefined ? fallback : Number(d);
+}
+
 function oneFile(p: Parsed): string {
   if (p.files.length !== 1) throw new UsageError(`"poise ${p.cmd}" takes one model file${p.files.length ? `, not ${p.files.length}` : ''}`);
   return p.files[0];
 }
 
+function checkCommand(p: Parsed, io: Io): number {
+  const json = opt(p, '--format') === 'json';
+  const quiet = p.opts.has('--quiet');
+  let failed = false;
+  const files: { file: string; ok: boolean; error?: string; diagnostics: DiagnosticJson[] }[] = [];
+  for (const f of p.files) {
+    let text: string;
+    try {
+      text = readModel(f);
+    } catch (e) {
+      // an unreadable file does not stop the others; it makes the run fail
+      failed = true;
+      if (json) files.push({ file: f, ok: false, error: (e as Error).message, diagnostics: [] });
+      else io.err(`poise: ${(e as Error).message}`);
+      continue;
+    }
+    const a = analyze(text);
+    const ds = sortDiags(a.allDiagnostics());
+    const errors = ds.filter((d) => d.severity === 'error').length;
+    if (errors) failed = true;
+    if (json) files.push({ file: f, ok: errors === 0, diagnostics: ds.map((d) => diagnosticJson(a, f, d)) });
+    else {
+      for (const d of ds) io.out(formatDiagnostic(a, f, d));
+      if (!ds.length && !quiet) io.out(`${f}: ok`);
+    }
+  }
+  if (json) io.out(JSON.stringify({ schema: 'poise-check/1', ok: !failed, files }, null, 1));
+  return failed ? 1 : 0;
+}
+
+function solveCommand(p: Parsed, io: Io): number {
+  const file = oneFile(p);
+  const digits = digitsOf(p, 6);
+  if (opt(p, '--format') !== 'json') {
+    const r = prepare(file, opt(p, '--point'), io);
+    if (!r) return 1;
+    const sol = r.a.point(r.point)!;
+    io.out(`Point ${r.point}: solved in ${sol.iterations} Newton iteration(s)`);
+    io.out(formatValues(r.a.values(sol), digits));
+    return 0;
+  }
+  // json: the values, or the diagnostics with their ranges, on stdout; the exit code says which
+  const errs: string[] = [];
+  const sink: Io = { out: () => undefined, err: (s) => errs.push(s) };
+  const a = analyze(readModel(file));
+  const r = preparePoint(a, file, opt(p, '--point'), sink);
+  const sol = r ? a.point(r.point) : undefined;
+  const pointDiags = sol ? sol.diagnostics : opt(p, '--point') !== undefined || a.pointNames.length === 1 ? (a.point(opt(p, '--point') ?? a.pointNames[0])?.diagnostics ?? []) : [];
+  const diagnostics = sortDiags([...a.diagnostics, ...(a.diagnostics.some((d) => d.severity === 'error') ? [] : pointDiags)]).map((d) => diagnosticJson(a, file, d));
+  const values: Record<string, { value: number; unit: string; role: string }> = {};
+  if (r && sol) for (const v of r.a.values(sol)) if (v.kind !== 'const') values[v.name] = { value: Number(v.value.toPrecision(digits)), unit: v.unit, role: v.role };
+  const out = {
+    schema: 'poise-solve/1',
+    file,
+    ok: !!r,
+    point: r?.point ?? opt(p, '--point') ?? null,
+    iterations: sol?.iterations ?? null,
+    values,
+    diagnostics,
+    // problems that are not about a place in the file (no point, several points, an unknown point name)
+    messages: r ? [] : errs.filter((m) => !diagnostics.some((d) => m.endsWith(d.message))),
+  };
+  io.out(JSON.stringify(out, null, 1));
+  return r ? 0 : 1;
+}
+
+function linearizeCommand(p: Parsed, io: Io): number {
+  const file = oneFile(p);
+  const format = opt(p, '--format') ?? 'text';
+  const sparse = p.opts.has('--sparse');
+  if (sparse && !SPARSE_FORMATS.includes(format as ExportFormat)) throw new UsageError(`--sparse needs --format ${SPARSE_FORMATS.join(', ')}`);
+  const digits = digitsOf(p, format === 'json' ? 17 : 5);
+  const r = prepare(file, opt(p, '--point'), io);
+  if (!r) return 1;
+  const lin = r.a.linear(r.point);
+  if (!lin || !lin.ok) {
+    for (const d of lin?.diagnostics ?? []) io.err(formatDiagnostic(r.a, file, d));
+    return 1;
+  }
+  const sol = r.a.point(r.point)!;
+  const values = r.a.values(sol);
+  const digitsOpt = opt(p, '--digits') === undefined ? undefined : digits;
+  if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, digitsOpt));
+  else if (format === 'text') io.out(formatLinearText(r.a, lin, values, r.a.deviationEquations(r.point, digits)!, digits));
+  else {
+    // written as it is produced: pieces of whole lines, never one string of the whole model; the
+    // deviation equations (JSON only) computed once
+    const equations = format === 'json' ? r.a.deviationEquations(r.point, 6) : undefined;
+    for (const chunk of exportChunks(lin, values, format as ExportFormat, { digits: digitsOpt, sparse, equations })) io.out(chunk);
+  }
+  return 0;
+}
+
 export async function main(argv: string[], io: Io = stdio): Promise<number> {
   try {
-    const p = parseArgs(argv);
-    if (!p.cmd || p.cmd === 'help' || p.opts.has('--help') || p.opts.has('-h') || p.cmd === '--help' || p.cmd === '-h') {
-      io.out(USAGE);
-      return p.cmd ? 0 : 2;
+    const [first] = argv;
+    if (first === undefined || first === 'help' || first === '--help' || first === '-h') {
+      const topic = first === 'help' ? commandSpec(argv[1] ?? '') : undefined;
+      io.out(topic ? commandHelp(topic) : USAGE_TEXT);
+      return first === undefined ? 2 : 0;
     }
-    if (p.cmd === '--version') {
+    if (first === '--version' || first === '-v') {
       io.out(version());
       return 0;
     }
+    const spec = commandSpec(first);
+    if (!spec) {
+      if (first.startsWith('-')) throw new UsageError(`"${first}" is not a command; give the command first (run "poise --help")`);
+      const near = nearestCommand(first);
+      throw new UsageError(`unknown command "${first}"${near ? `; did you mean "${near}"?` : ''} (run "poise --help")`);
+    }
+    const p = parseCommandLine(argv);
+    if (p.opts.has('--help')) {
+      io.out(commandHelp(spec));
+      return 0;
+    }
     switch (p.cmd) {
-      case 'check': {
-        if (!p.files.length) throw new UsageError('"poise check" needs at least one model file');
-        let errors = 0;
-        for (const f of p.files) {
-          const a = analyze(readModel(f));
-          const ds = sortDiags(a.allDiagnostics());
-          for (const d of ds) io.out(formatDiagnostic(a, f, d));
-          errors += ds.filter((d) => d.severity === 'error').length;
-        }
-        return errors ? 1 : 0;
-      }
-      case 'solve': {
-        const file = oneFile(p);
-        const r = prepare(file, opt(p, '--point'), io);
-        if (!r) return 1;
-        const sol = r.a.point(r.point)!;
-        io.out(`Point ${r.point}: solved in ${sol.iterations} Newton iteration(s)`);
-        io.out(formatValues(r.a.values(sol), Number(opt(p, '--digits') ?? 6)));
-        return 0;
-      }
-      case 'linearize': {
-        const file = oneFile(p);
-        const format = opt(p, '--format') ?? 'text';
-        if (!['text', ...EXPORT_FORMATS].includes(format)) throw new UsageError(`unknown format "${format}": use text, ${EXPORT_FORMATS.join(', ')}`);
-        const sparse = p.opts.has('--sparse');
-        if (sparse && !SPARSE_FORMATS.includes(format as ExportFormat)) throw new UsageError(`--sparse needs --format ${SPARSE_FORMATS.join(', ')}`);
-        const digits = Number(opt(p, '--digits') ?? (format === 'json' ? 17 : 5));
-        const r = prepare(file, opt(p, '--point'), io);
-        if (!r) return 1;
-        const lin = r.a.linear(r.point);
-        if (!lin || !lin.ok) {
-          for (const d of lin?.diagnostics ?? []) io.err(formatDiagnostic(r.a, file, d));
-          return 1;
-        }
-        const sol = r.a.point(r.point)!;
-        const values = r.a.values(sol);
-        const digitsOpt = opt(p, '--digits') === undefined ? undefined : digits;
-        if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, digitsOpt));
-        else if (format === 'text') io.out(formatLinearText(r.a, lin, values, r.a.deviationEquations(r.point, digits)!, digits));
-        else {
-          // written as it is produced: pieces of whole lines, never one string of the whole model
-          const equations = format === 'json' ? r.a.deviationEquations(r.point, 6) : undefined;
-          for (const chunk of exportChunks(lin, values, format as ExportFormat, { digits: digitsOpt, sparse, equations })) io.out(chunk);
-        }
-        return 0;
-      }
+      case 'check':
+        return checkCommand(p, io);
+      case 'solve':
+        return solveCommand(p, io);
+      case 'linearize':
+        return linearizeCommand(p, io);
       case 'lsp':
         // bin/poise.js starts the language server itself (a separate bundle, so that the other commands
-        // do not load the protocol libraries)
-        throw new UsageError('start the language server with "poise lsp --stdio" (bin/poise.js)');
+        // do not load the protocol libraries) when a transport is given
+        if (!p.opts.has('--stdio') && !p.opts.has('--node-ipc')) {
+          throw new UsageError('"poise lsp" needs a transport: run "poise lsp --stdio" from your editor\'s language-client settings (see "poise lsp --help")');
+        }
+        throw new UsageError('the language server is started by the poise command itself: run "poise lsp --stdio"');
       default: {
         const ext = extraCommands[p.cmd];
-        if (ext) return await ext(p, io, { readModel, prepare, opt, oneFile, UsageError });
+        if (ext) return await ext(p, io, { readModel, prepare, opt, all, digitsOf, oneFile, UsageError });
         throw new UsageError(`unknown command "${p.cmd}"; run "poise --help"`);
       }
     }
@@ -208,10 +253,17 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
   }
 }
 
+function nearestCommand(word: string): string | undefined {
+  const names = ['check', 'solve', 'linearize', 'report', 'sweep', 'lsp', 'help'];
+  return names.find((n) => n.startsWith(word) && word.length >= 2) ?? nearestWord(word, names);
+}
+
 export interface CliHelpers {
   readModel: typeof readModel;
   prepare: typeof prepare;
   opt: typeof opt;
+  all: typeof all;
+  digitsOf: typeof digitsOf;
   oneFile: typeof oneFile;
   UsageError: typeof UsageError;
 }
@@ -221,11 +273,17 @@ export const extraCommands: Record<string, (p: Parsed, io: Io, h: CliHelpers) =>
 extraCommands.sweep = sweepCommand;
 extraCommands.report = reportCommand;
 
-function version(): string {
-  try {
-    const pkg = JSON.parse(fs.readFileSync(path.join(__dirname, '..', '..', '..', '..', 'package.json'), 'utf8')) as { version: string };
-    return pkg.version;
-  } catch {
-    return 'unknown';
+/** The version: injected into the bundle at build time (scripts/bundle.mjs), else read from package.json. */
+declare const POISE_VERSION: string | undefined;
+export function version(): string {
+  if (typeof POISE_VERSION === 'string') return POISE_VERSION;
+  for (const up of [['..', '..', '..'], ['..', '..', '..', '..']]) {
+    try {
+      const pkg = JSON.parse(fs.readFileSync(path.join(__dirname, ...up, 'package.json'), 'utf8')) as { name?: string; version: string };
+      if (pkg.name === 'poise') return pkg.version;
+    } catch {
+      /* try the next place */
+    }
   }
+  return 'unknown';
 }

@@ -2,17 +2,18 @@
  * `poise report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE]... [--format text|json] [--tolerance PCT]`
  *
  * Prints the dynamics at the point (text summary or JSON) and, with --html, writes the standalone page.
- * SIZE is in the input's declared unit, or a percentage of its operating value with a trailing "%".
+ * SIZE is in the input's declared unit, a number with a unit in brackets (0.5[L/s]), or a percentage of
+ * its operating value with a trailing "%". The options are validated by the table in options.ts.
  */
 import * as fs from 'fs';
 import * as path from 'path';
 import { buildReport, formatReportText, renderReportHtml } from '../core/analysis/report';
 import type { CliHelpers, Io, Parsed } from './main';
+import { sizeInDeclaredUnit } from './quantity';
 
 export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
   const file = h.oneFile(p);
   const format = h.opt(p, '--format') ?? 'text';
-  if (!['text', 'json'].includes(format)) throw new h.UsageError(`unknown format "${format}": use text or json`);
   const tolText = h.opt(p, '--tolerance');
   let tolerance: number | undefined;
   if (tolText !== undefined) {
@@ -20,7 +21,7 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
     if (!Number.isFinite(v) || v <= 0 || v >= 100) throw new h.UsageError(`--tolerance takes a percentage between 0 and 100, not "${tolText}"`);
     tolerance = v / 100;
   }
-  const stepSpecs = (h.opt(p, '--step') ?? '').split(';').filter((s) => s.trim());
+  const stepSpecs = h.all(p, '--step');
   const htmlOut = h.opt(p, '--html');
   const r = h.prepare(file, h.opt(p, '--point'), io);
   if (!r) return 1;
@@ -32,7 +33,7 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   }
   const sol = r.a.point(r.point)!;
   const values = new Map(r.a.values(sol).map((v) => [v.name, v]));
-  const steps: Record<string, number> = {};
+  const steps: Record<string, number> = Object.create(null) as Record<string, number>; // input names are the keys
   for (const spec of stepSpecs) {
     const eq = spec.indexOf('=');
     if (eq <= 0) throw new h.UsageError(`--step takes INPUT=SIZE, not "${spec}"`);
@@ -46,8 +47,12 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
       const pct = Number(sizeText.slice(0, -1));
       const op = values.get(name)?.value ?? 0;
       size = (pct / 100) * (op !== 0 ? Math.abs(op) : 1);
-    } else size = Number(sizeText);
-    if (!Number.isFinite(size) || size === 0) throw new h.UsageError(`--step ${name}: "${sizeText}" is not a non-zero number (a value in the input's unit, or a percentage like 5%)`);
+    } else {
+      const v = sizeInDeclaredUnit(r.a, name, sizeText);
+      if (typeof v === 'string') throw new h.UsageError(`--step ${name}: ${v}`);
+      size = v;
+    }
+    if (!Number.isFinite(size) || size === 0) throw new h.UsageError(`--step ${name}: "${sizeText}" is not a non-zero number (a value in the input's unit, a value with a unit like 0.5[L/s], or a percentage like 5%)`);
     steps[name] = size;
   }
   const data = buildReport(r.a, r.point, { steps, tolerance, title: path.basename(file) });

@@ -1,19 +1,21 @@
 /**
  * `poise sweep`: linear models across a range of operating points.
  *
- *   poise sweep FILE --point NAME --vary NAME=FROM:TO:N [--log] [--format text|json|csv] [--html OUT.html] [--digits N]
+ *   poise sweep FILE --point NAME --vary "NAME = FROM to TO steps N [log]" [--format text|json|csv] [--html OUT.html] [--digits N]
  *   poise sweep FILE --sweep NAME [...]        run a `sweep` block declared in the file
  *   poise sweep FILE                           run the file's only declared sweep
  *
- * FROM and TO are numbers in the declared unit of the varied name, or numbers with a unit in brackets
- * (e.g. 50[mm/s]); N is the number of steps (N + 1 values, both ends included).
+ * The --vary text is a `vary` line of the model language (read by its parser, see vary.ts): FROM and TO
+ * are in the declared unit of the varied name, or carry a unit (50 [mm/s]); N is the number of steps
+ * (N + 1 values, both ends included).
  */
 import * as fs from 'fs';
 import * as path from 'path';
 import { analyze, type Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
 import { sweepHtml } from '../core/present/sweepReport';
-import { declaredSweeps, formatSweepText, runSweep, sweepCsv, sweepJson, sweepRequest, type SweepSpec } from '../core/analysis/sweep';
+import { declaredSweeps, formatSweepText, runSweep, sweepCsv, sweepJson, type SweepSpec } from '../core/analysis/sweep';
+import { varyRequest } from './vary';
 import type { CliHelpers, Io, Parsed } from './main';
 
 function where(a: Analysis, file: string, d: Diagnostic): string {
@@ -24,15 +26,11 @@ function where(a: Analysis, file: string, d: Diagnostic): string {
 export async function sweepCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
   const file = h.oneFile(p);
   const format = h.opt(p, '--format') ?? 'text';
-  if (!['text', 'json', 'csv'].includes(format)) throw new h.UsageError(`unknown format "${format}": use text, json or csv`);
-  const digitsOpt = h.opt(p, '--digits');
-  const digits = digitsOpt === undefined ? 5 : Number(digitsOpt);
-  if (!Number.isInteger(digits) || digits < 1 || digits > 17) throw new h.UsageError('--digits wants a whole number from 1 to 17');
+  const digits = h.digitsOf(p, 5);
   const html = h.opt(p, '--html');
   const vary = h.opt(p, '--vary');
   const sweepName = h.opt(p, '--sweep');
   if (vary !== undefined && sweepName !== undefined) throw new h.UsageError('give either --vary or --sweep, not both');
-  if (p.opts.has('--log') && vary === undefined) throw new h.UsageError('--log goes with --vary (a declared sweep says "log" itself)');
 
   // the declared sweep to run, if any: needs the model text first
   let point = h.opt(p, '--point');
@@ -48,7 +46,7 @@ export async function sweepCommand(p: Parsed, io: Io, h: CliHelpers): Promise<nu
         return 1;
       }
     } else if (all.length !== 1) {
-      throw new h.UsageError(all.length ? `${file} declares ${all.length} sweeps (${all.map((d) => d.block.name.name).join(', ')}); choose one with --sweep NAME` : '"poise sweep" needs --vary NAME=FROM:TO:N (or a sweep declared in the file)');
+      throw new h.UsageError(all.length ? `${file} declares ${all.length} sweeps (${all.map((d) => d.block.name.name).join(', ')}); choose one with --sweep NAME` : '"poise sweep" needs --vary "NAME = FROM to TO steps N" (or a sweep declared in the file)');
     }
     const errors = a0.diagnostics.filter((d) => d.severity === 'error');
     if (errors.length) {
@@ -69,7 +67,7 @@ export async function sweepCommand(p: Parsed, io: Io, h: CliHelpers): Promise<nu
   if (!r) return 1;
   let spec = declaredSpec;
   if (!spec) {
-    const req = sweepRequest(r.a, r.point, vary!, p.opts.has('--log'));
+    const req = varyRequest(r.a, r.point, vary!);
     if (!req.spec) throw new h.UsageError(req.error ?? 'cannot sweep');
     spec = req.spec;
   }

@@ -4,6 +4,7 @@
  * writes readable infix text. Nodes are immutable plain objects; `src` keeps the source span of the
  * model text they came from (for domain errors).
  */
+import { nameTable } from '../names';
 import type { Span } from '../text';
 
 export type Node = Num | Sym | Add | Mul | Pow | Fn;
@@ -20,12 +21,12 @@ export type FnName =
   /** pick(a, b, p, q) = a <= b ? p : q — derivative of min/max. */
   | 'pick';
 
-export const BUILTIN_ARITY: Record<Exclude<FnName, 'pick'>, number> = {
+export const BUILTIN_ARITY: Readonly<Record<Exclude<FnName, 'pick'>, number>> = nameTable({
   sqrt: 1, exp: 1, log: 1, log10: 1, sin: 1, cos: 1, tan: 1, asin: 1, acos: 1, atan: 1, atan2: 2,
   sinh: 1, cosh: 1, tanh: 1, abs: 1, sign: 1, min: 2, max: 2, hypot: 2,
-};
+});
 
-export const BUILTIN_DOC: Record<Exclude<FnName, 'pick'>, string> = {
+export const BUILTIN_DOC: Readonly<Record<Exclude<FnName, 'pick'>, string>> = nameTable({
   sqrt: 'square root; argument must be ≥ 0 (not differentiable at 0)',
   exp: 'exponential e^x; argument dimensionless',
   log: 'natural logarithm; argument dimensionless and > 0',
@@ -45,7 +46,7 @@ export const BUILTIN_DOC: Record<Exclude<FnName, 'pick'>, string> = {
   min: 'min(a, b): the smaller; a and b in the same unit (not differentiable where they tie)',
   max: 'max(a, b): the larger; a and b in the same unit (not differentiable where they tie)',
   hypot: 'hypot(a, b) = sqrt(a^2 + b^2); a and b in the same unit',
-};
+});
 
 export const num = (v: number, src?: Span): Num => (src ? { t: 'num', v, src } : { t: 'num', v });
 export const sym = (id: number, src?: Span): Sym => (src ? { t: 'sym', id, src } : { t: 'sym', id });
@@ -71,7 +72,12 @@ export function key(n: Node): string {
 }
 
 const hashCache = new WeakMap<Node, number>();
-const FN_CODE: Record<string, number> = {};
+const FN_CODE = new Map<string, number>();
+const fnCode = (f: string): number => {
+  let c = FN_CODE.get(f);
+  if (c === undefined) FN_CODE.set(f, (c = 16 + FN_CODE.size));
+  return c;
+};
 const f64 = new Float64Array(1);
 const i32 = new Int32Array(f64.buffer);
 const mix = (a: number, b: number) => (Math.imul(a ^ b, 0x9e3779b1) + 0x7f4a7c15) | 0;
@@ -87,7 +93,7 @@ export function hash(n: Node): number {
     case 'sym': h = mix(2, n.id); break;
     case 'pow': h = mix(mix(3, hash(n.base)), hash(n.exp)); break;
     default: {
-      let code = n.t === 'add' ? 4 : n.t === 'mul' ? 5 : (FN_CODE[n.fn] ??= 16 + Object.keys(FN_CODE).length);
+      let code = n.t === 'add' ? 4 : n.t === 'mul' ? 5 : fnCode(n.fn);
       for (const a of n.args) code = mix(code, hash(a));
       h = code;
     }
@@ -248,12 +254,12 @@ export function pow(base: Node, exp: Node, src?: Span): Node {
   return src ? { t: 'pow', base, exp, src } : { t: 'pow', base, exp };
 }
 
-const FOLD: Record<FnName, (...a: number[]) => number> = {
+const FOLD: Readonly<Record<FnName, (...a: number[]) => number>> = nameTable({
   sqrt: Math.sqrt, exp: Math.exp, log: Math.log, log10: Math.log10, sin: Math.sin, cos: Math.cos, tan: Math.tan,
   asin: Math.asin, acos: Math.acos, atan: Math.atan, atan2: Math.atan2, sinh: Math.sinh, cosh: Math.cosh,
   tanh: Math.tanh, abs: Math.abs, sign: Math.sign, min: Math.min, max: Math.max, hypot: Math.hypot,
-  pick: (a, b, p, q) => (a <= b ? p : q),
-};
+  pick: (a: number, b: number, p: number, q: number) => (a <= b ? p : q),
+});
 
 export function fn(name: FnName, args: Node[], src?: Span): Node {
   if (args.every((a) => a.t === 'num')) {

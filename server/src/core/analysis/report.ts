@@ -4,6 +4,7 @@
  * nonlinear step responses and the validity range of the linear model per input. `renderReportHtml`
  * (reportHtml.ts) turns it into one standalone page; `formatReportText` into a readable summary. Pure.
  */
+import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import {
   analyzeDynamics, frequencyGrid, frequencyResponse,
@@ -225,7 +226,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   for (let j = 0; j < m; j++) {
     const op = opValue(j);
     const basis = op !== 0 ? Math.abs(op) : 1;
-    const given = opts.steps?.[sys.inputs[j]];
+    const given = opts.steps && hasName(opts.steps, sys.inputs[j]) ? opts.steps[sys.inputs[j]] : undefined;
     const step = given !== undefined && Number.isFinite(given) && given !== 0 ? given : 0.1 * basis;
     const lr = unitResp(j, times);
     const du = new Float64Array(m);
@@ -312,7 +313,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
         return smp;
       };
       const valid = (x: ValiditySample) => x.status === 'ok' && x.error !== null && x.error <= tolerance;
-      const given = opts.steps?.[sys.inputs[j]];
+      const given = opts.steps && hasName(opts.steps, sys.inputs[j]) ? opts.steps[sys.inputs[j]] : undefined;
       const s0 = given !== undefined && Number.isFinite(given) && given !== 0 ? Math.abs(given) : 0.1 * basis;
       const cap = 10 * basis;
       const search = (sign: 1 | -1): ValidityLimit => {

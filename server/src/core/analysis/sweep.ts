@@ -261,50 +261,6 @@ export function sweepCandidates(a: Analysis, point: string): { name: string; kin
   return out;
 }
 
-// ---------------------------------------------------------------- command-line requests
-
-/** Parses "12", "-3.5e-2", "50 [mm/s]" or "50[mm/s]": a number and an optional bracketed unit. */
-export function parseQuantity(text: string): { value: number; unit?: string } | undefined {
-  const m = /^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(?:\[([^\]]*)\])?\s*$/.exec(text);
-  if (!m) return undefined;
-  return { value: Number(m[1]), unit: m[2] };
-}
-
-/**
- * Resolves a command-line sweep, "NAME=FROM:TO:N" with FROM and TO numbers in the declared unit or
- * numbers with a unit in brackets. Returns the spec or a one-line message.
- */
-export function sweepRequest(a: Analysis, point: string, vary: string, log = false): { spec?: SweepSpec; error?: string } {
-  const m = /^\s*([^=\s]+)\s*=(.*)$/.exec(vary);
-  if (!m) return { error: `--vary wants NAME=FROM:TO:N, e.g. --vary feed=0.01:0.05:40, not "${vary}"` };
-  const name = m[1];
-  const parts = m[2].split(':');
-  if (parts.length !== 3) return { error: `--vary wants NAME=FROM:TO:N (three parts after "="), not "${vary}"` };
-  const problem = variedProblem(a, point, name);
-  if (problem) return { error: problem };
-  const slot = varSlot(a, name);
-  if (!slot) return { error: `"${name}" cannot be varied` };
-  const conv = (t: string, what: string): number | string => {
-    const q = parseQuantity(t);
-    if (!q) return `${what} "${t.trim()}" is not a number (optionally with a unit in brackets, e.g. 50[mm/s])`;
-    if (q.unit === undefined) return q.value;
-    const u = parseUnit(q.unit);
-    if (typeof u === 'string') return `${what}: unknown unit "${q.unit}": ${u}`;
-    if (!dimsEqual(u.dims, slot.unit.dims)) return `${what}: [${q.unit}] does not convert to the unit of ${name} [${slot.unit.text}]`;
-    return declaredValue(slot, q.value * u.scale + u.offset);
-  };
-  const from = conv(parts[0], 'FROM');
-  if (typeof from === 'string') return { error: from };
-  const to = conv(parts[1], 'TO');
-  if (typeof to === 'string') return { error: to };
-  const n = Number(parts[2]);
-  if (!Number.isInteger(n) || n < 1 || n > MAX_STEPS) return { error: `N must be a whole number of steps from 1 to ${MAX_STEPS}, not "${parts[2].trim()}"` };
-  if (!Number.isFinite(from) || !Number.isFinite(to)) return { error: 'FROM and TO must be finite numbers' };
-  if (from === to) return { error: 'FROM and TO are equal: the range is empty' };
-  if (log && (from <= 0 || to <= 0)) return { error: `--log needs FROM and TO above zero (in ${slot.unit.text === '1' ? 'the declared unit' : `[${slot.unit.text}]`})` };
-  return { spec: { point, vary: name, from, to, steps: n, log } };
-}
-
 // ---------------------------------------------------------------- analysis of one linear model
 
 /** Modes of a sorted eigenvalue list: complex pairs once (im > 0). */
@@ -360,7 +316,7 @@ export function dcGain(lin: LinearModel): number[][] | null {
 
 /**
  * Tolerances below which a real part counts as zero: `axis` relative to the spectral radius (the same
- * rule as dynamics.ts, AXIS_TOL·ρ(A)) for the verdicts; `fine`, a few hundred round-offs of ‖A‖∞, for
+ * rule as analysis/dynamics/, AXIS_TOL·ρ(A)) for the verdicts; `fine`, a few hundred round-offs of ‖A‖∞, for
  * locating a crossing.
  */
 function eigTolerance(lin: LinearModel, eig: { re: number; im: number }[]): { axis: number; fine: number } {

@@ -3,12 +3,13 @@
  * our own expression tree (numbers, slot indices and a fixed set of operators), never from model text.
  */
 import type { Node } from '../algebra/expr';
+import { nameTable } from '../names';
 
-const MATH_FN: Record<string, string> = {
+const MATH_FN: Readonly<Record<string, string>> = nameTable({
   sqrt: 'M.sqrt', exp: 'M.exp', log: 'M.log', log10: 'M.log10', sin: 'M.sin', cos: 'M.cos', tan: 'M.tan',
   asin: 'M.asin', acos: 'M.acos', atan: 'M.atan', atan2: 'M.atan2', sinh: 'M.sinh', cosh: 'M.cosh', tanh: 'M.tanh',
   abs: 'M.abs', sign: 'M.sign', min: 'M.min', max: 'M.max', hypot: 'M.hypot', pick: 'pick',
-};
+});
 
 function lit(v: number): string {
   if (Number.isNaN(v)) return 'NaN';

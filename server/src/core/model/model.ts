@@ -7,6 +7,7 @@ import type * as A from '../syntax/ast';
 import { BUILTIN_CONSTANTS, type BoundModel, type ModelSymbol } from '../semantics/binder';
 import * as E from '../algebra/expr';
 import type { Span } from '../text';
+import { hasName } from '../names';
 import { constantValue, literalSI, type UnitFacts } from '../semantics/unitChecker';
 import { ONE_UNIT, type UnitInfo } from '../semantics/units';
 
@@ -109,7 +110,7 @@ export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
     switch (e.kind) {
       case 'number': return E.num(literalSI(e).value, e.span);
       case 'name': {
-        if (e.name in BUILTIN_CONSTANTS && !m.symbols.has(e.name)) return E.num(BUILTIN_CONSTANTS[e.name], e.span);
+        if (hasName(BUILTIN_CONSTANTS, e.name) && !m.symbols.has(e.name)) return E.num(BUILTIN_CONSTANTS[e.name], e.span);
         const s = m.symbols.get(e.name);
         if (!s) return E.num(NaN, e.span);
         const id = slotOf(s, e.primes);
@@ -129,7 +130,7 @@ export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
         return E.num(NaN);
       }
       case 'call': {
-        if (!(e.fn in E.BUILTIN_ARITY)) return E.num(NaN, e.span);
+        if (!hasName(E.BUILTIN_ARITY, e.fn)) return E.num(NaN, e.span);
         return E.fn(e.fn as E.FnName, e.args.map(low), e.span);
       }
       case 'error': return E.num(NaN, e.span);

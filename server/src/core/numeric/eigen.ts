@@ -616,7 +616,7 @@ export function eigenvalues(a: DenseMatrix): EigenResult {
  * k+1 hold the real and imaginary parts of the vector of wr[k] + i·wi[k],
  * wi[k] > 0). Returns false if the iteration did not converge.
  */
-function hqr2(h: Float64Array, nn: number, v: Float64Array, d: Float64Array, e: Float64Array): boolean {
+function hqr2(h: Float64Array, nn: number, v: Float64Array, d: Float64Array, e: Float64Array, schurOnly = false): boolean {
   let norm = 0;
   for (let i = 0; i < nn; i++) {
     for (let j = Math.max(i - 1, 0); j < nn; j++) norm += Math.abs(h[i * nn + j]);
@@ -798,6 +798,7 @@ function hqr2(h: Float64Array, nn: number, v: Float64Array, d: Float64Array, e: 
     }
   }
 
+  if (schurOnly) return true;
   // back substitution: eigenvectors of the quasi-triangular form
   if (norm === 0) return true;
   let cdivr = 0, cdivi = 0;
@@ -1022,4 +1023,37 @@ export function sortEigen(re: Float64Array, im: Float64Array): { re: number; im:
   for (let i = 0; i < re.length; i++) out.push({ re: re[i], im: im[i] });
   out.sort((p, q) => (p.re !== q.re ? p.re - q.re : p.im - q.im));
   return out;
+}
+
+/**
+ * Real Schur form A = Q·T·Qᵀ of the square matrix a (not modified; no balancing, so Q is orthogonal):
+ * T is upper quasi-triangular with 1×1 blocks for real eigenvalues and 2×2 blocks for complex pairs
+ * (entries below the blocks are exactly zero), Q orthogonal, both row-major n×n. Householder reduction to
+ * Hessenberg form, then Francis' double-shift QR with full updates (the first half of {@link eigenvectors}).
+ * Returns undefined when the iteration does not converge or an entry is not finite.
+ */
+export function realSchur(a: DenseMatrix): { t: Float64Array; q: Float64Array; re: Float64Array; im: Float64Array } | undefined {
+  checkSquare(a, 'realSchur');
+  const n = a.rows;
+  const re = new Float64Array(n);
+  const im = new Float64Array(n);
+  if (!allFinite(a.data)) return undefined;
+  const h = new Float64Array(a.data);
+  const ort = new Float64Array(n);
+  const applied = new Uint8Array(n);
+  orthes(h, n, ort, applied);
+  const q = ortran(h, n, ort, applied);
+  zeroBelowSubdiagonal(h, n);
+  if (n > 0 && !hqr2(h, n, q, re, im, true)) return undefined;
+  // Subdiagonal entries that are not inside a complex 2×2 block are negligible after deflation: zero them.
+  for (let i = 0; i + 1 < n; i++) {
+    const inPair = im[i] !== 0 && im[i + 1] !== 0 && im[i] === -im[i + 1];
+    if (inPair) {
+      i++;
+      if (i + 1 < n) h[(i + 1) * n + i] = 0;
+      continue;
+    }
+    h[(i + 1) * n + i] = 0;
+  }
+  return { t: h, q, re, im };
 }

@@ -2,6 +2,7 @@
  * Plain-text, Markdown and JSON renderings of the core's results, shared by the CLI, the language
  * server and the exports. Pure.
  */
+import { nameRecord } from '../names';
 import type { Analysis, VariableValue } from '../pipeline/analysis';
 import { formatNumber } from '../algebra/expr';
 import type { DeviationEquation, LinearModel } from '../solve/linearizer';
@@ -35,7 +36,7 @@ export function linearEigen(lin: LinearModel): { re: number; im: number }[] {
 }
 
 export function linearJson(lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[]): LinearJson {
-  const v: LinearJson['values'] = {};
+  const v: LinearJson['values'] = nameRecord(); // a name such as __proto__ is an entry of its own
   for (const x of values) if (x.kind !== 'const') v[x.name] = { value: x.value, unit: x.unit };
   return {
     point: lin.point,

@@ -8,6 +8,7 @@ import { diag, type Diagnostic } from '../diagnostics';
 import { BUILTIN_ARITY } from '../algebra/expr';
 import { RESERVED } from '../syntax/parser';
 import type { Span } from '../text';
+import { hasName, nameTable } from '../names';
 
 export type SymbolKind = 'const' | 'input' | 'state' | 'var' | 'output';
 
@@ -53,7 +54,7 @@ export interface BoundModel {
   diagnostics: Diagnostic[];
 }
 
-export const BUILTIN_CONSTANTS: Record<string, number> = { pi: Math.PI };
+export const BUILTIN_CONSTANTS: Readonly<Record<string, number>> = nameTable({ pi: Math.PI });
 
 const kindWord: Record<SymbolKind, string> = { const: 'a constant', input: 'an input', state: 'a state', var: 'a var', output: 'an output' };
 const kindTitle: Record<SymbolKind, string> = { const: 'Constant', input: 'Input', state: 'State', var: 'Var', output: 'Output' };
@@ -69,7 +70,7 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean } = {}):
   const lists: Record<SymbolKind, ModelSymbol[]> = { const: m.consts, input: m.inputs, state: m.states, var: m.vars, output: m.outputs };
 
   const declare = (id: A.Ident, kind: SymbolKind, decl: ModelSymbol['decl'], unit?: A.UnitRef) => {
-    if (RESERVED.has(id.name) || id.name in BUILTIN_ARITY || id.name in BUILTIN_CONSTANTS) {
+    if (RESERVED.has(id.name) || hasName(BUILTIN_ARITY, id.name) || hasName(BUILTIN_CONSTANTS, id.name)) {
       diagnostics.push(diag('P209', id.span, { name: id.name }));
       return;
     }
@@ -144,7 +145,7 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean } = {}):
         walk(e.left, where, statement, check);
         return walk(e.right, where, statement, check);
       case 'call': {
-        const arity = (BUILTIN_ARITY as Record<string, number>)[e.fn];
+        const arity = hasName(BUILTIN_ARITY, e.fn) ? (BUILTIN_ARITY as Record<string, number>)[e.fn] : undefined;
         if (arity === undefined) {
           const s = symbols.get(e.fn);
           diagnostics.push(
@@ -163,11 +164,11 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean } = {}):
           diagnostics.push(diag('P111', e.span, { name: 'Δ' + e.name }));
           return;
         }
-        if (e.name in BUILTIN_CONSTANTS && !symbols.has(e.name)) {
+        if (hasName(BUILTIN_CONSTANTS, e.name) && !symbols.has(e.name)) {
           if (e.primes) diagnostics.push(diag('P204', e.span, { name: e.name, kind: 'a built-in constant' }));
           return;
         }
-        if (e.name in BUILTIN_ARITY) {
+        if (hasName(BUILTIN_ARITY, e.name)) {
           diagnostics.push(diag('P206', e.nameSpan, { name: e.name }));
           return;
         }

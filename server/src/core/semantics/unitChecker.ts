@@ -8,6 +8,8 @@ import type * as A from '../syntax/ast';
 import type { BoundModel, ModelSymbol } from './binder';
 import { BUILTIN_CONSTANTS } from './binder';
 import { diag, type Diagnostic } from '../diagnostics';
+import { hasName } from '../names';
+import { BUILTIN_ARITY } from '../algebra/expr';
 import {
   DIMENSIONLESS, ONE_UNIT, dimsDiv, dimsEqual, dimsMul, dimsPow, formatDims, isDimensionless, parseUnit,
   type Dims, type UnitInfo,
@@ -41,7 +43,7 @@ export function constantValue(e: A.Expr, m: BoundModel, constant: (s: ModelSymbo
       case 'number': return literalSI(x).value;
       case 'name': {
         if (x.primes) return NaN;
-        if (x.name in BUILTIN_CONSTANTS && !m.symbols.has(x.name)) return BUILTIN_CONSTANTS[x.name];
+        if (hasName(BUILTIN_CONSTANTS, x.name) && !m.symbols.has(x.name)) return BUILTIN_CONSTANTS[x.name];
         const s = m.symbols.get(x.name);
         return s && s.kind === 'const' ? constant(s) : NaN;
       }
@@ -60,8 +62,8 @@ export function constantValue(e: A.Expr, m: BoundModel, constant: (s: ModelSymbo
       }
       case 'call': {
         const args = x.args.map(value);
-        const f = (Math as unknown as Record<string, (...v: number[]) => number>)[x.fn];
-        return typeof f === 'function' ? f(...args) : NaN;
+        if (!hasName(BUILTIN_ARITY, x.fn)) return NaN;
+        return (Math as unknown as Record<string, (...v: number[]) => number>)[x.fn](...args);
       }
       default: return NaN;
     }
@@ -117,7 +119,7 @@ export function checkUnits(m: BoundModel): UnitFacts {
 
   /** Dimension of a name reference (null: unknown). */
   const nameDims = (e: A.NameExpr): Dims | null => {
-    if (e.name in BUILTIN_CONSTANTS && !m.symbols.has(e.name)) return DIMENSIONLESS;
+    if (hasName(BUILTIN_CONSTANTS, e.name) && !m.symbols.has(e.name)) return DIMENSIONLESS;
     const s = m.symbols.get(e.name);
     if (!s) return null;
     if (s.kind === 'const') return constDims.get(s) ?? null;

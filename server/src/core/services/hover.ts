@@ -5,6 +5,7 @@
  * linear block, or a coefficient of a generated deviation equation (its formula in the constants and
  * operating values, its value and unit). Pure.
  */
+import { hasName, nameTable } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
 import type { ModelSymbol } from '../semantics/binder';
@@ -37,7 +38,7 @@ const DYNAMICS_MAX_STATES = 40;
 
 const KIND_WORD: Record<ModelSymbol['kind'], string> = { const: 'constant', input: 'input', state: 'state', var: 'var', output: 'output' };
 
-export const KEYWORD_DOC: Record<string, string> = {
+export const KEYWORD_DOC: Readonly<Record<string, string>> = nameTable({
   time: '`time [unit]` sets the unit of time for derivatives and results (default seconds); `time` alone makes time dimensionless.',
   const: '`const name = value [unit]` declares a constant; it may use constants declared before it. A point may give it another value with `=`.',
   input: '`input name [unit]` declares an exogenous quantity: a manipulated variable or a disturbance.',
@@ -54,7 +55,7 @@ export const KEYWORD_DOC: Record<string, string> = {
   to: 'End of the range a sweep varies over.',
   steps: 'Number of steps of a sweep.',
   log: 'Logarithmic spacing of a sweep’s steps (both ends must be positive).',
-};
+});
 
 export function hover(a: Analysis, offset: number, opts: HoverOptions = {}): HoverResult | undefined {
   const digits = opts.digits ?? 4;
@@ -254,8 +255,8 @@ function sweepText(a: Analysis, s: A.SweepBlock): string {
 }
 
 function builtinText(name: string): string {
-  const doc = (E.BUILTIN_DOC as Record<string, string>)[name] ?? '';
-  const arity = (E.BUILTIN_ARITY as Record<string, number>)[name] ?? 1;
+  const doc = hasName(E.BUILTIN_DOC, name) ? (E.BUILTIN_DOC as Record<string, string>)[name] : '';
+  const arity = hasName(E.BUILTIN_ARITY, name) ? (E.BUILTIN_ARITY as Record<string, number>)[name] : 1;
   const args = name === 'atan2' ? 'y, x' : arity === 2 ? 'a, b' : 'x';
   return `**${name}**(${args}) — built-in function: ${doc}`;
 }

@@ -3,6 +3,7 @@
  * a built-in function, a keyword, a unit bracket, or an equation line. Shared by hover, definition,
  * references, rename and the point lookup the editor commands use. Pure.
  */
+import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
 import type { ModelSymbol, Reference } from '../semantics/binder';
@@ -107,7 +108,7 @@ export function targetAt(a: Analysis, offset: number): Target | undefined {
     const word = text.slice(w.start, w.end);
     let k = w.end;
     while (text[k] === ' ' || text[k] === '\t') k++;
-    if (word in BUILTIN_ARITY && text[k] === '(') return { kind: 'builtin', name: word, span: w };
+    if (hasName(BUILTIN_ARITY, word) && text[k] === '(') return { kind: 'builtin', name: word, span: w };
     if (word === 'pi' && !m.symbols.has('pi')) return { kind: 'constant', name: 'pi', span: w };
     if (KEYWORDS.has(word) && !m.symbols.has(word) && text[w.start - 1] !== 'Δ') return { kind: 'keyword', word, span: w };
   }

@@ -4,6 +4,7 @@
  * generated linear blocks consistent: their Δ names and `at` names are references too, and a block that
  * was up to date gets its digest recomputed for the renamed model. Pure.
  */
+import { hasName } from '../names';
 import { analyze, type Analysis } from '../pipeline/analysis';
 import { BUILTIN_CONSTANTS } from '../semantics/binder';
 import { BUILTIN_ARITY } from '../algebra/expr';
@@ -68,7 +69,7 @@ const NAME = /^[\p{L}_][\p{L}\p{N}_]*$/u;
 export function invalidName(name: string): string | undefined {
   if (!NAME.test(name) || name.includes('Δ')) return `"${name}" is not a name: use letters, digits and "_", starting with a letter or "_" (no "Δ").`;
   if (RESERVED.has(name) || KEYWORDS.has(name)) return `"${name}" is a keyword of the model language.`;
-  if (name in BUILTIN_ARITY || name in BUILTIN_CONSTANTS) return `"${name}" is a built-in name.`;
+  if (hasName(BUILTIN_ARITY, name) || hasName(BUILTIN_CONSTANTS, name)) return `"${name}" is a built-in name.`;
   return undefined;
 }
 

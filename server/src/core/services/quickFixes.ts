@@ -7,6 +7,7 @@
  * - P601 stale generated block → regenerate it.
  * Pure: returns titles and text edits.
  */
+import { hasName, nameTable } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
 import { BUILTIN_ARITY } from '../algebra/expr';
@@ -31,7 +32,7 @@ export interface QuickFix {
 }
 
 type DeclKind = 'const' | 'input' | 'state' | 'var';
-const RANK: Record<string, number> = { time: 0, const: 1, input: 2, state: 3, var: 4, output: 5 };
+const RANK: Readonly<Record<string, number>> = nameTable({ time: 0, const: 1, input: 2, state: 3, var: 4, output: 5 });
 
 export function quickFixes(a: Analysis, diagnostics: readonly DiagnosticRef[], digits = 4): QuickFix[] {
   const out: QuickFix[] = [];
@@ -76,7 +77,7 @@ function unknownName(a: Analysis, d: DiagnosticRef, data: Record<string, unknown
 /** Inserts a declaration line after the last declaration of its kind (or where its kind belongs). */
 export function declarationEdit(a: Analysis, kind: DeclKind, line: string): TextEdit {
   const nl = eol(a.text);
-  const sts = a.parsed.file.statements.filter((s) => s.kind in RANK);
+  const sts = a.parsed.file.statements.filter((s) => hasName(RANK, s.kind));
   const r = RANK[kind];
   const same = sts.filter((s) => RANK[s.kind] === r);
   const earlier = sts.filter((s) => RANK[s.kind] < r);

@@ -6,6 +6,7 @@
  *   built-in functions → function+defaultLibrary, pi → variable+readonly+defaultLibrary.
  * Uses with primes carry `derivative`, Δ names `deviation`, declarations `declaration`. Pure.
  */
+import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import type { SymbolKind } from '../semantics/binder';
 import type { Span } from '../text';
@@ -59,7 +60,7 @@ export function semanticTokens(a: Analysis): SemanticToken[] {
     if (s.point?.name) out.push({ span: s.point.span, type: 'namespace', modifiers: [] });
   }
   walkExpressions(a.parsed.file, (e) => {
-    if (e.kind === 'call' && e.fn in BUILTIN_ARITY) out.push({ span: e.fnSpan, type: 'function', modifiers: ['defaultLibrary'] });
+    if (e.kind === 'call' && hasName(BUILTIN_ARITY, e.fn)) out.push({ span: e.fnSpan, type: 'function', modifiers: ['defaultLibrary'] });
     else if (e.kind === 'name' && e.name === 'pi' && !m.symbols.has('pi')) out.push({ span: e.nameSpan, type: 'variable', modifiers: ['readonly', 'defaultLibrary'] });
   });
   out.sort((x, y) => x.span.start - y.span.start || y.span.end - x.span.end);

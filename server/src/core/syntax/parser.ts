@@ -122,7 +122,7 @@ class LineParser {
     if (t && t.kind === 'op' && (t.text === '-' || t.text === '+')) {
       this.i++;
       const arg = this.powerOperand();
-      return { kind: 'unary', op: t.text as '-' | '+', arg, span: { start: t.span.start, end: arg.span.end } };
+      return signed(t.text as '-' | '+', arg, t.span.start);
     }
     const base = this.postfix();
     if (this.isOp('^')) {
@@ -139,7 +139,7 @@ class LineParser {
       this.i++;
       // -x^2 is -(x^2); -a*b is (-a)*b (same value)
       const arg = this.expr(3);
-      return { kind: 'unary', op: t.text as '-' | '+', arg, span: { start: t.span.start, end: arg.span.end } };
+      return signed(t.text as '-' | '+', arg, t.span.start);
     }
     return this.postfix();
   }
@@ -218,6 +218,22 @@ class LineParser {
     }
     this.fail('a value, a name or "("');
   }
+}
+
+/**
+ * A sign before an operand. A sign written directly before a quantity (`-5 [degC]`, `-(5 [degC])`) belongs
+ * to the number: it is the value in that unit, so an offset unit converts the signed value
+ * (−5 °C = 268.15 K, SI Brochure 9th ed. 2.3.1), never the negated conversion (−278.15 K). Folding it here,
+ * once, keeps every later stage (constants, point values, lowering, hovers) right without special cases.
+ */
+function signed(op: '-' | '+', arg: A.Expr, start: number): A.Expr {
+  const span = { start, end: arg.span.end };
+  if (arg.kind === 'number' && arg.unit) {
+    const neg = op === '-';
+    const text = neg ? (arg.text.startsWith('-') ? arg.text.slice(1) : '-' + arg.text) : arg.text;
+    return { ...arg, value: neg ? -arg.value : arg.value, text, span };
+  }
+  return { kind: 'unary', op, arg, span };
 }
 
 export function parse(text: string): ParseResult {

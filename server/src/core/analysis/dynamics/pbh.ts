@@ -1,0 +1,154 @@
+/** Controllability and observability by the PBH rank test (SVD ranks, Cholesky certificates of full rank). */
+import { svdValues } from '../../numeric/dense';
+import type { Complex, Mode, RankTest } from './types';
+import { frob } from './system';
+
+/** Rank of λI − A (complex λ) by SVD of its real embedding. */
+export function complexRank(A: Float64Array, n: number, lam: Complex, tol: number): number {
+  return embeddedRank(A, n, new Float64Array(0), 0, lam, tol);
+}
+
+/** Rank of [λI − A, B] (n × (n+m), complex λ) from the singular values of its real form. */
+function embeddedRank(A: Float64Array, n: number, B: Float64Array, m: number, lam: Complex, tol: number): number {
+  const w = n + m;
+  if (lam.im === 0) {
+    const M = new Float64Array(n * w);
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) M[i * w + j] = -A[i * n + j];
+      M[i * w + i] += lam.re;
+      for (let k = 0; k < m; k++) M[i * w + n + k] = B[i * m + k];
+    }
+    const s = svdValues({ rows: n, cols: w, data: M });
+    let r = 0;
+    for (let i = 0; i < s.length; i++) if (s[i] > tol) r++;
+    return r;
+  }
+  // [[Re, −Im], [Im, Re]] has every singular value of the complex matrix twice
+  const R = 2 * n;
+  const Cc = 2 * w;
+  const M = new Float64Array(R * Cc);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < w; j++) {
+      let re: number;
+      let im = 0;
+      if (j < n) {
+        re = -A[i * n + j];
+        if (i === j) {
+          re += lam.re;
+          im = lam.im;
+        }
+      } else re = B[i * m + (j - n)];
+      M[i * Cc + j] = re;
+      M[i * Cc + w + j] = -im;
+      M[(n + i) * Cc + j] = im;
+      M[(n + i) * Cc + w + j] = re;
+    }
+  }
+  const s = svdValues({ rows: R, cols: Cc, data: M });
+  let r = 0;
+  for (let i = 0; i < s.length; i++) if (s[i] > tol) r++;
+  return Math.round(r / 2);
+}
+
+/**
+ * True when σ_min([λI − A, B]) > τ for certain: the Hermitian matrix
+ * G = [λI − A, B]·[λI − A, B]ᴴ − τ²I = S + (|λ|² − τ²)I − Re λ·(A + Aᵀ) + i·Im λ·(A − Aᵀ), with S = AAᵀ + BBᵀ,
+ * has a Cholesky factorisation exactly when its smallest eigenvalue σ_min² − τ² is positive. Rounding in
+ * forming G is about n·ε·‖[A, B]‖², far below τ² (τ is 10⁻⁴ of the size), so success is a safe certificate;
+ * failure proves nothing and the caller falls back on the SVD.
+ */
+function clearlyFullRank(S: Float64Array, A: Float64Array, n: number, lam: Complex, tau: number, w: { re: Float64Array; im: Float64Array }): boolean {
+  const Lr = w.re;
+  const Li = w.im;
+  const shift = lam.re * lam.re + lam.im * lam.im - tau * tau;
+  for (let j = 0; j < n; j++) {
+    // diagonal: G_jj − Σ|L_jk|²
+    let d = S[j * n + j] + shift - 2 * lam.re * A[j * n + j];
+    for (let k = 0; k < j; k++) d -= Lr[j * n + k] * Lr[j * n + k] + Li[j * n + k] * Li[j * n + k];
+    if (!(d > 0)) return false;
+    const ljj = Math.sqrt(d);
+    Lr[j * n + j] = ljj;
+    Li[j * n + j] = 0;
+    for (let i = j + 1; i < n; i++) {
+      // G_ij = S_ij − Re λ·(A_ij + A_ji) + i·Im λ·(A_ij − A_ji)
+      let gr = S[i * n + j] - lam.re * (A[i * n + j] + A[j * n + i]);
+      let gi = lam.im * (A[i * n + j] - A[j * n + i]);
+      // − Σ_k L_ik·conj(L_jk)
+      for (let k = 0; k < j; k++) {
+        const ar = Lr[i * n + k];
+        const ai = Li[i * n + k];
+        const br = Lr[j * n + k];
+        const bi = Li[j * n + k];
+        gr -= ar * br + ai * bi;
+        gi -= ai * br - ar * bi;
+      }
+      Lr[i * n + j] = gr / ljj;
+      Li[i * n + j] = gi / ljj;
+    }
+  }
+  return true;
+}
+
+/**
+ * PBH test: for each mode (one eigenvalue per real mode or complex pair), the rank deficiency n − rank[λI − A, B].
+ * Eigenvalues that coincide (within the tolerance) share the deficiency: it is given to the first of them
+ * and, when larger than 1, spread over the others.
+ */
+export function pbhDeficiencies(A: Float64Array, B: Float64Array, n: number, m: number, modes: Complex[], rtol: number, axisTol: number): number[] {
+  const out = new Array<number>(modes.length).fill(0);
+  if (n === 0) return out;
+  const na = frob(A);
+  let sb = 0;
+  for (let i = 0; i < B.length; i++) sb += B[i] * B[i];
+  const scale = Math.max(na, Math.sqrt(sb), 1e-300);
+  const tol = rtol * scale;
+  // S = A·Aᵀ + B·Bᵀ, shared by the Cholesky certificates
+  const S = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) {
+    for (let j = i; j < n; j++) {
+      let v = 0;
+      for (let k = 0; k < n; k++) v += A[i * n + k] * A[j * n + k];
+      for (let k = 0; k < m; k++) v += B[i * m + k] * B[j * m + k];
+      S[i * n + j] = v;
+      S[j * n + i] = v;
+    }
+  }
+  const work = { re: new Float64Array(n * n), im: new Float64Array(n * n) };
+  const done = new Uint8Array(modes.length);
+  for (let k = 0; k < modes.length; k++) {
+    if (done[k]) continue;
+    const e = modes[k];
+    const group = [k];
+    for (let j = k + 1; j < modes.length; j++) {
+      if (!done[j] && Math.hypot(modes[j].re - e.re, modes[j].im - e.im) <= Math.max(axisTol, 1e-8 * scale)) group.push(j);
+    }
+    for (const g of group) done[g] = 1;
+    // σ_min([λI − A, B]) > τ, far above the rank tolerance, is proved by a Cholesky factorisation; only the
+    // eigenvalues without that certificate need the SVD
+    const tau = 1e-4 * (na + Math.sqrt(sb) + Math.hypot(e.re, e.im));
+    if (group.length === 1 && clearlyFullRank(S, A, n, e, tau, work)) continue;
+    const def = n - embeddedRank(A, n, B, m, e, tol);
+    let left = Math.max(0, def);
+    for (const g of group) {
+      const d = Math.min(left, 1);
+      out[g] = d;
+      left -= d;
+    }
+    if (left > 0) out[group[0]] += left;
+  }
+  return out;
+}
+
+/** The rank test of the modes from their PBH deficiencies. */
+export function rankTest(modes: Mode[], def: number[], n: number): RankTest {
+  const failing: RankTest['failing'] = [];
+  let lost = 0;
+  modes.forEach((md, k) => {
+    if (def[k] > 0) {
+      failing.push({ mode: md.number, re: md.re, im: md.im, deficiency: def[k] });
+      lost += def[k] * md.multiplicity;
+    }
+  });
+  const rank = Math.max(0, n - lost);
+  return { rank, n, full: rank === n, failing };
+}
