@@ -58,3 +58,33 @@ A = S[:n, :n]; B = S[:n, n:]
 print('%.6f %.12g' % (time.perf_counter() - t0, A[0, 0]))
 `;
 }
+
+/** The same chain as {@link tankChain}, written with families and each blocks (identical equations). */
+export function tankChainFamily(n: number): string {
+  const L: string[] = [];
+  L.push(`# chain of ${n} tanks with turbulent links, written as families (generated)`);
+  L.push(`const n = ${n}`);
+  L.push('const area = 1.5 [m^2]');
+  L.push('const k = 0.01 [m^2.5/s]');
+  L.push('input qin [m^3/s]');
+  L.push('state h[1..n] [m]');
+  L.push('var q[1..n] [m^3/s]');
+  L.push('output level_last [cm] = h[n]');
+  L.push("area*h[1]' = qin - q[1]");
+  if (n > 1) {
+    L.push('each i in 2..n:');
+    L.push("  area*h[i]' = q[i-1] - q[i]");
+    L.push('each i in 1..n-1: q[i] = k*sqrt(h[i] - h[i+1])');
+  }
+  L.push('q[n] = k*sqrt(h[n])');
+  L.push('point nominal:');
+  L.push('  qin = 0.01 [m^3/s]');
+  L.push(`  h ~ {${Array.from({ length: n }, (_, i) => ((n - i) * 1.1).toFixed(2)).join(', ')}} [m]`);
+  L.push('  q ~ 0.011 [m^3/s]');
+  return L.join('\n') + '\n';
+}
+
+/** tankChain with the names a family gives its elements (h[i], q[i]): the flat text of tankChainFamily. */
+export function tankChainFlatElements(n: number): string {
+  return tankChain(n).replace(/\b([hq])(\d+)\b/g, '$1[$2]');
+}

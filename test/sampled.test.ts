@@ -11,7 +11,10 @@
 import * as fs from 'fs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { linearSystem } from '../server/src/core/analysis/dynamics';
+import { sampledModel } from '../server/src/core/analysis/handoff/sampled';
 import { discretize, type StateSpace } from '../server/src/core/numeric/discretize';
+import { eigenvalues, sortEigen } from '../server/src/core/numeric/eigen';
+import { linearEigen } from '../server/src/core/present/format';
 import { integrateNonstiff } from '../server/src/core/numeric/ode';
 import { solve } from './helpers/model';
 import { referenceModels } from './helpers/reference';
@@ -145,4 +148,36 @@ describe('the discrete step equals the continuous step at the sample instants (i
       }
     });
   }
+});
+
+describe('discrete poles and the stability test inside the unit circle', () => {
+  // z = e^{sT} under a hold, z = (1 + sT/2)/(1 − sT/2) under Tustin (Franklin, Powell & Workman, Digital
+  // Control of Dynamic Systems, ch. 4 and 6). Independent route: the eigenvalues of the discrete A itself.
+  for (const ref of referenceModels()) {
+    it(`${ref.name}: mapped poles equal the eigenvalues of the discrete A`, () => {
+      const s = solve(fs.readFileSync(ref.file, 'utf8'));
+      const sys = linearSystem(s.lin);
+      const T = sampleTime(sys) * 5;
+      for (const hold of ['zoh', 'foh', 'tustin'] as const) {
+        const sm = sampledModel(sys, T, hold)!;
+        const e = eigenvalues({ rows: sm.n, cols: sm.n, data: sm.A });
+        const direct = sortEigen(e.re, e.im);
+        const mapped = sm.poles.map((p) => p.z);
+        for (const z of mapped) {
+          const nearest = Math.min(...direct.map((d) => Math.hypot(d.re - z.re, d.im - z.im)));
+          expect(nearest, `${hold} pole ${z.re}+${z.im}i`).toBeLessThan(1e-9);
+        }
+        const contStable = linearEigen(s.lin).every((l) => l.re < -1e-9);
+        if (contStable) expect(sm.verdict).toBe('stable');
+      }
+    });
+  }
+  it('an unstable and an integrating model', () => {
+    const base = { m: 1, p: 1, B: Float64Array.from([1]), C: Float64Array.from([1]), D: new Float64Array(1), states: ['x'], inputs: ['u'], outputs: ['y'], stateUnits: [''], inputUnits: [''], outputUnits: [''], timeUnit: 's', outputsAreStates: false };
+    expect(sampledModel({ ...base, n: 1, A: Float64Array.from([0.3]) }, 0.1, 'zoh')!.verdict).toBe('unstable');
+    const integ = sampledModel({ ...base, n: 1, A: Float64Array.from([0]) }, 0.1, 'zoh', 0.5)!;
+    expect(integ.verdict).toBe('marginal');
+    expect(integ.states).toEqual(['x', 'u@prev']);
+    expect(integ.poles.map((p) => p.magnitude)).toEqual([1, 0]);
+  });
 });

@@ -42,6 +42,10 @@ export const catalogue = {
   P111: { severity: 'error', text: '"Δ" is reserved for deviation variables in generated linear blocks; rename "{name}".' },
   P112: { severity: 'error', text: 'Block "{name}" has no lines: indent its lines under the header.' },
   P113: { severity: 'error', text: 'A sweep line is "vary NAME = FROM to TO steps N" with an optional "log".' },
+  P120: { severity: 'error', text: 'Empty index: write the element\'s index inside the brackets, e.g. h[1] or h[i+1].' },
+  P121: { severity: 'error', text: 'A range "first..last" belongs in a declaration (state h[1..n]) or an each header; here write one index.' },
+  P122: { severity: 'error', text: 'An output family is defined element by element: write "each i in 1..n:" and under it "output {name}[i] [unit] = …".' },
+  P123: { severity: 'error', text: 'Only equations, outputs and nested "each" blocks go inside an each block; move declarations and points out of it.' },
 
   // 2xx names
   P201: { severity: 'error', text: 'Unknown name "{name}": declare it (const, input, state, var or output) or fix the spelling.' },
@@ -60,6 +64,14 @@ export const catalogue = {
   P214: { severity: 'error', text: '"{name}" is a constant: a point may give it another value with "=", not a guess with "~".' },
   P215: { severity: 'error', text: 'Output "{name}" cannot depend on itself.' },
   P216: { severity: 'error', text: 'Derivative order {order} of "{name}" in a point: points are steady states, derivatives are zero there.' },
+  P230: { severity: 'error', text: '{what} must be a whole-number constant: {detail}.' },
+  P231: { severity: 'error', text: '{what} would make {count} elements (at most {max}): check the range.' },
+  P232: { severity: 'error', text: '"{name}" is not a family, so it has no elements: remove the index, or declare it with a range, e.g. {name}[1..n].' },
+  P233: { severity: 'error', text: '{element} is outside {family}: change the index or the range of the equation.' },
+  P234: { severity: 'error', text: '"{name}" is a family: name one element, e.g. {name}[i] inside an each block, or add them up with sum(each i in …: {name}[i]).' },
+  P235: { severity: 'error', text: 'A list {…} gives the values of a family\'s elements: use it only for a family constant or a family in a point.' },
+  P236: { severity: 'error', text: 'The range of "{name}" is empty ({from}..{to}): the first index must not exceed the last.' },
+  P237: { severity: 'error', text: '"{name}" has {size} elements but the list has {count} values: give one value per element, or one value for all.' },
 
   // 3xx units
   P301: { severity: 'error', text: 'Unknown unit "{unit}": {detail}' },

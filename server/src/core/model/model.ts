@@ -133,6 +133,8 @@ export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
         if (!hasName(E.BUILTIN_ARITY, e.fn)) return E.num(NaN, e.span);
         return E.fn(e.fn as E.FnName, e.args.map(low), e.span);
       }
+      case 'list':
+      case 'reduce': // replaced by the elaborator; left only after an error it reported
       case 'error': return E.num(NaN, e.span);
     }
   };

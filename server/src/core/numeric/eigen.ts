@@ -31,7 +31,9 @@
  * (or nearly defective) matrix V is (nearly) singular and the left vectors are
  * correspondingly inaccurate; when V is exactly singular they are NaN.
  */
+import { CsrMatrix, csrFromDense } from './csr';
 import { complexSolve, DenseMatrix } from './dense';
+import { symTridiagEigenvalues } from './symTridiag';
 
 export interface EigenResult {
   re: Float64Array;
@@ -65,51 +67,68 @@ function allFinite(d: Float64Array): boolean {
 
 // ---------------------------------------------------------------- structure
 
-/** Strongly connected components of the graph i → j (a_ij ≠ 0, i ≠ j); members sorted ascending. */
-function stronglyConnected(a: Float64Array, n: number): Int32Array[] {
+/**
+ * Strongly connected components of the graph i → j (a_ij stored and ≠ 0, i ≠ j) of a square CSR
+ * matrix, by Tarjan's depth-first search (Tarjan 1972) written with explicit stacks (no recursion,
+ * so chains of any length are fine). Components come out in Tarjan's order (every edge leaving a
+ * component goes to one listed earlier), members ascending: component k is
+ * members[start[k]] … members[start[k+1]−1]. With the members in that order as a symmetric
+ * permutation the matrix is block lower triangular, so its eigenvalues are those of the diagonal
+ * blocks (the principal submatrices on the components).
+ */
+export function stronglyConnectedCsr(c: CsrMatrix): { members: Int32Array; start: Int32Array; count: number } {
+  const n = c.rows;
+  const { rowPtr, colIdx, values } = c;
   const index = new Int32Array(n).fill(-1);
   const low = new Int32Array(n);
   const onStack = new Uint8Array(n);
   const stack = new Int32Array(n);
   let sp = 0;
   const call = new Int32Array(n);
-  const nextJ = new Int32Array(n);
+  const nextP = new Int32Array(n);
   let cp = 0;
   let counter = 0;
-  const comps: Int32Array[] = [];
+  const members = new Int32Array(n);
+  const startList: number[] = [0];
+  let out = 0;
   for (let root = 0; root < n; root++) {
     if (index[root] >= 0) continue;
     index[root] = low[root] = counter++;
     stack[sp++] = root;
     onStack[root] = 1;
     call[cp++] = root;
-    nextJ[root] = 0;
+    nextP[root] = rowPtr[root];
     while (cp > 0) {
       const v = call[cp - 1];
-      let j = nextJ[v];
-      const row = v * n;
-      while (j < n && (j === v || a[row + j] === 0)) j++;
-      if (j < n) {
-        nextJ[v] = j + 1;
+      let p = nextP[v];
+      const end = rowPtr[v + 1];
+      while (p < end && (colIdx[p] === v || values[p] === 0)) p++;
+      if (p < end) {
+        const j = colIdx[p];
+        nextP[v] = p + 1;
         if (index[j] < 0) {
           index[j] = low[j] = counter++;
           stack[sp++] = j;
           onStack[j] = 1;
           call[cp++] = j;
-          nextJ[j] = 0;
+          nextP[j] = rowPtr[j];
         } else if (onStack[j] && index[j] < low[v]) {
           low[v] = index[j];
         }
       } else {
+        nextP[v] = end;
         cp--;
         if (low[v] === index[v]) {
-          let start = sp - 1;
-          while (stack[start] !== v) start--;
-          const comp = stack.slice(start, sp);
-          for (let t = start; t < sp; t++) onStack[stack[t]] = 0;
-          sp = start;
-          comp.sort();
-          comps.push(comp);
+          let s0 = sp - 1;
+          while (stack[s0] !== v) s0--;
+          const from = out;
+          for (let t = s0; t < sp; t++) {
+            onStack[stack[t]] = 0;
+            members[out++] = stack[t];
+          }
+          sp = s0;
+          if (out - from > 1) members.subarray(from, out).sort();
+          startList.push(out);
         }
         if (cp > 0) {
           const parent = call[cp - 1];
@@ -118,41 +137,54 @@ function stronglyConnected(a: Float64Array, n: number): Int32Array[] {
       }
     }
   }
-  return comps;
+  return { members, start: Int32Array.from(startList), count: startList.length - 1 };
 }
 
 // ------------------------------------------------------- symmetric tridiagonal
 
+interface TridiagonalParts {
+  d: Float64Array;
+  e: Float64Array;
+  up: Int8Array;
+  lo: Int8Array;
+  symmetric: boolean;
+}
+
 /**
- * If the m×m block b is tridiagonal with non-zero off-diagonal pairs, returns
- * its diagonal d, the magnitudes e[k] = sqrt(|b[k][k+1]·b[k+1][k]|) and the
- * product signs. A diagonal similarity takes b to the tridiagonal matrix with
- * off-diagonals sign(b[k][k+1])·e[k] and sign(b[k+1][k])·e[k]; when every
- * product is positive that matrix is symmetric. Returns null otherwise.
+ * The principal submatrix of c on the rows/columns comp (ascending), as m×m block b: if b is
+ * tridiagonal with non-zero off-diagonal pairs, returns its diagonal d, the magnitudes
+ * e[k] = sqrt(|b[k][k+1]·b[k+1][k]|) and the product signs without forming b. A diagonal similarity
+ * takes b to the tridiagonal matrix with off-diagonals sign(b[k][k+1])·e[k] and sign(b[k+1][k])·e[k];
+ * when every product is positive that matrix is symmetric. Returns null otherwise. local maps a
+ * global index to its position in comp (−1 elsewhere).
  */
-function tridiagonalParts(
-  b: Float64Array,
-  m: number,
-): { d: Float64Array; e: Float64Array; up: Int8Array; lo: Int8Array; symmetric: boolean } | null {
-  for (let i = 0; i < m; i++) {
-    const row = i * m;
-    for (let j = 0; j < i - 1; j++) if (b[row + j] !== 0) return null;
-    for (let j = i + 2; j < m; j++) if (b[row + j] !== 0) return null;
-  }
+function tridiagonalParts(c: CsrMatrix, comp: Int32Array, local: Int32Array): TridiagonalParts | null {
+  const m = comp.length;
   const d = new Float64Array(m);
+  const u = new Float64Array(m);
+  const l = new Float64Array(m);
+  for (let r = 0; r < m; r++) {
+    const i = comp[r];
+    for (let p = c.rowPtr[i]; p < c.rowPtr[i + 1]; p++) {
+      const v = c.values[p];
+      const k = local[c.colIdx[p]];
+      if (k < 0 || v === 0) continue;
+      if (k === r) d[r] = v;
+      else if (k === r + 1) u[r] = v;
+      else if (k === r - 1) l[k] = v;
+      else return null;
+    }
+  }
   const e = new Float64Array(m);
   const up = new Int8Array(m);
   const lo = new Int8Array(m);
   let symmetric = true;
-  for (let k = 0; k < m; k++) d[k] = b[k * m + k];
   for (let k = 0; k + 1 < m; k++) {
-    const u = b[k * m + k + 1];
-    const l = b[(k + 1) * m + k];
-    if (u === 0 || l === 0) return null;
-    up[k] = u > 0 ? 1 : -1;
-    lo[k] = l > 0 ? 1 : -1;
+    if (u[k] === 0 || l[k] === 0) return null;
+    up[k] = u[k] > 0 ? 1 : -1;
+    lo[k] = l[k] > 0 ? 1 : -1;
     if (up[k] !== lo[k]) symmetric = false;
-    e[k] = Math.sqrt(Math.abs(u)) * Math.sqrt(Math.abs(l));
+    e[k] = Math.sqrt(Math.abs(u[k])) * Math.sqrt(Math.abs(l[k]));
   }
   return { d, e, up, lo, symmetric };
 }
@@ -547,64 +579,160 @@ function generalBlock(b: Float64Array, m: number, wr: Float64Array, wi: Float64A
   return hqr(b, m, wr, wi, off);
 }
 
-/** Eigenvalues of the square matrix a (not modified). Complex pairs are adjacent, positive imaginary part first. */
-export function eigenvalues(a: DenseMatrix): EigenResult {
-  checkSquare(a, 'eigenvalues');
-  const n = a.rows;
+/**
+ * Eigenvalues of the 2×2 block [[a, b], [c, d]] written at off, off+1: the closed form of the
+ * double-shift QR's two-root step (a negligible c splits it into two 1×1 blocks first).
+ */
+function twoByTwo(a: number, b: number, c: number, d: number, wr: Float64Array, wi: Float64Array, off: number): void {
+  if (Math.abs(c) <= EPS * (Math.abs(a) + Math.abs(d))) {
+    wr[off] = a;
+    wr[off + 1] = d;
+    wi[off] = wi[off + 1] = 0;
+    return;
+  }
+  const w = c * b;
+  const p = (a - d) / 2;
+  const q = p * p + w;
+  let z = Math.sqrt(Math.abs(q));
+  if (q >= 0) {
+    z = p >= 0 ? p + z : p - z;
+    wr[off] = d + z;
+    wr[off + 1] = z !== 0 ? d - w / z : d + z;
+    wi[off] = wi[off + 1] = 0;
+  } else {
+    wr[off] = wr[off + 1] = d + p;
+    wi[off] = z;
+    wi[off + 1] = -z;
+  }
+}
+
+export interface SparseEigenOptions {
+  /**
+   * Largest diagonal block (after the splitting) given to the dense QR method; a larger block that is
+   * not tridiagonal gets NaN eigenvalues and converged = false instead of an m² allocation.
+   * Default 4000.
+   */
+  maxDenseBlock?: number;
+}
+
+/** Sizes of the diagonal blocks found by the last splitting; for the bench and tests. */
+export interface BlockStats {
+  blocks: number;
+  largest: number;
+}
+
+/**
+ * Eigenvalues of a square CSR matrix by its structure: the block triangular form from the strongly
+ * connected components of the sparsity graph (stronglyConnectedCsr), then per diagonal block
+ * 1×1 — the diagonal entry; 2×2 — closed form; tridiagonal with positive products b_k·c_k of its
+ * off-diagonal pairs (two-way chains) — similar by a diagonal scaling to a symmetric tridiagonal
+ * matrix, implicit QL in O(m²) without forming the block; otherwise the block is formed dense
+ * (a tridiagonal block with some negative products first scaled so that each off-diagonal pair has
+ * equal magnitudes) and goes to balancing, Hessenberg reduction and Francis QR. The dense
+ * eigenvalues() is this function on the non-zeros of its argument, so both give identical results.
+ * Complex pairs are adjacent, positive imaginary part first.
+ */
+export function eigenvaluesSparse(c: CsrMatrix, options: SparseEigenOptions = {}, stats?: BlockStats): EigenResult {
+  if (c.rows !== c.cols) throw new RangeError(`eigenvaluesSparse: matrix must be square, got ${c.rows}x${c.cols}`);
+  if (c.rowPtr.length !== c.rows + 1) throw new RangeError('eigenvaluesSparse: rowPtr length does not match the size');
+  const n = c.rows;
+  const maxDense = options.maxDenseBlock ?? 4000;
   const re = new Float64Array(n);
   const im = new Float64Array(n);
+  if (stats) {
+    stats.blocks = 0;
+    stats.largest = 0;
+  }
   if (n === 0) return { re, im, converged: true };
-  if (!allFinite(a.data)) {
+  if (!allFinite(c.values)) {
     re.fill(NaN);
     im.fill(NaN);
     return { re, im, converged: false };
   }
-  const comps = stronglyConnected(a.data, n);
+  const { members, start, count } = stronglyConnectedCsr(c);
+  const { rowPtr, colIdx, values } = c;
+  const local = new Int32Array(n).fill(-1);
   let pos = 0;
   let converged = true;
-  for (const comp of comps) {
+  for (let k = 0; k < count; k++) {
+    const comp = members.subarray(start[k], start[k + 1]);
     const m = comp.length;
+    if (stats) {
+      stats.blocks++;
+      if (m > stats.largest) stats.largest = m;
+    }
     if (m === 1) {
-      re[pos] = a.data[comp[0] * n + comp[0]];
+      const i = comp[0];
+      let v = 0;
+      for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) if (colIdx[p] === i) v += values[p];
+      re[pos] = v;
       im[pos] = 0;
       pos++;
       continue;
     }
-    const b = new Float64Array(m * m);
-    for (let r = 0; r < m; r++) {
-      const src = comp[r] * n;
-      for (let c = 0; c < m; c++) b[r * m + c] = a.data[src + comp[c]];
-    }
-    const tri = tridiagonalParts(b, m);
+    for (let r = 0; r < m; r++) local[comp[r]] = r;
+    const tri = tridiagonalParts(c, comp, local);
     let done = false;
     if (tri && tri.symmetric) {
       // two-way chain: symmetric tridiagonal QL on a copy
-      const d = Float64Array.from(tri.d);
-      const e = Float64Array.from(tri.e);
-      if (tql1(d, e, m)) {
-        for (let k = 0; k < m; k++) {
-          re[pos + k] = d[k];
-          im[pos + k] = 0;
-        }
+      // (root-free QL with four sweeps in flight; the classical QL as a fallback)
+      let d = Float64Array.from(tri.d);
+      let ok = symTridiagEigenvalues(d, tri.e, m);
+      if (!ok) {
+        d = Float64Array.from(tri.d);
+        ok = tql1(d, Float64Array.from(tri.e), m);
+      }
+      if (ok) {
+        re.set(d, pos);
         done = true;
       }
     }
-    if (!done && tri) {
-      // equalise the magnitudes of each off-diagonal pair (exact diagonal similarity):
-      // removes the non-normality that a chain with unequal couplings carries
-      b.fill(0);
-      for (let k = 0; k < m; k++) {
-        b[k * m + k] = tri.d[k];
-        if (k + 1 < m) {
-          b[k * m + k + 1] = tri.up[k] * tri.e[k];
-          b[(k + 1) * m + k] = tri.lo[k] * tri.e[k];
+    if (!done && tri && m === 2) {
+      // equal magnitudes as for larger tridiagonal blocks below, then the closed form
+      twoByTwo(tri.d[0], tri.up[0] * tri.e[0], tri.lo[0] * tri.e[0], tri.d[1], re, im, pos);
+      done = true;
+    }
+    if (!done && m > maxDense) {
+      for (let t = 0; t < m; t++) re[pos + t] = im[pos + t] = NaN;
+      converged = false;
+      done = true;
+    }
+    if (!done) {
+      const b = new Float64Array(m * m);
+      if (tri) {
+        // equalise the magnitudes of each off-diagonal pair (exact diagonal similarity):
+        // removes the non-normality that a chain with unequal couplings carries
+        for (let t = 0; t < m; t++) {
+          b[t * m + t] = tri.d[t];
+          if (t + 1 < m) {
+            b[t * m + t + 1] = tri.up[t] * tri.e[t];
+            b[(t + 1) * m + t] = tri.lo[t] * tri.e[t];
+          }
+        }
+      } else {
+        for (let r = 0; r < m; r++) {
+          const i = comp[r];
+          for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
+            const q = local[colIdx[p]];
+            if (q >= 0) b[r * m + q] += values[p];
+          }
         }
       }
+      if (!generalBlock(b, m, re, im, pos)) converged = false;
     }
-    if (!done && !generalBlock(b, m, re, im, pos)) converged = false;
+    for (let r = 0; r < m; r++) local[comp[r]] = -1;
     pos += m;
   }
   return { re, im, converged };
+}
+
+/**
+ * Eigenvalues of the square matrix a (not modified). Complex pairs are adjacent, positive imaginary
+ * part first. The non-zeros go through eigenvaluesSparse (block triangular splitting first).
+ */
+export function eigenvalues(a: DenseMatrix): EigenResult {
+  checkSquare(a, 'eigenvalues');
+  return eigenvaluesSparse(csrFromDense(a), { maxDenseBlock: Infinity });
 }
 
 // ---------------------------------------------------------------- vectors

@@ -9,6 +9,7 @@ import { diag } from '../diagnostics';
 import { declaredValue, deviationEquations, linearize, type DeviationEquation, type LinearModel } from '../solve/linearizer';
 import { lower, type LoweredModel } from '../model/model';
 import { parse, type ParseResult } from '../syntax/parser';
+import { elaborate, type Family } from '../semantics/elaborate';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
 import { sweepDiagnostics } from '../analysis/sweep';
 import { checkStructure, type StructureResult } from '../model/structure';
@@ -32,7 +33,12 @@ const UNIT_ERRORS = new Set(['P302', 'P303', 'P304', 'P305', 'P306', 'P307', 'P3
 
 export class Analysis {
   readonly lines: LineMap;
+  /** The syntax tree as written (with families, each blocks and reductions). */
+  readonly source: ParseResult;
+  /** The elaborated tree (families expanded to elements) with the syntax and elaboration diagnostics. */
   readonly parsed: ParseResult;
+  /** Indexed families by name (empty for a flat model). */
+  readonly families: ReadonlyMap<string, Family>;
   readonly bound: BoundModel;
   readonly units: UnitFacts;
   readonly lowered: LoweredModel;
@@ -46,12 +52,16 @@ export class Analysis {
 
   constructor(readonly text: string, readonly options: AnalyzeOptions = {}) {
     this.lines = new LineMap(text);
-    this.parsed = parse(text);
-    this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused });
+    // parse, then expand indexed families into the flat scalar model every later stage works on
+    this.source = parse(text);
+    const elab = elaborate(this.source.file);
+    this.families = elab.families;
+    this.parsed = elab.file === this.source.file ? this.source : { file: elab.file, diagnostics: [...this.source.diagnostics, ...elab.diagnostics] };
+    this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices });
     this.units = checkUnits(this.bound);
     this.lowered = lower(this.bound, this.units, text);
     this.structure = checkStructure(this.lowered);
-    this.diagnostics = [...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics];
+    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics]);
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
 
@@ -186,4 +196,15 @@ export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
 /** Diagnostics with line/column positions (for the CLI and tests). */
 export function located(a: Analysis, ds: Diagnostic[]) {
   return ds.map((d) => ({ ...d, start: a.lines.position(d.span.start), end: a.lines.position(d.span.end) }));
+}
+
+/** Diagnostics without repeats: a template line of an each block reports the same problem once. */
+function unique(ds: Diagnostic[]): Diagnostic[] {
+  const seen = new Set<string>();
+  return ds.filter((d) => {
+    const k = `${d.code}\u0000${d.span.start}\u0000${d.span.end}\u0000${d.message}`;
+    if (seen.has(k)) return false;
+    seen.add(k);
+    return true;
+  });
 }

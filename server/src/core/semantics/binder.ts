@@ -59,7 +59,7 @@ export const BUILTIN_CONSTANTS: Readonly<Record<string, number>> = nameTable({ p
 const kindWord: Record<SymbolKind, string> = { const: 'a constant', input: 'an input', state: 'a state', var: 'a var', output: 'an output' };
 const kindTitle: Record<SymbolKind, string> = { const: 'Constant', input: 'Input', state: 'State', var: 'Var', output: 'Output' };
 
-export function bind(file: A.ModelFile, options: { warnUnused?: boolean } = {}): BoundModel {
+export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInIndices?: ReadonlySet<string> } = {}): BoundModel {
   const warnUnused = options.warnUnused ?? true;
   const diagnostics: Diagnostic[] = [];
   const symbols = new Map<string, ModelSymbol>();
@@ -278,7 +278,7 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean } = {}):
   }
   if (warnUnused) {
     for (const s of symbols.values()) {
-      if (!used.has(s) && s.kind !== 'output') {
+      if (!used.has(s) && s.kind !== 'output' && !options.usedInIndices?.has(s.name)) {
         diagnostics.push(diag('P203', s.span, { kind: kindTitle[s.kind], name: s.name }, { data: { name: s.name } }));
       }
     }

@@ -147,6 +147,8 @@ export function checkUnits(m: BoundModel): UnitFacts {
         return u.dims;
       }
       case 'name': return nameDims(e);
+      case 'list':
+      case 'reduce':
       case 'error': return null;
       case 'unary': return infer(e.arg);
       case 'binary': {

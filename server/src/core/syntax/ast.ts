@@ -1,7 +1,7 @@
 /** Syntax tree produced by the parser. Plain data with spans; no semantic information. */
 import type { Span } from '../text';
 
-export type Expr = NumberExpr | NameExpr | CallExpr | UnaryExpr | BinaryExpr | ErrorExpr;
+export type Expr = NumberExpr | NameExpr | CallExpr | UnaryExpr | BinaryExpr | ListExpr | ReduceExpr | ErrorExpr;
 
 export interface NumberExpr {
   kind: 'number';
@@ -25,8 +25,37 @@ export interface NameExpr {
   /** Written with a leading Δ (deviation variable). */
   delta: boolean;
   span: Span;
-  /** Span of the name alone (without Δ and primes). */
+  /** Span of the name alone (without Δ and primes; with its index when it has one). */
   nameSpan: Span;
+  /** An element of a family, `h[i+1]`: the index expression (integer arithmetic on index names and constants). */
+  index?: Expr;
+}
+
+/** `{a, b, c}`: the values of a family's elements, in order (constants and point lines only). */
+export interface ListExpr {
+  kind: 'list';
+  items: Expr[];
+  /** The unit written after the closing brace, applying to every item without one. */
+  unit?: UnitRef;
+  span: Span;
+}
+
+/** An inclusive index range `from..to`. */
+export interface IndexRange {
+  from: Expr;
+  to: Expr;
+  span: Span;
+}
+
+/** `sum(each i in 1..n: q[i])` (or `product`): a reduction over an index range. */
+export interface ReduceExpr {
+  kind: 'reduce';
+  op: 'sum' | 'product';
+  opSpan: Span;
+  index: Ident;
+  range: IndexRange;
+  body: Expr;
+  span: Span;
 }
 
 export interface CallExpr {
@@ -62,6 +91,10 @@ export interface ErrorExpr {
 export interface Ident {
   name: string;
   span: Span;
+  /** A family's index range in a declaration (`state h[1..n]`), or a single element (`state h[3]`). */
+  range?: IndexRange;
+  /** An element named with an index expression (`output lvl[i]` inside an each block). */
+  index?: Expr;
 }
 
 export type Statement =
@@ -72,7 +105,17 @@ export type Statement =
   | EquationStmt
   | PointBlock
   | LinearBlock
-  | SweepBlock;
+  | SweepBlock
+  | EachBlock;
+
+/** `each i in 1..n, j in 1..m:` with indented equations (or one equation after the colon). */
+export interface EachBlock {
+  kind: 'each';
+  indices: { name: Ident; range: IndexRange }[];
+  body: Statement[];
+  span: Span;
+  headerSpan: Span;
+}
 
 export interface TimeDecl {
   kind: 'time';
@@ -115,6 +158,8 @@ export interface EquationStmt {
 
 export interface PointLine {
   name: Ident;
+  /** An element written with its index (`h[3] = 1 [m]`). */
+  index?: Expr;
   mode: 'fixed' | 'guess';
   value: Expr;
   primes: number;

@@ -9,7 +9,7 @@ export type TokenKind =
   | 'name' // identifier; `delta` set when written with a leading Δ
   | 'number'
   | 'unit' // text between [ and ]
-  | 'op' // + - * / ^ ( ) , = ~ : '
+  | 'op' // + - * / ^ ( ) , = ~ : ' { } ..
   | 'newline'
   | 'eof';
 
@@ -29,7 +29,7 @@ export interface LexResult {
   diagnostics: Diagnostic[];
 }
 
-const OPS = new Set(['+', '-', '*', '/', '^', '(', ')', ',', '=', '~', ':', "'"]);
+const OPS = new Set(['+', '-', '*', '/', '^', '(', ')', ',', '=', '~', ':', "'", '{', '}']);
 const CONTINUES = new Set(['+', '-', '*', '/', '^', ',', '=']);
 const nameStart = /[\p{L}_]/u;
 const namePart = /[\p{L}\p{N}_]/u;
@@ -111,7 +111,7 @@ export function lex(text: string): LexResult {
     if ((ch >= '0' && ch <= '9') || (ch === '.' && text[i + 1] >= '0' && text[i + 1] <= '9')) {
       const start = i;
       while (i < n && text[i] >= '0' && text[i] <= '9') i++;
-      if (text[i] === '.') {
+      if (text[i] === '.' && text[i + 1] !== '.') {
         i++;
         while (i < n && text[i] >= '0' && text[i] <= '9') i++;
       }
@@ -161,6 +161,11 @@ export function lex(text: string): LexResult {
       const t: Token = { kind: 'name', text: name, span: { start, end: i } };
       if (delta) t.delta = true;
       push(t);
+      continue;
+    }
+    if (ch === '.' && text[i + 1] === '.') {
+      push({ kind: 'op', text: '..', span: { start: i, end: i + 2 } });
+      i += 2;
       continue;
     }
     if (OPS.has(ch)) {

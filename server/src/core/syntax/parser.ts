@@ -13,10 +13,10 @@ export interface ParseResult {
 }
 
 export const KEYWORDS = new Set([
-  'time', 'const', 'input', 'state', 'var', 'output', 'point', 'linear', 'digest', 'at', 'sweep', 'from', 'vary', 'to', 'steps', 'log',
+  'time', 'const', 'input', 'state', 'var', 'output', 'point', 'linear', 'digest', 'at', 'sweep', 'from', 'vary', 'to', 'steps', 'log', 'each', 'in',
 ]);
 /** Words that start a statement; they cannot be used as names. `log` stays a function name. */
-export const RESERVED = new Set(['time', 'const', 'input', 'state', 'var', 'output', 'point', 'linear', 'sweep']);
+export const RESERVED = new Set(['time', 'const', 'input', 'state', 'var', 'output', 'point', 'linear', 'sweep', 'each']);
 
 interface Line {
   tokens: Token[];
@@ -53,7 +53,7 @@ function splitLines(tokens: Token[]): Line[] {
 /** Parses the tokens of one logical line. */
 class LineParser {
   i = 0;
-  constructor(readonly toks: Token[], readonly endOffset: number) {}
+  constructor(readonly toks: Token[], readonly endOffset: number, readonly src: string) {}
 
   peek(k = 0): Token | undefined {
     return this.toks[this.i + k];
@@ -91,6 +91,58 @@ class LineParser {
   }
   expectEnd(expected = 'end of line'): void {
     if (!this.atEnd()) this.fail(expected);
+  }
+
+  /** The bracket right after the previous token (no space): an index or a range, not a unit. */
+  adjacentBracket(): Token | undefined {
+    const t = this.peek();
+    const prev = this.toks[this.i - 1];
+    return t && t.kind === 'unit' && prev && t.span.start === prev.span.end ? t : undefined;
+  }
+
+  /** Parses the inside of a bracket token as an index expression, or a range `a..b` when allowed. */
+  bracketContent(t: Token, allowRange: boolean): { index?: A.Expr; range?: A.IndexRange } {
+    const inner = this.src.slice(t.span.start + 1, this.src[t.span.end - 1] === ']' ? t.span.end - 1 : t.span.end);
+    const shift = t.span.start + 1;
+    const lexed = lex(inner);
+    const toks = lexed.tokens.filter((k) => k.kind !== 'newline' && k.kind !== 'eof').map((k) => ({ ...k, span: { start: k.span.start + shift, end: k.span.end + shift } }));
+    if (lexed.diagnostics.length) {
+      const d = lexed.diagnostics[0];
+      throw new SyntaxError_({ ...d, span: { start: d.span.start + shift, end: d.span.end + shift } });
+    }
+    const lp = new LineParser(toks, t.span.end - 1, this.src);
+    if (lp.atEnd()) throw new SyntaxError_(diag('P120', t.span));
+    const first = lp.expr();
+    if (lp.isOp('..')) {
+      if (!allowRange) throw new SyntaxError_(diag('P121', lp.peek()!.span));
+      lp.i++;
+      const to = lp.expr();
+      lp.expectEnd('"]" after the range');
+      return { range: { from: first, to, span: t.span } };
+    }
+    lp.expectEnd(allowRange ? '".." and the last index, or "]"' : '"]" after the index');
+    return { index: first };
+  }
+
+  /** `from..to` written in the line itself (each headers, reductions). */
+  rangeHere(): A.IndexRange {
+    const from = this.expr();
+    this.expectOp('..', '".." between the first and the last index, e.g. 1..n');
+    const to = this.expr();
+    return { from, to, span: { start: from.span.start, end: to.span.end } };
+  }
+
+  /** A declared name with an optional family range or element index right after it. */
+  declName(expected?: string): A.Ident {
+    const id = this.expectName(expected);
+    const b = this.adjacentBracket();
+    if (b && (/\.\./.test(b.text) || /^\s*\d+\s*$/.test(b.text))) {
+      this.i++;
+      const c = this.bracketContent(b, true);
+      if (c.range) id.range = c.range;
+      else id.index = c.index;
+    }
+    return id;
   }
 
   // ---- expressions (Pratt) ----
@@ -171,6 +223,22 @@ class LineParser {
     }
     if (t.kind === 'name') {
       this.i++;
+      if ((t.text === 'sum' || t.text === 'product') && !t.delta && this.isOp('(') && this.isName('each', 1)) {
+        const open = this.toks[this.i];
+        this.i += 2;
+        const index = this.expectName('the index name, e.g. sum(each i in 1..n: q[i])');
+        if (!this.isName('in')) this.fail('"in" and the index range, e.g. each i in 1..n');
+        this.i++;
+        const range = this.rangeHere();
+        this.expectOp(':', '":" before the expression to add up');
+        const body = this.expr();
+        if (!this.isOp(')')) {
+          if (this.atEnd()) throw new SyntaxError_(diag('P102', open.span));
+          this.fail('")"');
+        }
+        const close = this.toks[this.i++];
+        return { kind: 'reduce', op: t.text, opSpan: t.span, index, range, body, span: { start: t.span.start, end: close.span.end } };
+      }
       if (this.isOp('(') && !t.delta) {
         const open = this.toks[this.i++];
         const args: A.Expr[] = [];
@@ -191,16 +259,50 @@ class LineParser {
         const close = this.toks[this.i++];
         return { kind: 'call', fn: t.text, fnSpan: t.span, args, span: { start: t.span.start, end: close.span.end } };
       }
-      let primes = 0;
+      let index: A.Expr | undefined;
       let end = t.span.end;
+      const b = this.adjacentBracket();
+      if (b) {
+        this.i++;
+        index = this.bracketContent(b, false).index;
+        end = b.span.end;
+      }
+      const nameEnd = end;
+      let primes = 0;
       while (this.isOp("'")) {
         const p = this.toks[this.i++];
         if (p.span.start !== end) break; // primes must touch the name
         primes++;
         end = p.span.end;
       }
-      const nameSpan = t.delta ? { start: t.span.start + 1, end: t.span.end } : t.span;
-      return { kind: 'name', name: t.text, primes, delta: !!t.delta, span: { start: t.span.start, end }, nameSpan };
+      const nameSpan = { start: t.delta ? t.span.start + 1 : t.span.start, end: nameEnd };
+      const ne: A.NameExpr = { kind: 'name', name: t.text, primes, delta: !!t.delta, span: { start: t.span.start, end }, nameSpan };
+      if (index) ne.index = index;
+      return ne;
+    }
+    if (t.kind === 'op' && t.text === '{') {
+      this.i++;
+      const items: A.Expr[] = [];
+      if (!this.isOp('}')) {
+        for (;;) {
+          items.push(this.expr());
+          if (this.isOp(',')) {
+            this.i++;
+            continue;
+          }
+          break;
+        }
+      }
+      if (!this.isOp('}')) this.fail('"," or "}"');
+      const close = this.toks[this.i++];
+      const list: A.ListExpr = { kind: 'list', items, span: { start: t.span.start, end: close.span.end } };
+      const u = this.peek();
+      if (u && u.kind === 'unit') {
+        this.i++;
+        list.unit = { text: u.text, span: u.span };
+        list.span = { start: t.span.start, end: u.span.end };
+      }
+      return list;
     }
     if (t.kind === 'op' && t.text === '(') {
       this.i++;
@@ -258,12 +360,12 @@ export function parse(text: string): ParseResult {
   while (li < lines.length) {
     const line = lines[li++];
     try {
-      const p = new LineParser(line.tokens, line.span.end);
+      const p = new LineParser(line.tokens, line.span.end, text);
       const first = line.tokens[0];
       const kw = first.kind === 'name' && !first.delta ? first.text : '';
       if (kw === 'point' || kw === 'linear' || kw === 'sweep') {
         const body = blockLines();
-        const block = parseBlock(kw, p, line, body, diagnostics);
+        const block = parseBlock(kw, p, line, body, diagnostics, text);
         if (block.kind === 'linear' && block.digest) {
           const d = block.digest.span;
           block.digest.text = text.slice(d.start, d.end);
@@ -276,6 +378,10 @@ export function parse(text: string): ParseResult {
         statements.push(block);
         continue;
       }
+      if (kw === 'each') {
+        statements.push(parseEach(p, line, blockLines(), diagnostics, text));
+        continue;
+      }
       statements.push(parseStatement(p, line));
     } catch (e) {
       if (e instanceof SyntaxError_) diagnostics.push(e.d);
@@ -285,7 +391,61 @@ export function parse(text: string): ParseResult {
   return { file: { statements, comments: lexed.comments, length: text.length }, diagnostics };
 }
 
-function parseStatement(p: LineParser, line: Line): A.Statement {
+/** `each i in A..B[, j in C..D]:` followed by indented statements, or one statement after the colon. */
+function parseEach(p: LineParser, header: Line, body: Line[], diagnostics: Diagnostic[], src: string): A.EachBlock {
+  p.i++;
+  const indices: A.EachBlock['indices'] = [];
+  for (;;) {
+    const name = p.expectName('the index name, e.g. each i in 1..n:');
+    if (!p.isName('in')) p.fail('"in" and the index range, e.g. each i in 1..n:');
+    p.i++;
+    indices.push({ name, range: p.rangeHere() });
+    if (p.isOp(',')) {
+      p.i++;
+      continue;
+    }
+    break;
+  }
+  p.expectOp(':', '":" at the end of the each header');
+  const end = body.length ? body[body.length - 1].span.end : header.span.end;
+  const block: A.EachBlock = { kind: 'each', indices, body: [], span: { start: header.span.start, end }, headerSpan: header.span };
+  const inBody = (l: Line, lp: LineParser): void => {
+    try {
+      const st = parseStatement(lp, l, true);
+      if (st.kind !== 'equation' && st.kind !== 'output' && st.kind !== 'each') throw new SyntaxError_(diag('P123', l.span));
+      block.body.push(st);
+    } catch (e) {
+      if (e instanceof SyntaxError_) diagnostics.push(e.d);
+      else diagnostics.push(diag('P101', l.span, { found: 'text', expected: 'an equation' }));
+    }
+  };
+  if (!p.atEnd()) {
+    const rest = p.toks.slice(p.i);
+    const line: Line = { tokens: rest, indent: header.indent, span: { start: rest[0].span.start, end: header.span.end } };
+    inBody(line, new LineParser(rest, header.span.end, src));
+    if (body.length) diagnostics.push(diag('P106', body[0].span));
+    return block;
+  }
+  if (!body.length) diagnostics.push(diag('P112', header.span, { name: 'each' }));
+  for (let k = 0; k < body.length; k++) {
+    const l = body[k];
+    const first = l.tokens[0];
+    if (first.kind === 'name' && !first.delta && first.text === 'each') {
+      const inner: Line[] = [];
+      while (k + 1 < body.length && body[k + 1].indent > l.indent) inner.push(body[++k]);
+      try {
+        block.body.push(parseEach(new LineParser(l.tokens, l.span.end, src), l, inner, diagnostics, src));
+      } catch (e) {
+        if (e instanceof SyntaxError_) diagnostics.push(e.d);
+      }
+      continue;
+    }
+    inBody(l, new LineParser(l.tokens, l.span.end, src));
+  }
+  return block;
+}
+
+function parseStatement(p: LineParser, line: Line, inEach = false): A.Statement {
   const first = p.peek()!;
   const kw = first.kind === 'name' && !first.delta ? first.text : '';
   const span = line.span;
@@ -304,7 +464,7 @@ function parseStatement(p: LineParser, line: Line): A.Statement {
     case 'const': {
       p.i++;
       if (!p.isName()) throw new SyntaxError_(diag('P105', p.here(), { keyword: 'const' }));
-      const name = p.expectName();
+      const name = p.declName();
       p.expectOp('=', '"=" and the value, e.g. const area = 1.2 [m^2]');
       const value = p.expr();
       p.expectEnd('end of line after the value');
@@ -315,10 +475,10 @@ function parseStatement(p: LineParser, line: Line): A.Statement {
     case 'var': {
       p.i++;
       if (!p.isName()) throw new SyntaxError_(diag('P105', p.here(), { keyword: kw }));
-      const names: A.Ident[] = [p.expectName()];
+      const names: A.Ident[] = [p.declName()];
       while (p.isOp(',')) {
         p.i++;
-        names.push(p.expectName());
+        names.push(p.declName());
       }
       let unit: A.UnitRef | undefined;
       const u = p.peek();
@@ -333,6 +493,13 @@ function parseStatement(p: LineParser, line: Line): A.Statement {
       p.i++;
       if (!p.isName()) throw new SyntaxError_(diag('P105', p.here(), { keyword: 'output' }));
       const name = p.expectName();
+      const ob = p.adjacentBracket();
+      if (ob && (inEach || /^\s*\d+\s*$/.test(ob.text))) {
+        p.i++;
+        name.index = p.bracketContent(ob, false).index;
+      } else if (ob && /\.\./.test(ob.text)) {
+        throw new SyntaxError_(diag('P122', ob.span, { name: name.name }));
+      }
       let unit: A.UnitRef | undefined;
       const u = p.peek();
       if (u && u.kind === 'unit') {
@@ -361,7 +528,7 @@ function parseEquation(p: LineParser, span: Span): A.EquationStmt {
   return { kind: 'equation', lhs, rhs, span, eqSpan: eq.span };
 }
 
-function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Line, body: Line[], diagnostics: Diagnostic[]): A.Statement {
+function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Line, body: Line[], diagnostics: Diagnostic[], src: string): A.Statement {
   p.i++;
   const name: A.Ident = p.isName() ? p.expectName() : { name: '', span: p.here() };
   if (!name.name) diagnostics.push(diag('P105', p.here(), { keyword: kw }));
@@ -385,10 +552,16 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
     const lines: A.PointLine[] = [];
     for (const l of body) {
       const r = tryLine(() => {
-        const lp = new LineParser(l.tokens, l.span.end);
+        const lp = new LineParser(l.tokens, l.span.end, src);
         const t = lp.peek()!;
         if (t.kind !== 'name') throw new SyntaxError_(diag('P107', l.span));
         lp.i++;
+        let index: A.Expr | undefined;
+        const b = lp.adjacentBracket();
+        if (b) {
+          lp.i++;
+          index = lp.bracketContent(b, false).index;
+        }
         let primes = 0;
         while (lp.isOp("'")) {
           lp.i++;
@@ -400,6 +573,7 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
         const value = lp.expr();
         lp.expectEnd('end of line after the value');
         const pl: A.PointLine = { name: { name: t.text, span: t.span }, mode: m.text === '=' ? 'fixed' : 'guess', value, primes, span: l.span };
+        if (index) pl.index = index;
         return pl;
       });
       if (r) lines.push(r);
@@ -428,11 +602,16 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
     const equations: A.EquationStmt[] = [];
     for (const l of body) {
       tryLine(() => {
-        const lp = new LineParser(l.tokens, l.span.end);
+        const lp = new LineParser(l.tokens, l.span.end, src);
         if (lp.isName('at')) {
           lp.i++;
           for (;;) {
             const n = lp.expectName();
+            const b = lp.adjacentBracket();
+            if (b) {
+              lp.i++;
+              n.index = lp.bracketContent(b, false).index;
+            }
             lp.expectOp('=');
             const value = lp.expr();
             at.push({ name: n, value, span: { start: n.span.start, end: value.span.end } });
@@ -464,7 +643,7 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
   if (!body.length) diagnostics.push(diag('P112', headerSpan, { name: name.name }));
   for (const l of body) {
     tryLine(() => {
-      const lp = new LineParser(l.tokens, l.span.end);
+      const lp = new LineParser(l.tokens, l.span.end, src);
       if (!lp.isName('vary')) throw new SyntaxError_(diag('P113', l.span));
       lp.i++;
       const n = lp.expectName();

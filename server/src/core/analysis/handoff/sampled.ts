@@ -1,0 +1,94 @@
+/**
+ * The sampled-data (discrete-time) model of a linear model, as plain data: the discrete matrices for a
+ * sample time T in the model's time unit, the discrete poles with the continuous eigenvalue each comes
+ * from, and the stability verdict inside the unit circle. Methods in numeric/discretize.ts and
+ * docs/dynamics.md ("Sampled-data models").
+ */
+import { discretize, type HoldMethod } from '../../numeric/discretize';
+import { eigenvalues, sortEigen } from '../../numeric/eigen';
+import type { Complex, LinearSystem, StabilityClass } from '../dynamics';
+
+export interface SampledPole {
+  /** Discrete pole z. */
+  z: Complex;
+  /** |z|. */
+  magnitude: number;
+  /** The continuous eigenvalue it maps from (null for the poles of the delayed-input states, at z = 0). */
+  s: Complex | null;
+}
+
+export interface SampledModel {
+  hold: HoldMethod;
+  /** Sample time in the model's time unit. */
+  sampleTime: number;
+  timeUnit: string;
+  /** Input delay as a fraction of a sample (0 when none). */
+  delayFraction: number;
+  n: number;
+  m: number;
+  p: number;
+  A: Float64Array;
+  B: Float64Array;
+  C: Float64Array;
+  D: Float64Array;
+  /** State names: the model's state components, then (with a delay) the held previous inputs. */
+  states: string[];
+  stateUnits: string[];
+  inputs: string[];
+  inputUnits: string[];
+  outputs: string[];
+  outputUnits: string[];
+  poles: SampledPole[];
+  verdict: StabilityClass;
+  /** Largest |z|. */
+  spectralRadius: number;
+}
+
+/** The name of the state that holds the previous sample of an input. */
+export function heldInputName(input: string): string {
+  return `${input}@prev`;
+}
+
+/** z of a continuous eigenvalue under the hold method. */
+export function mapPole(s: Complex, t: number, hold: HoldMethod): Complex {
+  if (hold === 'tustin') {
+    // z = (1 + sT/2)/(1 − sT/2)
+    const ar = 1 + (s.re * t) / 2, ai = (s.im * t) / 2;
+    const br = 1 - (s.re * t) / 2, bi = -(s.im * t) / 2;
+    const d = br * br + bi * bi;
+    return { re: (ar * br + ai * bi) / d, im: (ai * br - ar * bi) / d };
+  }
+  const r = Math.exp(s.re * t);
+  return { re: r * Math.cos(s.im * t), im: r * Math.sin(s.im * t) };
+}
+
+/** |z| within this of 1 counts as on the unit circle (integrators map to z = 1 exactly in exact arithmetic). */
+const CIRCLE_TOL = 1e-9;
+
+/**
+ * The discrete model of sys for sample time t (model time unit), hold method and input-delay fraction.
+ * Returns undefined when the Tustin map is singular (an eigenvalue at s = 2/T).
+ */
+export function sampledModel(sys: LinearSystem, t: number, hold: HoldMethod, delayFraction = 0): SampledModel | undefined {
+  const d = discretize(sys, t, hold, delayFraction);
+  if (!d) return undefined;
+  const held = d.n - sys.n;
+  const ce = eigenvalues({ rows: sys.n, cols: sys.n, data: sys.A });
+  const cont = sortEigen(ce.re, ce.im);
+  const poles: SampledPole[] = cont.map((s) => {
+    const z = mapPole(s, t, hold);
+    return { z, magnitude: Math.hypot(z.re, z.im), s };
+  });
+  for (let k = 0; k < held; k++) poles.push({ z: { re: 0, im: 0 }, magnitude: 0, s: null });
+  let rho = 0;
+  for (const p of poles) rho = Math.max(rho, p.magnitude);
+  const verdict: StabilityClass = rho > 1 + CIRCLE_TOL ? 'unstable' : rho >= 1 - CIRCLE_TOL ? 'marginal' : 'stable';
+  return {
+    hold, sampleTime: t, timeUnit: sys.timeUnit, delayFraction,
+    n: d.n, m: d.m, p: d.p, A: d.A, B: d.B, C: d.C, D: d.D,
+    states: [...sys.states, ...sys.inputs.map(heldInputName)],
+    stateUnits: [...sys.stateUnits, ...sys.inputUnits],
+    inputs: sys.inputs, inputUnits: sys.inputUnits, outputs: sys.outputs, outputUnits: sys.outputUnits,
+    poles, verdict, spectralRadius: rho,
+  };
+}
