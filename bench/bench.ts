@@ -12,6 +12,7 @@ import { runSweep } from '../server/src/core/analysis/sweep';
 import { latencyLines, lspLatency } from './lspLatency';
 import { massChain, reportBench } from './report';
 import { tankChain, tankChainSympy } from './models';
+import { scaleBench, startupBench } from './scale';
 
 function ms(t0: bigint): number {
   return Number(process.hrtime.bigint() - t0) / 1e6;
@@ -84,6 +85,14 @@ async function main() {
       `${String(n).padEnd(6)} ${String(rows[0].n).padEnd(7)} ${med('parse').toFixed(1).padStart(6)}  ${med('check').toFixed(1).padStart(17)}  ${med('solve').toFixed(1).padStart(6)}  ${med('linearize').toFixed(1).padStart(9)}  ${med('total').toFixed(1).padStart(9)}  ${Number.isNaN(eig) ? '     -' : eig.toFixed(1).padStart(7)}`,
     );
   }
+  // issue 12 targets, whole process (POISE_BENCH_SCALE=1000,10000 to shorten, 0 to skip)
+  if (process.env.POISE_BENCH_SCALE !== '0') {
+    console.log('');
+    scaleBench();
+  }
+  startupBench();
+  console.log('');
+
   // eigenvalues of a dense 500-state matrix
   const N = 500;
   const A = new Float64Array(N * N);
@@ -98,7 +107,7 @@ async function main() {
   }
   console.log(`eigenvalues of a random dense 500×500 A: ${median(te).toFixed(0)} ms (median of 3)`);
 
-  // report of a 50-state model (issue target: under 2 s)
+  // report of a 50-state model including validity ranges (issue 12 target: under 1 s)
   console.log('');
   reportBench();
 

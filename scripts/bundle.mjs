@@ -4,7 +4,8 @@
 // Environment: POISE_SERVER_ENTRY overrides the server entry (for trying the bundle before the server
 // exists), POISE_SOURCEMAP=1 adds linked source maps, POISE_MINIFY=1 minifies.
 import { build } from 'esbuild';
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readFileSync, rmSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
 import { dirname, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
@@ -35,11 +36,27 @@ async function bundle(name, entry, outfile, external) {
   console.log(`bundle: ${name} -> ${outfile} (${(bytes / 1024).toFixed(0)} KB, ${Date.now() - started} ms)`);
 }
 
+/**
+ * V8's code cache of dist/cli.js (bin/poise.js loads it): one sample run of the command on an example
+ * compiles what a run needs, and the cache is written at its exit. A failure only costs start-up time.
+ */
+function codeCache() {
+  const out = resolve(root, 'dist/cli.cache');
+  rmSync(out, { force: true });
+  const example = resolve(root, 'examples/gantry_crane.poise');
+  const r = spawnSync(process.execPath, [resolve(root, 'bin/poise.js'), 'linearize', example, '--format', 'json'], {
+    env: { ...process.env, POISE_CODE_CACHE_WRITE: out },
+    stdio: 'ignore',
+  });
+  if (r.status !== 0 || !existsSync(out)) console.warn('bundle: no code cache for dist/cli.js (the command starts a little slower)');
+}
+
 const only = process.argv[2];
 try {
   if (only === 'cli' || !only) {
     // the command-line tool as one file: starts faster than loading out/ module by module
     await bundle('cli', resolve(root, 'server/src/cli/main.ts'), 'dist/cli.js', []);
+    codeCache();
     if (only === 'cli') {
       // `poise lsp` runs the bundled server (bin/poise.js)
       await bundle('server', serverEntry, 'dist/server.js', []);

@@ -223,3 +223,86 @@ describe('poise linearize --format', () => {
     expect(io.stderr).toMatch(/latex/);
   });
 });
+
+// ---------------------------------------------------------------- the sparse form (--sparse)
+
+/** Dense rows from the compressed-row layout of docs/exports.md ("Sparse form"). */
+function fromRowStart(m: { rows: number; columns: number; rowStart: number[]; column: number[]; value: number[] }): number[][] {
+  const out = Array.from({ length: m.rows }, () => new Array<number>(m.columns).fill(0));
+  for (let i = 0; i < m.rows; i++) for (let t = m.rowStart[i]; t < m.rowStart[i + 1]; t++) out[i][m.column[t]] = m.value[t];
+  return out;
+}
+const nonZeros = (lin: LinearModel, m: M) => rowsOf(lin, m).flat().filter((x) => x !== 0).length;
+
+describe('sparse form', () => {
+  const py = '/usr/bin/python3';
+  const probe = fs.existsSync(py) ? spawnSync(py, ['-c', 'import numpy, scipy.sparse'], { encoding: 'utf8' }) : undefined;
+  const haveScipy = probe !== undefined && probe.status === 0;
+  for (const c of cases) {
+    it(`${c.name}: JSON (JSON.parse), CSV (RFC 4180 reader)${haveScipy ? ', SciPy' : ''}`, () => {
+      const j = JSON.parse(exportLinear(c.a, c.point, 'json', { sparse: true })) as Record<string, unknown>;
+      expect(j.schema).toBe(LINEAR_SCHEMA);
+      for (const m of MATS) {
+        const sm = j[m] as Parameters<typeof fromRowStart>[0];
+        expect([sm.rows, sm.columns]).toEqual(dims(c.lin, m));
+        expect(sm.value.length).toBe(nonZeros(c.lin, m));
+        expect(fromRowStart(sm)).toEqual(rowsOf(c.lin, m));
+      }
+      const rows = parseCsv(exportLinear(c.a, c.point, 'csv', { sparse: true }));
+      for (const m of MATS) {
+        const got = rows.filter((x) => x[0] === m);
+        expect(got.length).toBe(nonZeros(c.lin, m));
+        const [r, k] = dims(c.lin, m);
+        const dense = Array.from({ length: r }, () => new Array<number>(k).fill(0));
+        const rowNames = m === 'A' || m === 'B' ? c.lin.states : c.lin.outputs;
+        const colNames = m === 'A' || m === 'C' ? c.lin.states : c.lin.inputs;
+        for (const g of got) dense[rowNames.indexOf(g[1])][colNames.indexOf(g[2])] = Number(g[3]);
+        expect(dense).toEqual(rowsOf(c.lin, m));
+      }
+      if (!haveScipy) return;
+      const snippet = exportLinear(c.a, c.point, 'numpy', { sparse: true });
+      const tail = '\nimport json, scipy.sparse\nprint(json.dumps({m: {"sparse": scipy.sparse.issparse(M), "nnz": int(M.nnz), "rows": M.toarray().tolist(), "shape": list(M.shape)} for m, M in (("A", A), ("B", B), ("C", C), ("D", D))}))\n';
+      const r = spawnSync(py, ['-'], { input: snippet + tail, encoding: 'utf8' });
+      expect(r.stderr).toBe('');
+      const out = JSON.parse(r.stdout) as Record<M, { sparse: boolean; nnz: number; rows: number[][]; shape: number[] }>;
+      for (const m of MATS) {
+        expect(out[m].sparse).toBe(true);
+        expect(out[m].shape).toEqual(dims(c.lin, m));
+        expect(out[m].nnz).toBe(nonZeros(c.lin, m));
+        if (out[m].shape[0]) expect(out[m].rows).toEqual(rowsOf(c.lin, m));
+      }
+    });
+  }
+  if (!haveScipy) it.skip('SciPy read-back needs Debian python3-scipy (apt-get install -y python3-scipy)', () => {});
+  it('poise linearize --sparse writes what exportLinear writes, and refuses formats without a sparse form', async () => {
+    const file = path.join(EXAMPLES, 'gantry_crane.poise');
+    const a = analyze(fs.readFileSync(file, 'utf8'));
+    for (const f of ['json', 'csv', 'numpy'] as const) {
+      const io: Io & { stdout: string } = { stdout: '', out(s) { io.stdout += s.endsWith('\n') ? s : s + '\n'; }, err() {} };
+      expect(await main(['linearize', file, '--format', f, '--sparse'], io)).toBe(0);
+      expect(io.stdout).toBe(exportLinear(a, 'parked_in_wind', f, { sparse: true }));
+    }
+    const io: Io & { stderr: string } = { stderr: '', out() {}, err(s) { io.stderr += s; } };
+    expect(await main(['linearize', file, '--format', 'latex', '--sparse'], io)).toBe(2);
+    expect(io.stderr).toMatch(/--sparse needs --format json, csv, numpy/);
+  });
+});
+
+describe('written as produced', () => {
+  it('a 400-tank chain comes in several pieces of whole lines that join to the export', async () => {
+    const { tankChain } = await import('../bench/models');
+    const { exportChunks } = await import('../server/src/core/present/exports');
+    const a = analyze(tankChain(400));
+    const lin = a.linear('nominal')!;
+    const values = a.values(a.point('nominal')!);
+    for (const f of EXPORT_FORMATS) {
+      const pieces = [...exportChunks(lin, values, f)];
+      expect(pieces.length).toBeGreaterThan(1);
+      for (const p of pieces) expect(p.endsWith('\n')).toBe(true);
+      expect(pieces.join('')).toBe(exportLinear(a, 'nominal', f));
+    }
+    // JSON: one matrix row per line (A and B have 400 rows, C and D one)
+    const json = exportLinear(a, 'nominal', 'json');
+    expect(json.split('\n').filter((l) => /^ {2}\[/.test(l)).length).toBe(400 + 400 + 1 + 1);
+  });
+});

@@ -6,7 +6,7 @@ import * as fs from 'fs';
 import * as path from 'path';
 import { analyzeDocuments, located, type Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
-import { EXPORT_FORMATS, exportLinearModel, type ExportFormat } from '../core/present/exports';
+import { exportChunks, SPARSE_FORMATS, type ExportFormat } from '../core/present/exports';
 import { formatLinearText, formatValues } from '../core/present/format';
 import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
@@ -179,6 +179,8 @@ function solveCommand(p: Parsed, io: Io): number {
 function linearizeCommand(p: Parsed, io: Io): number {
   const file = oneFile(p);
   const format = opt(p, '--format') ?? 'text';
+  const sparse = p.opts.has('--sparse');
+  if (sparse && !SPARSE_FORMATS.includes(format as ExportFormat)) throw new UsageError(`--sparse needs --format ${SPARSE_FORMATS.join(', ')}`);
   const digits = digitsOf(p, format === 'json' ? 17 : 5);
   const r = prepare(file, opt(p, '--point'), io);
   if (!r) return 1;
@@ -189,10 +191,15 @@ function linearizeCommand(p: Parsed, io: Io): number {
   }
   const sol = r.a.point(r.point)!;
   const values = r.a.values(sol);
-  const eqs = r.a.deviationEquations(r.point, format === 'json' ? 6 : digits)!;
-  if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, opt(p, '--digits') === undefined ? undefined : digits));
-  else if (format !== 'text') io.out(exportLinearModel(lin, values, format as ExportFormat, { digits: opt(p, '--digits') === undefined ? undefined : digits, solve: { iterations: sol.iterations, residual: sol.residual } }));
-  else io.out(formatLinearText(r.a, lin, values, eqs, digits));
+  const digitsOpt = opt(p, '--digits') === undefined ? undefined : digits;
+  if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, digitsOpt));
+  else if (format === 'text') io.out(formatLinearText(r.a, lin, values, r.a.deviationEquations(r.point, digits)!, digits));
+  else {
+    // written as it is produced: pieces of whole lines, never one string of the whole model; the
+    // deviation equations (JSON only) computed once
+    const equations = format === 'json' ? r.a.deviationEquations(r.point, 6) : undefined;
+    for (const chunk of exportChunks(lin, values, format as ExportFormat, { digits: digitsOpt, sparse, equations, solve: { iterations: sol.iterations, residual: sol.residual } })) io.out(chunk);
+  }
   return 0;
 }
 

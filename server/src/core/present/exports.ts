@@ -7,8 +7,9 @@
  */
 import type { Analysis, VariableValue } from '../pipeline/analysis';
 import { formatNumber } from '../algebra/expr';
-import { emptyMatrixText, LINEAR_CAUTION, linearEigen, linearJson, rows, type LinearJson } from './format';
-import { deviationEquations, type LinearModel } from '../solve/linearizer';
+import { emptyMatrixText, LINEAR_CAUTION, linearEigen, linearJson, type LinearJson } from './format';
+import { deviationEquations, impliedShift, type DeviationEquation, type LinearModel } from '../solve/linearizer';
+import type { CsrMatrix } from '../numeric/csr';
 import { coefficientUnit } from '../analysis/symbolic';
 import { unitText } from '../semantics/units';
 import { simplifyUnitText } from '../semantics/simplifyUnit';
@@ -22,9 +23,19 @@ export const LINEAR_SCHEMA = 'poise-linear/1';
 export interface ExportOptions {
   /** Significant digits; undefined writes every number exactly (round-trips). */
   digits?: number;
+  /**
+   * Sparse form (json, csv, numpy): only the non-zero entries of A, B, C, D, in the layouts of
+   * docs/exports.md. Dense output of a large model is n² numbers; this is proportional to the non-zeros.
+   */
+  sparse?: boolean;
+  /** The deviation equations with 6 significant digits when the caller has them already (JSON). */
+  equations?: DeviationEquation[];
   /** How the point was solved (JSON `solve` field): Newton iterations and the achieved relative residual. */
   solve?: PointSolveInfo;
 }
+
+/** Formats that have a sparse form. */
+export const SPARSE_FORMATS: readonly ExportFormat[] = ['json', 'csv', 'numpy'];
 
 export interface PointSolveInfo {
   iterations: number;
@@ -48,8 +59,18 @@ export function exportLinear(a: Analysis, point: string | undefined, format: Exp
 
 /** Same as exportLinear, from a linear model and the point's values. */
 export function exportLinearModel(lin: LinearModel, values: VariableValue[], format: ExportFormat, opts: ExportOptions = {}): string {
+  let s = '';
+  for (const chunk of exportChunks(lin, values, format, opts)) s += chunk;
+  return s;
+}
+
+/**
+ * The export as a sequence of pieces of text, each a whole number of lines, produced as they are written
+ * (the CLI streams them to its output; nothing holds the whole text of a large model).
+ */
+export function exportChunks(lin: LinearModel, values: VariableValue[], format: ExportFormat, opts: ExportOptions = {}): Iterable<string> {
   switch (format) {
-    case 'json': return JSON.stringify(linearExportJson(lin, values, opts.solve), jsonNumbers, 1) + '\n';
+    case 'json': return linearJsonChunks(lin, values, opts);
     case 'csv': return linearCsv(lin, values, opts);
     case 'markdown': return linearMarkdown(lin, values, opts);
     case 'latex': return linearLatex(lin, values, opts);
@@ -63,9 +84,118 @@ export function linearExportJson(lin: LinearModel, values: VariableValue[], solv
   return j;
 }
 
-/** JSON has no NaN or Infinity: they become null. */
-function jsonNumbers(_k: string, v: unknown): unknown {
-  return typeof v === 'number' && !Number.isFinite(v) ? null : v;
+/** Gathers lines into pieces of about this many characters. */
+const CHUNK = 1 << 16;
+
+class Lines {
+  private buf: string[] = [];
+  private size = 0;
+  /** Adds a line; returns a piece of text when enough has gathered. */
+  push(line: string): string | undefined {
+    this.buf.push(line);
+    this.size += line.length + 1;
+    return this.size >= CHUNK ? this.flush() : undefined;
+  }
+  flush(): string | undefined {
+    if (!this.buf.length) return undefined;
+    const s = this.buf.join('\n') + '\n';
+    this.buf = [];
+    this.size = 0;
+    return s;
+  }
+}
+
+/** Runs a line producer and yields the gathered pieces. */
+function* gathered(produce: (emit: (line: string) => void) => Iterable<void>): Generator<string> {
+  const L = new Lines();
+  let ready: string[] = [];
+  const emit = (line: string) => {
+    const c = L.push(line);
+    if (c !== undefined) ready.push(c);
+  };
+  for (const _ of produce(emit)) {
+    void _;
+    if (ready.length) {
+      yield* ready;
+      ready = [];
+    }
+  }
+  yield* ready;
+  const last = L.flush();
+  if (last !== undefined) yield last;
+}
+
+/**
+ * Row i of a sparse matrix as text: every column, numbers written by num and separated by sep. Runs of
+ * zeros are repeated text, so a wide row costs little more than its non-zeros.
+ */
+export function rowText(M: CsrMatrix, i: number, num: (v: number) => string, sep: string): string {
+  const z = num(0);
+  const zeros = (from: number, to: number) => (to <= from ? '' : (from === 0 ? z + (sep + z).repeat(to - 1) : (sep + z).repeat(to - from)));
+  let s = '';
+  let col = 0;
+  for (let t = M.rowPtr[i], e = M.rowPtr[i + 1]; t < e; t++) {
+    const j = M.colIdx[t];
+    s += zeros(col, j) + (j === 0 ? '' : sep) + num(M.values[t]);
+    col = j + 1;
+  }
+  return s + zeros(col, M.cols);
+}
+
+/** JSON text of a number; JSON has no NaN or Infinity: they become null. */
+const jnum = (v: number) => (Number.isFinite(v) ? String(v) : 'null');
+const jstr = (s: string) => JSON.stringify(s);
+const jlist = (xs: string[]) => `[${xs.map(jstr).join(', ')}]`;
+
+/**
+ * JSON (schema in docs/exports.md), written as it is produced: one value or one matrix row per line.
+ * With opts.sparse each matrix is an object in compressed-row form.
+ */
+function linearJsonChunks(lin: LinearModel, values: VariableValue[], o: ExportOptions): Iterable<string> {
+  return gathered(function* (emit) {
+    emit('{');
+    emit(` "schema": ${jstr(LINEAR_SCHEMA)},`);
+    emit(` "point": ${jstr(lin.point)},`);
+    emit(' "values": {');
+    const shown = values.filter((x) => x.kind !== 'const');
+    shown.forEach((x, k) => emit(`  ${jstr(x.name)}: {"value": ${jnum(x.value)}, "unit": ${jstr(x.unit)}}${k < shown.length - 1 ? ',' : ''}`));
+    emit(' },');
+    emit(` "states": ${jlist(lin.states)},`);
+    emit(` "inputs": ${jlist(lin.inputs)},`);
+    emit(` "outputs": ${jlist(lin.outputs)},`);
+    emit(` "units": {"states": ${jlist(lin.stateUnits.map(u1))}, "inputs": ${jlist(lin.inputUnits.map(u1))}, "outputs": ${jlist(lin.outputUnits.map(u1))}, "time": ${jstr(lin.timeUnit)}},`);
+    yield;
+    for (const name of ['A', 'B', 'C', 'D'] as const) {
+      const M = lin.sparse[name];
+      if (o.sparse) {
+        emit(` ${jstr(name)}: {"rows": ${M.rows}, "columns": ${M.cols},`);
+        emit(`  "rowStart": [${Array.from(M.rowPtr).join(', ')}],`);
+        emit(`  "column": [${Array.from(M.colIdx).join(', ')}],`);
+        emit(`  "value": [${Array.from(M.values, jnum).join(', ')}]},`);
+      } else if (!M.rows) emit(` ${jstr(name)}: [],`);
+      else {
+        emit(` ${jstr(name)}: [`);
+        for (let i = 0; i < M.rows; i++) {
+          emit(`  [${rowText(M, i, jnum, ', ')}]${i < M.rows - 1 ? ',' : ''}`);
+          if (i % 256 === 255) yield;
+        }
+        emit(' ],');
+      }
+      yield;
+    }
+    const eig = linearEigen(lin);
+    emit(' "eigenvalues": [');
+    eig.forEach((e, k) => emit(`  {"re": ${jnum(e.re)}, "im": ${jnum(e.im)}}${k < eig.length - 1 ? ',' : ''}`));
+    emit(' ],');
+    yield;
+    const eqs = o.equations ?? deviationEquations(lin, 6);
+    emit(' "equations": [');
+    eqs.forEach((e, k) => emit(`  ${jstr(e.text)}${k < eqs.length - 1 ? ',' : ''}`));
+    emit(' ],');
+    if (o.solve) emit(` "solve": {"iterations": ${o.solve.iterations}, "residual": ${jnum(o.solve.residual)}},`);
+    emit(` "caution": ${jstr(LINEAR_CAUTION)}`);
+    emit('}');
+  });
 }
 
 const fmt = (v: number, o: ExportOptions) => (o.digits === undefined ? String(v) : formatNumber(v, o.digits));
@@ -73,7 +203,7 @@ const u1 = unitText;
 
 interface Matrix {
   name: 'A' | 'B' | 'C' | 'D';
-  data: Float64Array;
+  data: CsrMatrix;
   r: number;
   c: number;
   rowNames: string[];
@@ -88,11 +218,12 @@ function matrices(lin: LinearModel): Matrix[] {
   const su = lin.stateUnits.map(u1);
   const iu = lin.inputUnits.map(u1);
   const ou = lin.outputUnits.map(u1);
+  const S = lin.sparse;
   return [
-    { name: 'A', data: lin.A, r: lin.n, c: lin.n, rowNames: lin.states, colNames: lin.states, rowUnits: su, colUnits: su, rate: true },
-    { name: 'B', data: lin.B, r: lin.n, c: lin.m, rowNames: lin.states, colNames: lin.inputs, rowUnits: su, colUnits: iu, rate: true },
-    { name: 'C', data: lin.C, r: lin.p, c: lin.n, rowNames: lin.outputs, colNames: lin.states, rowUnits: ou, colUnits: su, rate: false },
-    { name: 'D', data: lin.D, r: lin.p, c: lin.m, rowNames: lin.outputs, colNames: lin.inputs, rowUnits: ou, colUnits: iu, rate: false },
+    { name: 'A', data: S.A, r: lin.n, c: lin.n, rowNames: lin.states, colNames: lin.states, rowUnits: su, colUnits: su, rate: true },
+    { name: 'B', data: S.B, r: lin.n, c: lin.m, rowNames: lin.states, colNames: lin.inputs, rowUnits: su, colUnits: iu, rate: true },
+    { name: 'C', data: S.C, r: lin.p, c: lin.n, rowNames: lin.outputs, colNames: lin.states, rowUnits: ou, colUnits: su, rate: false },
+    { name: 'D', data: S.D, r: lin.p, c: lin.m, rowNames: lin.outputs, colNames: lin.inputs, rowUnits: ou, colUnits: iu, rate: false },
   ];
 }
 
@@ -105,21 +236,39 @@ const csvCell = (s: string) => (/[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"
  * `time` (unit = the time unit), `value` (row = a variable, column = fixed|solved, its value and unit),
  * or `A`…`D` (row and column = the deviation variables' names without Δ, the coefficient and its unit).
  */
-export function linearCsv(lin: LinearModel, values: VariableValue[], o: ExportOptions = {}): string {
-  const out = ['kind,row,column,value,unit'];
-  const line = (cells: string[]) => out.push(cells.map(csvCell).join(','));
-  line(['point', lin.point, '', '', '']);
-  line(['time', '', '', '', lin.timeUnit]);
-  line(['caution', LINEAR_CAUTION.replace(/^Caution: /, ''), '', '', '']);
-  for (const v of values) if (v.kind !== 'const') line(['value', v.name, v.role, fmt(v.value, o), v.unit]);
-  for (const M of matrices(lin)) {
-    for (let i = 0; i < M.r; i++) {
-      for (let j = 0; j < M.c; j++) {
-        line([M.name, M.rowNames[i], M.colNames[j], fmt(M.data[i * M.c + j], o), coefficientUnit(M.rowUnits[i], M.colUnits[j], M.rate ? lin.timeUnit : undefined)]);
+export function linearCsv(lin: LinearModel, values: VariableValue[], o: ExportOptions = {}): Iterable<string> {
+  return gathered(function* (line) {
+    const cells = (c: string[]) => line(c.map(csvCell).join(','));
+    line('kind,row,column,value,unit');
+    cells(['point', lin.point, '', '', '']);
+    cells(['time', '', '', '', lin.timeUnit]);
+    cells(['caution', LINEAR_CAUTION.replace(/^Caution: /, ''), '', '', '']);
+    for (const v of values) if (v.kind !== 'const') cells(['value', v.name, v.role, fmt(v.value, o), v.unit]);
+    for (const M of matrices(lin)) {
+      const unitCache = new Map<string, string>();
+      const unitOf = (i: number, j: number) => {
+        const key = `${M.rowUnits[i]}\u0000${M.colUnits[j]}`;
+        let u = unitCache.get(key);
+        if (u === undefined) unitCache.set(key, (u = coefficientUnit(M.rowUnits[i], M.colUnits[j], M.rate ? lin.timeUnit : undefined)));
+        return u;
+      };
+      const D = M.data;
+      const row = new Float64Array(M.c);
+      for (let i = 0; i < M.r; i++) {
+        if (o.sparse) {
+          for (let t = D.rowPtr[i]; t < D.rowPtr[i + 1]; t++) {
+            const j = D.colIdx[t];
+            cells([M.name, M.rowNames[i], M.colNames[j], fmt(D.values[t], o), unitOf(i, j)]);
+          }
+        } else {
+          for (let t = D.rowPtr[i]; t < D.rowPtr[i + 1]; t++) row[D.colIdx[t]] = D.values[t];
+          for (let j = 0; j < M.c; j++) cells([M.name, M.rowNames[i], M.colNames[j], fmt(row[j], o), unitOf(i, j)]);
+          for (let t = D.rowPtr[i]; t < D.rowPtr[i + 1]; t++) row[D.colIdx[t]] = 0;
+        }
+        yield;
       }
     }
-  }
-  return out.join('\n') + '\n';
+  });
 }
 
 // ---------------------------------------------------------------- Markdown
@@ -128,37 +277,55 @@ const mdEscape = (s: string) => s.replace(/\|/g, '\\|');
 const withUnit = (name: string, unit: string) => (unit ? `${name} [${unit}]` : name);
 
 /** A Markdown document: the point's values, the deviation equations, and A, B, C, D as tables. */
-export function linearMarkdown(lin: LinearModel, values: VariableValue[], o: ExportOptions = {}): string {
-  const out: string[] = [];
-  out.push(`## Linear model at point \`${lin.point}\``, '', `Time in ${lin.timeUnit}. Each Δ variable is the deviation from the point, in its declared unit.`, '');
-  out.push('| variable | value | unit | role |', '|---|---:|---|---|');
-  for (const v of values) if (v.kind !== 'const') out.push(`| ${mdEscape(v.name)} | ${fmt(v.value, o)} | ${mdEscape(v.unit)} | ${v.role} |`);
-  out.push('', '```');
-  pushAll(out, deviationLines(lin, o, 'text'));
-  out.push('```', '');
-  for (const M of matrices(lin)) {
-    if (!M.r || !M.c) {
-      out.push(`**${M.name}** ${emptyMatrixText(M.name, M.r, M.c).slice(M.name.length + 1)}`, '');
-      continue;
+export function linearMarkdown(lin: LinearModel, values: VariableValue[], o: ExportOptions = {}): Iterable<string> {
+  return gathered(function* (out) {
+    out(`## Linear model at point \`${lin.point}\``);
+    out('');
+    out(`Time in ${lin.timeUnit}. Each Δ variable is the deviation from the point, in its declared unit.`);
+    out('');
+    out('| variable | value | unit | role |');
+    out('|---|---:|---|---|');
+    for (const v of values) if (v.kind !== 'const') out(`| ${mdEscape(v.name)} | ${fmt(v.value, o)} | ${mdEscape(v.unit)} | ${v.role} |`);
+    out('');
+    out('```');
+    for (const l of deviationLines(lin, o, 'text')) out(l);
+    out('```');
+    out('');
+    yield;
+    for (const M of matrices(lin)) {
+      if (!M.r || !M.c) {
+        out(`**${M.name}** ${emptyMatrixText(M.name, M.r, M.c).slice(M.name.length + 1)}`);
+        out('');
+        continue;
+      }
+      out(`**${M.name}** (${M.r}×${M.c})`);
+      out('');
+      out(`| | ${M.colNames.map((c, j) => mdEscape(withUnit(`Δ${c}`, M.colUnits[j]))).join(' | ')} |`);
+      out(`|---|${M.colNames.map(() => '---:').join('|')}|`);
+      for (let i = 0; i < M.r; i++) {
+        out(`| ${mdEscape(withUnit(`Δ${M.rowNames[i]}${M.rate ? "'" : ''}`, M.rowUnits[i] ? (M.rate ? simplifyUnitText(`${M.rowUnits[i]}/${lin.timeUnit}`) : M.rowUnits[i]) : M.rate ? `1/${lin.timeUnit}` : ''))} | ${rowText(M.data, i, (x) => fmt(x, o), ' | ')} |`);
+        yield;
+      }
+      out('');
     }
-    out.push(`**${M.name}** (${M.r}×${M.c})`, '');
-    out.push(`| | ${M.colNames.map((c, j) => mdEscape(withUnit(`Δ${c}`, M.colUnits[j]))).join(' | ')} |`, `|---|${M.colNames.map(() => '---:').join('|')}|`);
-    rows(M.data, M.r, M.c).forEach((row, i) => out.push(`| ${mdEscape(withUnit(`Δ${M.rowNames[i]}${M.rate ? "'" : ''}`, M.rowUnits[i] ? (M.rate ? simplifyUnitText(`${M.rowUnits[i]}/${lin.timeUnit}`) : M.rowUnits[i]) : M.rate ? `1/${lin.timeUnit}` : ''))} | ${row.map((x) => fmt(x, o)).join(' | ')} |`));
-    out.push('');
-  }
-  const eig = linearEigen(lin);
-  out.push(`Eigenvalues of A [1/${lin.timeUnit}]: ${eig.length ? eig.map((e) => (e.im === 0 ? fmt(e.re, o) : `${fmt(e.re, o)} ${e.im < 0 ? '-' : '+'} ${fmt(Math.abs(e.im), o)}i`)).join(', ') : '(none)'}`);
-  out.push("", `> ${LINEAR_CAUTION}`);
-  return out.join('\n') + '\n';
+    const eig = linearEigen(lin);
+    out(`Eigenvalues of A [1/${lin.timeUnit}]: ${eig.length ? eig.map((e) => (e.im === 0 ? fmt(e.re, o) : `${fmt(e.re, o)} ${e.im < 0 ? '-' : '+'} ${fmt(Math.abs(e.im), o)}i`)).join(', ') : '(none)'}`);
+    out('');
+    out(`> ${LINEAR_CAUTION}`);
+  });
 }
 
 /** Deviation equations with exact (or `digits`) coefficients, as plain text or LaTeX lines. */
 function deviationLines(lin: LinearModel, o: ExportOptions, style: 'text' | 'latex'): string[] {
   const out: string[] = [];
-  const { n, m } = lin;
+  const { n } = lin;
+  const S = lin.sparse;
   const name = (x: string, dot: number) => (style === 'text' ? `Δ${x}${"'".repeat(dot)}` : `\\Delta ${texVar(x, dot)}`);
   const num = (v: number) => (style === 'text' ? fmt(v, o) : texNumber(v, o));
-  const emit = (lhs: string, terms: { c: number; v: string }[]) => {
+  const emit = (lhs: string, M: CsrMatrix, N: CsrMatrix, i: number) => {
+    const terms: { c: number; v: string }[] = [];
+    for (let t = M.rowPtr[i]; t < M.rowPtr[i + 1]; t++) terms.push({ c: M.values[t], v: name(lin.states[M.colIdx[t]], 0) });
+    for (let t = N.rowPtr[i]; t < N.rowPtr[i + 1]; t++) terms.push({ c: N.values[t], v: name(lin.inputs[N.colIdx[t]], 0) });
     let s = '';
     terms.filter((t) => t.c !== 0).forEach((t, k) => {
       const neg = t.c < 0;
@@ -168,19 +335,14 @@ function deviationLines(lin: LinearModel, o: ExportOptions, style: 'text' | 'lat
     });
     out.push(style === 'text' ? `${lhs} = ${s || '0'}` : `${lhs} &= ${s || '0'}`);
   };
+  const index = new Map<string, number>();
+  lin.states.forEach((x, i) => index.set(x, i));
   for (let i = 0; i < n; i++) {
-    const next = lin.states.indexOf(lin.states[i] + "'");
-    if (next >= 0) {
-      let pure = lin.A[i * n + next] === 1;
-      for (let k = 0; k < n && pure; k++) if (k !== next && lin.A[i * n + k] !== 0) pure = false;
-      for (let k = 0; k < m && pure; k++) if (lin.B[i * m + k] !== 0) pure = false;
-      if (pure) continue;
-    }
-    emit(name(lin.states[i], 1), [...lin.states.map((x, j) => ({ c: lin.A[i * n + j], v: name(x, 0) })), ...lin.inputs.map((x, j) => ({ c: lin.B[i * m + j], v: name(x, 0) }))]);
+    const next = index.get(lin.states[i] + "'");
+    if (next !== undefined && impliedShift(S, i, next, 1)) continue;
+    emit(name(lin.states[i], 1), S.A, S.B, i);
   }
-  for (let i = 0; i < lin.p; i++) {
-    emit(name(lin.outputs[i], 0), [...lin.states.map((x, j) => ({ c: lin.C[i * n + j], v: name(x, 0) })), ...lin.inputs.map((x, j) => ({ c: lin.D[i * m + j], v: name(x, 0) }))]);
-  }
+  for (let i = 0; i < lin.p; i++) emit(name(lin.outputs[i], 0), S.C, S.D, i);
   return out;
 }
 
@@ -210,15 +372,21 @@ function texNumber(v: number, o: ExportOptions): string {
   return `${e[1]}\\times 10^{${Number(e[2])}}`;
 }
 
-function texMatrix(M: Matrix, o: ExportOptions): string {
-  if (!M.r || !M.c) return `% ${emptyMatrixText(M.name, M.r, M.c)}`;
-  const body = rows(M.data, M.r, M.c).map((row) => '  ' + row.map((x) => texNumber(x, o)).join(' & ')).join(' \\\\\n');
-  return `${M.name} = \\begin{bmatrix}\n${body}\n\\end{bmatrix}`;
+/** The lines of one matrix as a bmatrix (a comment when it is empty). */
+function* texMatrix(M: Matrix, o: ExportOptions, out: (line: string) => void): Generator<void> {
+  if (!M.r || !M.c) return out(`% ${emptyMatrixText(M.name, M.r, M.c)}`);
+  out(`${M.name} = \\begin{bmatrix}`);
+  for (let i = 0; i < M.r; i++) {
+    out(`  ${rowText(M.data, i, (x) => texNumber(x, o), ' & ')}${i < M.r - 1 ? ' \\\\' : ''}`);
+    yield;
+  }
+  out('\\end{bmatrix}');
 }
 
 /** LaTeX (amsmath): the state, input and output vectors, A, B, C, D as bmatrix, the deviation equations as align. */
-export function linearLatex(lin: LinearModel, values: VariableValue[], o: ExportOptions = {}): string {
-  const out: string[] = [];
+export function linearLatex(lin: LinearModel, values: VariableValue[], o: ExportOptions = {}): Iterable<string> {
+  return gathered(function* (emit) {
+  const out = { push: (...lines: string[]) => lines.forEach(emit) };
   out.push(`% Linear model at point "${lin.point}" (generated by Poise; needs \\usepackage{amsmath}). Time in ${lin.timeUnit}.`);
   out.push(`% ${LINEAR_CAUTION}`);
   out.push('% Operating point (declared units):');
@@ -237,10 +405,12 @@ export function linearLatex(lin: LinearModel, values: VariableValue[], o: Export
   }
   for (const M of ms) {
     if (!M.r || !M.c) {
-      out.push(texMatrix(M, o));
+      yield* texMatrix(M, o, emit);
       continue;
     }
-    out.push('\\begin{equation*}', texMatrix(M, o), '\\end{equation*}');
+    out.push('\\begin{equation*}');
+    yield* texMatrix(M, o, emit);
+    out.push('\\end{equation*}');
   }
   const eqs = deviationLines(lin, o, 'latex');
   if (eqs.length) {
@@ -248,7 +418,7 @@ export function linearLatex(lin: LinearModel, values: VariableValue[], o: Export
     out.push(eqs.map((e) => '  ' + e).join(' \\\\\n'));
     out.push('\\end{align*}');
   }
-  return out.join('\n') + '\n';
+  });
 }
 
 // ---------------------------------------------------------------- Python / NumPy
@@ -256,36 +426,70 @@ export function linearLatex(lin: LinearModel, values: VariableValue[], o: Export
 const pyNum = (v: number, o: ExportOptions) => (Number.isNaN(v) ? 'float("nan")' : !Number.isFinite(v) ? (v > 0 ? 'float("inf")' : '-float("inf")') : fmt(v, o));
 const pyStr = (s: string) => JSON.stringify(s);
 
-/** A Python snippet that builds A, B, C, D as NumPy arrays, with the names and units as comments. */
-export function linearNumpy(lin: LinearModel, values: VariableValue[], o: ExportOptions = {}): string {
-  const out: string[] = [];
-  out.push(`# Linear model at point ${pyStr(lin.point)}, generated by Poise.`);
-  out.push(`# dx/dt = A x + B u,  y = C x + D u;  x, u, y are deviations from the point in declared units; time in ${lin.timeUnit}.`);
-  out.push(`# ${LINEAR_CAUTION}`);
-  out.push('import numpy as np', '');
-  const list = (label: string, names: string[], units: string[]) => {
-    out.push(`${label} = [${names.map(pyStr).join(', ')}]`);
-    out.push(`${label}_units = [${units.map(pyStr).join(', ')}]`);
-  };
-  const ms = matrices(lin);
-  list('states', lin.states, ms[0].rowUnits);
-  list('inputs', lin.inputs, ms[1].colUnits);
-  list('outputs', lin.outputs, ms[2].rowUnits);
-  out.push(`time_unit = ${pyStr(lin.timeUnit)}`, '');
-  out.push('# operating point, declared units');
-  out.push('point = {');
-  for (const v of values) if (v.kind !== 'const') out.push(`    ${pyStr(v.name)}: ${pyNum(v.value, o)},  # ${v.unit ? `[${v.unit}] ` : ''}${v.role}`);
-  out.push('}', '');
-  for (const M of ms) {
-    const rowLabel = (i: number) => `d${M.rowNames[i]}/dt`;
-    out.push(`# ${M.name}: rows ${M.rate ? 'd(state)/dt' : 'outputs'}, columns ${M.colNames.length ? M.colNames.join(', ') : '(none)'}`);
-    if (!M.r || !M.c) {
-      out.push(`# ${emptyMatrixText(M.name, M.r, M.c)}`, `${M.name} = np.zeros((${M.r}, ${M.c}))`, '');
-      continue;
+/**
+ * A Python snippet that builds A, B, C, D as NumPy arrays (with opts.sparse: SciPy sparse matrices in
+ * compressed-row form, one matrix row per line), with the names and units as comments.
+ */
+export function linearNumpy(lin: LinearModel, values: VariableValue[], o: ExportOptions = {}): Iterable<string> {
+  return gathered(function* (emit) {
+    const out = { push: (...lines: string[]) => lines.forEach(emit) };
+    out.push(`# Linear model at point ${pyStr(lin.point)}, generated by Poise.`);
+    out.push(`# dx/dt = A x + B u,  y = C x + D u;  x, u, y are deviations from the point in declared units; time in ${lin.timeUnit}.`);
+    out.push(`# ${LINEAR_CAUTION}`);
+    out.push('import numpy as np');
+    if (o.sparse) {
+      out.push('import scipy.sparse', '');
+      out.push('def sparse_rows(shape, rows):');
+      out.push('    """A compressed-row matrix from one (columns, values) pair per row."""');
+      out.push('    ptr = np.cumsum([0] + [len(c) for c, _ in rows])');
+      out.push('    cols = np.array([j for c, _ in rows for j in c], dtype=np.int64)');
+      out.push('    vals = np.array([x for _, v in rows for x in v], dtype=float)');
+      out.push('    return scipy.sparse.csr_matrix((vals, cols, ptr), shape=shape)');
     }
-    out.push(`${M.name} = np.array([`);
-    rows(M.data, M.r, M.c).forEach((row, i) => out.push(`    [${row.map((x) => pyNum(x, o)).join(', ')}],  # ${M.rate ? rowLabel(i) : M.rowNames[i]}`));
-    out.push('], dtype=float)', '');
-  }
-  return out.join('\n');
+    out.push('');
+    const list = (label: string, names: string[], units: string[]) => {
+      out.push(`${label} = [${names.map(pyStr).join(', ')}]`);
+      out.push(`${label}_units = [${units.map(pyStr).join(', ')}]`);
+    };
+    const ms = matrices(lin);
+    list('states', lin.states, ms[0].rowUnits);
+    list('inputs', lin.inputs, ms[1].colUnits);
+    list('outputs', lin.outputs, ms[2].rowUnits);
+    out.push(`time_unit = ${pyStr(lin.timeUnit)}`, '');
+    out.push('# operating point, declared units');
+    out.push('point = {');
+    for (const v of values) if (v.kind !== 'const') out.push(`    ${pyStr(v.name)}: ${pyNum(v.value, o)},  # ${v.unit ? `[${v.unit}] ` : ''}${v.role}`);
+    out.push('}', '');
+    yield;
+    for (const M of ms) {
+      const last = M.name === 'D';
+      const rowLabel = (i: number) => (M.rate ? `d${M.rowNames[i]}/dt` : M.rowNames[i]);
+      out.push(`# ${M.name}: rows ${M.rate ? 'd(state)/dt' : 'outputs'}, columns ${M.colNames.length ? M.colNames.join(', ') : '(none)'}`);
+      const D = M.data;
+      if (o.sparse) {
+        out.push(`${M.name} = sparse_rows((${M.r}, ${M.c}), [`);
+        for (let i = 0; i < M.r; i++) {
+          const cols: number[] = [];
+          const vals: string[] = [];
+          for (let t = D.rowPtr[i]; t < D.rowPtr[i + 1]; t++) {
+            cols.push(D.colIdx[t]);
+            vals.push(pyNum(D.values[t], o));
+          }
+          out.push(`    ([${cols.join(', ')}], [${vals.join(', ')}]),  # ${rowLabel(i)}`);
+          if (i % 256 === 255) yield;
+        }
+        out.push('])');
+      } else if (!M.r || !M.c) out.push(`# ${emptyMatrixText(M.name, M.r, M.c)}`, `${M.name} = np.zeros((${M.r}, ${M.c}))`);
+      else {
+        out.push(`${M.name} = np.array([`);
+        for (let i = 0; i < M.r; i++) {
+          out.push(`    [${rowText(D, i, (x) => pyNum(x, o), ', ')}],  # ${rowLabel(i)}`);
+          yield;
+        }
+        out.push('], dtype=float)');
+      }
+      if (!last) out.push('');
+      yield;
+    }
+  });
 }

@@ -6,7 +6,7 @@ import { nameRecord } from '../names';
 import type { Analysis, VariableValue } from '../pipeline/analysis';
 import { formatNumber } from '../algebra/expr';
 import type { DeviationEquation, LinearModel } from '../solve/linearizer';
-import { eigenvalues, sortEigen } from '../numeric/eigen';
+import { eigenvalues, eigenvaluesSparse, sortEigen } from '../numeric/eigen';
 import { unitSuffix, unitText } from '../semantics/units';
 import { maxOf, pushAll } from '../arrays';
 
@@ -40,7 +40,8 @@ export function rows(a: Float64Array, r: number, c: number): number[][] {
 
 export function linearEigen(lin: LinearModel): { re: number; im: number }[] {
   if (lin.n === 0) return [];
-  const e = eigenvalues({ rows: lin.n, cols: lin.n, data: lin.A });
+  // from the sparse A: split into diagonal blocks by its structure, never an n² matrix
+  const e = eigenvaluesSparse(lin.sparse.A);
   return sortEigen(e.re, e.im);
 }
 
