@@ -10,6 +10,7 @@ import { Analysis } from '../server/src/core/pipeline/analysis';
 import { eigenvalues } from '../server/src/core/numeric/eigen';
 import { runSweep } from '../server/src/core/analysis/sweep';
 import { latencyLines, lspLatency } from './lspLatency';
+import { eigenBench } from './eigen';
 import { massChain, reportBench } from './report';
 import { tankChain, tankChainSympy } from './models';
 import { scaleBench, startupBench } from './scale';
@@ -93,19 +94,8 @@ async function main() {
   startupBench();
   console.log('');
 
-  // eigenvalues of a dense 500-state matrix
-  const N = 500;
-  const A = new Float64Array(N * N);
-  let seed = 12345;
-  const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648) - 0.5;
-  for (let i = 0; i < N * N; i++) A[i] = rnd();
-  const te = [];
-  for (let r = 0; r < 3; r++) {
-    const t0 = process.hrtime.bigint();
-    eigenvalues({ rows: N, cols: N, data: A });
-    te.push(ms(t0));
-  }
-  console.log(`eigenvalues of a random dense 500×500 A: ${median(te).toFixed(0)} ms (median of 3)`);
+  // eigenvalues: the chain through its structure, dense matrices against NumPy (issue targets printed)
+  eigenBench();
 
   // report of a 50-state model including validity ranges (issue 12 target: under 1 s)
   console.log('');

@@ -307,55 +307,98 @@ function balance(h: Float64Array, n: number): Float64Array {
 }
 
 /**
- * Householder reduction to upper Hessenberg form (in place). The Householder
- * vectors stay below the subdiagonal of h (column m−1, rows > m) with their
- * leading element in ort[m]; applied[m] marks the reflections actually used
- * (columns already in Hessenberg shape are skipped).
+ * Householder reduction to upper Hessenberg form (in place), with the same result and storage as
+ * the classical one-reflection-at-a-time reduction: the Householder vectors stay below the
+ * subdiagonal of h (column m−1, rows > m) with their leading element in ort[m]; applied[m] marks
+ * the reflections actually used. The work is arranged for row-major storage and one pass through
+ * the matrix per reflection: reflection m is applied from the right and its left update is only
+ * accumulated (f = uᵀH/hh) while each row is in cache; that left update is then applied, in the
+ * next reflection's pass, to each row just before that row gets the next right update. The column
+ * the next reflection needs is brought up to date on its own first.
  */
 function orthes(h: Float64Array, n: number, ort: Float64Array, applied: Uint8Array): void {
   const high = n - 1;
-  const f = new Float64Array(n);
+  let uPrev = new Float64Array(n);
+  let uCur = new Float64Array(n);
+  let fPrev = new Float64Array(n);
+  let fCur = new Float64Array(n);
+  let mPrev = -1; // reflection whose left update is pending (−1: none)
   for (let m = 1; m <= high - 1; m++) {
+    // column m−1, rows m..high, with the pending left update
     let below = 0;
-    for (let i = m + 1; i <= high; i++) below += Math.abs(h[i * n + m - 1]);
-    if (below === 0) continue;
-    applied[m] = 1;
-    const scale = below + Math.abs(h[m * n + m - 1]);
-    let hh = 0;
-    for (let i = high; i >= m; i--) {
-      ort[i] = h[i * n + m - 1] / scale;
-      hh += ort[i] * ort[i];
-    }
-    let g = Math.sqrt(hh);
-    if (ort[m] > 0) g = -g;
-    hh -= ort[m] * g;
-    ort[m] -= g;
-    // left: rows m..high, columns m..n-1
-    for (let j = m; j < n; j++) f[j] = 0;
+    const fp = mPrev >= 0 ? fPrev[m - 1] : 0;
     for (let i = m; i <= high; i++) {
-      const oi = ort[i];
-      if (oi === 0) continue;
-      const row = i * n;
-      for (let j = m; j < n; j++) f[j] += oi * h[row + j];
+      const x = mPrev >= 0 ? h[i * n + m - 1] - uPrev[i] * fp : h[i * n + m - 1];
+      uCur[i] = x;
+      if (i > m) below += Math.abs(x);
     }
-    for (let j = m; j < n; j++) f[j] /= hh;
-    for (let i = m; i <= high; i++) {
-      const oi = ort[i];
-      if (oi === 0) continue;
-      const row = i * n;
-      for (let j = m; j < n; j++) h[row + j] -= f[j] * oi;
+    let hh = 0, g = 0, scale = 0;
+    const use = below !== 0;
+    if (use) {
+      applied[m] = 1;
+      scale = below + Math.abs(uCur[m]);
+      for (let i = high; i >= m; i--) {
+        uCur[i] /= scale;
+        hh += uCur[i] * uCur[i];
+      }
+      g = Math.sqrt(hh);
+      if (uCur[m] > 0) g = -g;
+      hh -= uCur[m] * g;
+      uCur[m] -= g;
+      for (let j = m; j < n; j++) fCur[j] = 0;
     }
-    // right: rows 0..high, columns m..high
+    // the pass: pending left update of mPrev, right update of m, accumulate m's left update
+    const lo = mPrev >= 0 ? mPrev : n;
     for (let i = 0; i <= high; i++) {
       const row = i * n;
       let s = 0;
-      for (let j = m; j <= high; j++) s += ort[j] * h[row + j];
+      const a = i >= lo ? uPrev[i] : 0;
+      if (a !== 0) {
+        h[row + lo] -= a * fPrev[lo];
+        for (let j = lo + 1; j < m; j++) h[row + j] -= a * fPrev[j];
+        if (use) {
+          for (let j = m; j <= high; j++) {
+            const v = h[row + j] - a * fPrev[j];
+            h[row + j] = v;
+            s += uCur[j] * v;
+          }
+        } else {
+          for (let j = m; j <= high; j++) h[row + j] -= a * fPrev[j];
+        }
+      } else if (use) {
+        for (let j = m; j <= high; j++) s += uCur[j] * h[row + j];
+      }
+      if (!use) continue;
       s /= hh;
-      if (s === 0) continue;
-      for (let j = m; j <= high; j++) h[row + j] -= s * ort[j];
+      const b = i >= m ? uCur[i] : 0;
+      if (b !== 0) {
+        for (let j = m; j <= high; j++) {
+          const v = h[row + j] - s * uCur[j];
+          h[row + j] = v;
+          fCur[j] += b * v;
+        }
+      } else if (s !== 0) {
+        for (let j = m; j <= high; j++) h[row + j] -= s * uCur[j];
+      }
     }
-    ort[m] = scale * ort[m];
-    h[m * n + m - 1] = scale * g;
+    if (use) {
+      for (let j = m; j < n; j++) fCur[j] /= hh;
+      ort[m] = scale * uCur[m];
+      h[m * n + m - 1] = scale * g;
+      [uPrev, uCur] = [uCur, uPrev];
+      [fPrev, fCur] = [fCur, fPrev];
+      mPrev = m;
+    } else {
+      mPrev = -1;
+    }
+  }
+  if (mPrev >= 0) {
+    for (let i = mPrev; i <= high; i++) {
+      const a = uPrev[i];
+      if (a === 0) continue;
+      const row = i * n;
+      for (let j = mPrev; j < n; j++) h[row + j] -= a * fPrev[j];
+    }
   }
 }
 
