@@ -4,6 +4,7 @@
  * nonlinear step responses and the validity range of the linear model per input. `renderReportHtml`
  * (reportHtml.ts) turns it into one standalone page; `formatReportText` into a readable summary. Pure.
  */
+import { timeUnitLabel } from '../semantics/units';
 import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import {
@@ -163,7 +164,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   const tolerance = opts.tolerance ?? 0.05;
   const timingsMs: Record<string, number> = {};
   const data: ReportData = {
-    format: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: a.lowered.timeUnit || 's', digest: a.pointBlock(point) ? a.digest(point) : '',
+    format: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: timeUnitLabel(a.lowered.timeUnit), digest: a.pointBlock(point) ? a.digest(point) : '',
     ok: false, problems: [], values: [], states: [], inputs: [], outputs: [], stateUnits: [], inputUnits: [], outputUnits: [], outputsAreStates: false,
     matrices: null, stability: null, eigenvalues: [], modes: [], dcGain: null, transfer: [], controllability: null, observability: null,
     frequency: null, horizon: null, tolerance, steps: [], validity: null, cautions: CAUTIONS.slice(), timingsMs,

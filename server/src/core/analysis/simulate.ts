@@ -16,6 +16,7 @@
  * integrator shrinks its step, and when it cannot get past, the result has status 'domain' with a message
  * naming the function and the states that left their sign. Never throws for model failures.
  */
+import { timeUnitLabel } from '../semantics/units';
 import type { Analysis } from '../pipeline/analysis';
 import { compileModel, type CompiledModel } from '../model/jacobian';
 import type { LoweredModel } from '../model/model';
@@ -375,7 +376,7 @@ export class Simulator {
     }
     return {
       status: 'failed', t: tOut, states, outputs, reached, stats,
-      message: `The nonlinear integration stopped at t = ${fmtV(reached)} ${lm.timeUnit || 's'}: ${sol.message ?? 'the algebraic equations could not be solved'}.`,
+      message: `The nonlinear integration stopped at t = ${fmtV(reached)} ${timeUnitLabel(lm.timeUnit)}: ${sol.message ?? 'the algebraic equations could not be solved'}.`,
     };
   }
 
@@ -408,7 +409,7 @@ export class Simulator {
 
   private domainMessage(t: number): string {
     const d = this.domainDetail();
-    return `The step drives the model out of its domain near t = ${fmtV(t)} ${this.lm.timeUnit || 's'}${d ? `: ${d}` : ''}.`;
+    return `The step drives the model out of its domain near t = ${fmtV(t)} ${timeUnitLabel(this.lm.timeUnit)}${d ? `: ${d}` : ''}.`;
   }
 }
 

@@ -9,6 +9,7 @@
  * Jacobian becomes singular) or continuation fails even at the smallest step, the sweep stops cleanly
  * and returns what it has. Pure: takes an Analysis, returns plain data.
  */
+import { timeUnitLabel } from '../semantics/units';
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
 import { diag, type Diagnostic } from '../diagnostics';
@@ -379,7 +380,7 @@ export function sweepValues(spec: Pick<SweepSpec, 'from' | 'to' | 'steps' | 'log
 export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}): SweepResult {
   const lm = a.lowered;
   const slot = varSlot(a, spec.vary);
-  const timeUnit = lm.timeUnit || 's';
+  const timeUnit = timeUnitLabel(lm.timeUnit);
   const columns = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => ({ name: s.name, unit: s.unit.text === '1' ? '' : s.unit.text, kind: s.kind === 'deriv' ? 'state' : s.kind }));
   const colSlots = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => s.id);
   const outputs = lm.slots.filter((s) => s.kind === 'output').map((s) => s.name);

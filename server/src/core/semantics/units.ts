@@ -327,3 +327,10 @@ export function formatDims(d: Dims): string {
 export function unitLabel(u: UnitInfo | undefined): string {
   return u && u.text && u.text !== '1' ? u.text : '';
 }
+
+/**
+ * The label of the model's time unit. A model without units (or with a bare `time`) has dimensionless
+ * time: its rates are per time unit, never per second (docs/language.md, "time").
+ */
+export const NONDIMENSIONAL_TIME = 'time unit';
+export const timeUnitLabel = (text: string): string => text || NONDIMENSIONAL_TIME;

@@ -196,10 +196,19 @@ export function evaluateFactored(tf: Pick<TransferFunction, 'gain' | 'poles' | '
  * parts (row-major). Throws when s is an eigenvalue of A.
  */
 export function evaluateTransfer(sys: Pick<LinearSystem, 'n' | 'm' | 'p' | 'A' | 'B' | 'C' | 'D'>, s: Complex): { re: Float64Array; im: Float64Array } {
+  return evaluateTransferWithScale(sys, s).G;
+}
+
+/**
+ * G(s) as {@link evaluateTransfer}, with the scale of every entry: |C_i|·|x_j| where x_j = (sI − A)⁻¹·b_j.
+ * An entry far below its scale is a cancellation to rounding: no path from that input to that output.
+ */
+export function evaluateTransferWithScale(sys: Pick<LinearSystem, 'n' | 'm' | 'p' | 'A' | 'B' | 'C' | 'D'>, s: Complex): { G: { re: Float64Array; im: Float64Array }; scale: Float64Array } {
   const { n, m, p } = sys;
   const re = Float64Array.from(sys.D);
   const im = new Float64Array(p * m);
-  if (n === 0) return { re, im };
+  const scale = new Float64Array(p * m);
+  if (n === 0) return { G: { re, im }, scale };
   const are: DenseMatrix = { rows: n, cols: n, data: new Float64Array(n * n) };
   const aim: DenseMatrix = { rows: n, cols: n, data: new Float64Array(n * n) };
   for (let k = 0; k < n * n; k++) are.data[k] = -sys.A[k];
@@ -208,18 +217,26 @@ export function evaluateTransfer(sys: Pick<LinearSystem, 'n' | 'm' | 'p' | 'A' |
     aim.data[i * n + i] = s.im;
   }
   const X = complexSolve(are, aim, { rows: n, cols: m, data: Float64Array.from(sys.B) }, { rows: n, cols: m, data: new Float64Array(n * m) });
+  const xNorm = new Float64Array(m);
+  for (let k = 0; k < n; k++) for (let j = 0; j < m; j++) xNorm[j] += X.re.data[k * m + j] ** 2 + X.im.data[k * m + j] ** 2;
   for (let i = 0; i < p; i++) {
+    let cNorm = 0;
     for (let k = 0; k < n; k++) {
       const c = sys.C[i * n + k];
       if (c === 0) continue;
+      cNorm += c * c;
       for (let j = 0; j < m; j++) {
         re[i * m + j] += c * X.re.data[k * m + j];
         im[i * m + j] += c * X.im.data[k * m + j];
       }
     }
+    for (let j = 0; j < m; j++) scale[i * m + j] = Math.sqrt(cNorm * xNorm[j]);
   }
-  return { re, im };
+  return { G: { re, im }, scale };
 }
+
+/** Below this fraction of its scale |C_i|·|x_j| an entry of G(s) is rounding, not a path. */
+const NO_PATH = 1e-12;
 
 export function transferFunctions(sys: LinearSystem, bal: Balanced, rtol: number, rho: number, axisTol: number): TransferFunction[] {
   const { n, m, p } = sys;
@@ -255,14 +272,15 @@ export function transferFunctions(sys: LinearSystem, bal: Balanced, rtol: number
   // test points for the gains: at the typical frequency, away from every pole and zero
   const w0 = scaleCount ? Math.exp(scaleSum / scaleCount) : rho > 0 ? rho : 1;
   const all = pairs.flatMap((q) => [...q.poles, ...q.zeros]);
-  const evals: { s: Complex; G: { re: Float64Array; im: Float64Array } }[] = [];
+  const evals: { s: Complex; G: { re: Float64Array; im: Float64Array }; scale: Float64Array }[] = [];
   for (let t = 0; t < 16 && evals.length < 2; t++) {
     const ang = 0.93 + 0.41 * t;
     const rad = w0 * (1 + 0.17 * t);
     const s: Complex = { re: rad * Math.cos(ang), im: rad * Math.abs(Math.sin(ang)) + 1e-3 * rad };
     if (all.some((x) => Math.hypot(x.re - s.re, x.im - s.im) < 1e-3 * rad)) continue;
     try {
-      evals.push({ s, G: evaluateTransfer(sys, s) });
+      const r = evaluateTransferWithScale(sys, s);
+      evals.push({ s, G: r.G, scale: r.scale });
     } catch {
       // s is (numerically) an eigenvalue: try the next point
     }
@@ -272,7 +290,9 @@ export function transferFunctions(sys: LinearSystem, bal: Balanced, rtol: number
     const d = sys.D[i * m + j];
     const unit = perUnit(sys.outputUnits[i], sys.inputUnits[j]);
     const base = { input: sys.inputs[j], output: sys.outputs[i], inputIndex: j, outputIndex: i, unit };
-    if (mp.r === 0) {
+    // no path from input j to output i (to rounding): every test point shows only cancellation
+    const noPath = d === 0 && evals.length > 0 && evals.every((e) => Math.hypot(e.G.re[i * m + j], e.G.im[i * m + j]) <= NO_PATH * e.scale[i * m + j]);
+    if (mp.r === 0 || noPath) {
       out.push({
         ...base, num: d === 0 ? [0] : [d], den: [1], poles: [], zeros: [], gain: d, order: 0, relativeDegree: d === 0 ? null : 0,
         cancelled: n, identicallyZero: d === 0, dcGain: d, checkError: 0,
