@@ -499,16 +499,19 @@ function replaceNode(root: E.Node, target: E.Node, by: E.Node): E.Node {
 }
 
 /**
- * Whether the equation really has two slopes at a kink: the gradient of the residual with the kinked
- * function replaced by each of its branches, compared at the point. `w*abs(w)` at w = 0 has one slope (0)
+ * Whether the equation really has two slopes (or a jump) at a kink: the residual and its gradient with the
+ * kinked function replaced by each of its branches, compared at the point. `w*abs(w)` at w = 0 has one slope (0)
  * on both sides, so the linear model is exact there and no warning is due.
  */
 function hasTwoSlopes(residual: E.Node, kink: E.Node, branches: [E.Node, E.Node], values: Float64Array): boolean {
   const [r1, r2] = branches.map((b) => replaceNode(residual, kink, b));
+  const close = (x: number, y: number): boolean => Math.abs(x - y) <= 1e-12 * (Math.abs(x) + Math.abs(y)) + 1e-300;
+  // a jump (sign) shows in the values, a kink (abs, min, max) in the slopes
+  if (!close(E.evaluate(r1, values), E.evaluate(r2, values))) return true;
   for (const id of E.slots(residual)) {
     const g1 = E.evaluate(E.derivative(r1, id), values);
     const g2 = E.evaluate(E.derivative(r2, id), values);
-    if (!(Math.abs(g1 - g2) <= 1e-12 * (Math.abs(g1) + Math.abs(g2)) + 1e-300)) return true;
+    if (!close(g1, g2)) return true;
   }
   return false;
 }
