@@ -116,3 +116,54 @@ describe('a kink is reported only where the linear model really has two slopes',
     expect(kinks('k*max(w, 0 [m/s])^2')).toBe(0);
   });
 });
+
+describe('zeros at the origin are exact, with their multiplicity', () => {
+  // Quarter-car model: road height → suspension travel is −(kt/mu)·s²/Δ(s)/(ms·mu)… with a double zero at
+  // s = 0 (a constant road height, and a constant road slope, leave no steady travel), derived by hand from
+  // the two force balances (any vehicle-dynamics text, e.g. Gillespie, Fundamentals of Vehicle Dynamics,
+  // 1992, ride chapter). Invented demo numbers.
+  const [ms, mu, ks, cs, kt] = [320, 45, 21000, 1500, 190000];
+  const model = dedent(`
+    const ms = ${ms} [kg]
+    const mu = ${mu} [kg]
+    const ks = ${ks} [N/m]
+    const cs = ${cs} [N*s/m]
+    const kt = ${kt} [N/m]
+    input zr [m]
+    state zs [m]
+    state zu [m]
+    output travel [m] = zs - zu
+    ms*zs'' = -ks*(zs - zu) - cs*(zs' - zu')
+    mu*zu'' = ks*(zs - zu) + cs*(zs' - zu') - kt*(zu - zr)
+    point level:
+      zr = 0 [m]
+  `);
+  it('road → travel: exactly two zeros at 0, gain −kt/mu, poles the roots of Δ(s)', async () => {
+    const { analyzeDynamics, linearSystem, frequencyGrid } = await import('../server/src/core/analysis/dynamics');
+    const s = solve(model);
+    const d = analyzeDynamics(linearSystem(s.lin));
+    const tf = d.transfer.find((t) => t.output === 'travel')!;
+    expect(tf.zeros).toEqual([{ re: 0, im: 0 }, { re: 0, im: 0 }]);
+    expect(Math.abs(tf.gain - -kt / mu)).toBeLessThan(1e-9 * (kt / mu));
+    // Δ(s)/(ms·mu) = s⁴ + a3 s³ + a2 s² + a1 s + a0 from (mu s² + cs s + ks + kt)(ms s² + cs s + ks) − (cs s + ks)²
+    const a3 = (cs * (ms + mu)) / (ms * mu);
+    const a2 = (ms * (ks + kt) + mu * ks + cs * cs - cs * cs) / (ms * mu);
+    const a1 = (cs * (ks + kt) + cs * ks - 2 * cs * ks) / (ms * mu);
+    const a0 = ((ks + kt) * ks - ks * ks) / (ms * mu);
+    const expected = [1, a3, a2, a1, a0];
+    tf.den.forEach((c, k) => expect(Math.abs(c - expected[k])).toBeLessThan(1e-9 * Math.abs(expected[k])));
+    // the frequency grid starts near the slowest pole, not at 1e-9
+    expect(frequencyGrid(d)[0]).toBeGreaterThan(1e-3);
+  });
+  it('a genuine small zero is kept (not snapped): (s + 1e-5)/((s + 1)(s + 2))', async () => {
+    const { analyzeDynamics } = await import('../server/src/core/analysis/dynamics');
+    // controllable canonical form of (s + 1e-5)/(s² + 3 s + 2)
+    const sys: LinearSystem = {
+      n: 2, m: 1, p: 1, A: Float64Array.from([0, 1, -2, -3]), B: Float64Array.from([0, 1]), C: Float64Array.from([1e-5, 1]), D: new Float64Array(1),
+      states: ['x1', 'x2'], inputs: ['u'], outputs: ['y'], stateUnits: ['', ''], inputUnits: [''], outputUnits: [''], timeUnit: 's', outputsAreStates: false,
+    };
+    const tf = analyzeDynamics(sys).transfer[0];
+    expect(tf.zeros.length).toBe(1);
+    expect(Math.abs(tf.zeros[0].re + 1e-5)).toBeLessThan(1e-12);
+  });
+});

@@ -87,7 +87,7 @@ export function minimalPair(A: Float64Array, b: Float64Array, c: Float64Array, d
  * u = −a_{q,q+1}·x_{q+1}/b_q; the remaining coordinates then follow
  * x' = (A₂₂ − (a_{q,q+1}/b_q)·b₂·e₁ᵀ)x, whose eigenvalues are the zeros.
  */
-function pairZeros(mp: MinimalPair, tolRel: number): { zeros: Complex[]; relativeDegree: number } {
+function pairZeros(mp: MinimalPair, tolRel: number): { zeros: Complex[]; relativeDegree: number; norm: number; dim: number } {
   const { A, b, gamma, d, r } = mp;
   let nb = 0;
   for (let i = 0; i < r; i++) nb += b[i] * b[i];
@@ -97,11 +97,11 @@ function pairZeros(mp: MinimalPair, tolRel: number): { zeros: Complex[]; relativ
   if (dRelevant) {
     const Z = Float64Array.from(A);
     for (let i = 0; i < r; i++) Z[i * r] -= (b[i] * gamma) / d;
-    return { zeros: eigList(Z, r), relativeDegree: 0 };
+    return { zeros: eigList(Z, r), relativeDegree: 0, norm: frob(Z), dim: r };
   }
   let q = 0;
   while (q < r && Math.abs(b[q]) <= tolRel * nb) q++;
-  if (q >= r - 1) return { zeros: [], relativeDegree: r };
+  if (q >= r - 1) return { zeros: [], relativeDegree: r, norm: 0, dim: 0 };
   const k = r - q - 1;
   const Z = new Float64Array(k * k);
   const f = A[q * r + q + 1] / b[q];
@@ -109,12 +109,43 @@ function pairZeros(mp: MinimalPair, tolRel: number): { zeros: Complex[]; relativ
     for (let j = 0; j < k; j++) Z[i * k + j] = A[(q + 1 + i) * r + (q + 1 + j)];
     Z[i * k] -= f * b[q + 1 + i];
   }
-  return { zeros: eigList(Z, k), relativeDegree: q + 1 };
+  return { zeros: eigList(Z, k), relativeDegree: q + 1, norm: Math.max(frob(Z), na), dim: k };
 }
 
 /** Roots within tol of the origin are the origin (integrators, differentiators): exactly 0. */
 export function snapRoots(r: Complex[], tol: number): Complex[] {
   return sortRoots(r.map((x) => (Math.hypot(x.re, x.im) <= tol ? { re: 0, im: 0 } : x)));
+}
+
+const EPS = 2.220446049250313e-16;
+
+/**
+ * Roots at the origin, with their multiplicity decided by the conditioning of the eigenvalue problem they
+ * came from (a matrix of order `dim` and norm `norm`). A k-fold eigenvalue perturbed by rounding of size
+ * ε·‖M‖ splits into k roots about (ε·‖M‖^k)^(1/k)·c away, while their centroid moves only O(ε·‖M‖)
+ * (T. Kato, Perturbation Theory for Linear Operators, 1966, ch. II; the usual argument for clusters). So
+ * the k roots nearest the origin are a k-fold root at 0 when each lies within ‖M‖·(c·ε)^(1/k), their
+ * centroid within ‖M‖·c·ε, and the next root is clearly farther. Such roots are set to exactly 0.
+ */
+export function snapOriginCluster(roots: Complex[], norm: number, dim: number): Complex[] {
+  if (!roots.length || !(norm > 0)) return roots;
+  const c = 64 * Math.max(dim, 1);
+  const byMag = roots.map((z, i) => ({ z, i, a: Math.hypot(z.re, z.im) })).sort((x, y) => x.a - y.a);
+  let best = 0;
+  let sre = 0, sim = 0;
+  for (let k = 1; k <= byMag.length; k++) {
+    sre += byMag[k - 1].z.re;
+    sim += byMag[k - 1].z.im;
+    const spread = norm * Math.pow(c * EPS, 1 / k);
+    if (byMag[k - 1].a > spread) continue;
+    const centroid = Math.hypot(sre, sim) / k;
+    const next = k < byMag.length ? byMag[k].a : Infinity;
+    if (centroid <= norm * c * EPS && next > 10 * spread) best = k;
+  }
+  if (!best) return roots;
+  const out = roots.slice();
+  for (let k = 0; k < best; k++) out[byMag[k].i] = { re: 0, im: 0 };
+  return sortRoots(out);
 }
 
 const rootSnap = AXIS_TOL;
@@ -256,9 +287,9 @@ export function transferFunctions(sys: LinearSystem, bal: Balanced, rtol: number
       }
       const mp = minimalPair(bal.A, b, c, sys.D[i * m + j] * bal.inScale[j] * bal.outScale[i], n, tolA);
       const snap = rootSnap * Math.max(rho, 1e-300);
-      const poles = mp.r ? snapRoots(eigList(mp.A, mp.r), snap) : [];
-      const z = mp.r ? pairZeros(mp, rtol) : { zeros: [], relativeDegree: 0 };
-      z.zeros = snapRoots(z.zeros, snap);
+      const poles = mp.r ? snapOriginCluster(snapRoots(eigList(mp.A, mp.r), snap), frob(mp.A), mp.r) : [];
+      const z = mp.r ? pairZeros(mp, rtol) : { zeros: [], relativeDegree: 0, norm: 0, dim: 0 };
+      z.zeros = snapOriginCluster(snapRoots(z.zeros, snap), z.norm, z.dim);
       for (const x of [...poles, ...z.zeros]) {
         const a = Math.hypot(x.re, x.im);
         if (a > axisTol && Number.isFinite(a)) {
