@@ -6,6 +6,7 @@
  * readable summary. Pure.
  */
 import { dynamicsProblem } from './finiteDynamics';
+import { timeUnitLabel } from '../semantics/units';
 import { hasName } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import {
@@ -159,7 +160,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   const tolerance = opts.tolerance ?? 0.05;
   const timingsMs: Record<string, number> = {};
   const data: ReportData = {
-    schema: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: a.lowered.timeUnit || 's', digest: a.pointBlock(point) ? a.digest(point) : '',
+    schema: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: timeUnitLabel(a.lowered.timeUnit), digest: a.pointBlock(point) ? a.digest(point) : '',
     ok: false, problems: [], values: [], states: [], inputs: [], outputs: [], stateUnits: [], inputUnits: [], outputUnits: [], outputsAreStates: false,
     matrices: null, stability: null, eigenvalues: [], modes: [], dcGain: null, transfer: [], controllability: null, observability: null,
     frequency: null, horizon: null, tolerance, steps: [], validity: null, cautions: CAUTIONS.slice(), timingsMs,

@@ -16,6 +16,7 @@
  * integrator shrinks its step, and when it cannot get past, the result has status 'domain' with a message
  * naming the function and the states that left their sign. Never throws for model failures.
  */
+import { timeUnitLabel } from '../semantics/units';
 import type { Analysis } from '../pipeline/analysis';
 import { compileModel, type CompiledModel } from '../model/jacobian';
 import type { LoweredModel } from '../model/model';
@@ -377,7 +378,7 @@ export class Simulator {
     }
     return {
       status: 'failed', t: tOut, states, outputs, reached, stats,
-      message: `The nonlinear integration stopped at t = ${formatShort(reached)} ${lm.timeUnit || 's'}: ${sol.message ?? 'the algebraic equations could not be solved'}.`,
+      message: `The nonlinear integration stopped at t = ${formatShort(reached)} ${timeUnitLabel(lm.timeUnit)}: ${sol.message ?? 'the algebraic equations could not be solved'}.`,
     };
   }
 
@@ -410,7 +411,7 @@ export class Simulator {
 
   private domainMessage(t: number): string {
     const d = this.domainDetail();
-    return `The step drives the model out of its domain near t = ${formatShort(t)} ${this.lm.timeUnit || 's'}${d ? `: ${d}` : ''}.`;
+    return `The step drives the model out of its domain near t = ${formatShort(t)} ${timeUnitLabel(this.lm.timeUnit)}${d ? `: ${d}` : ''}.`;
   }
 }
 

@@ -11,6 +11,7 @@
  * pipeline/sweepChecks.ts; modes, verdicts and gains come from analysis/dynamics/; the renderings are in
  * present/ (sweepText.ts, sweepCsv.ts, sweepJson.ts, sweepHtml.ts).
  */
+import { timeUnitLabel } from '../semantics/units';
 import type { Analysis } from '../pipeline/analysis';
 import type { Diagnostic } from '../diagnostics';
 import { formatNumber } from '../algebra/expr';
@@ -209,7 +210,7 @@ export function sweepValues(spec: Pick<SweepSpec, 'from' | 'to' | 'steps' | 'log
 export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}): SweepResult {
   const lm = a.lowered;
   const slot = varSlot(a, spec.vary);
-  const timeUnit = lm.timeUnit || 's';
+  const timeUnit = timeUnitLabel(lm.timeUnit);
   const columns = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => ({ name: s.name, unit: unitText(s.unit.text), kind: s.kind === 'deriv' ? 'state' : s.kind }));
   const colSlots = lm.slots.filter((s) => s.order === 0 && s.kind !== 'const').map((s) => s.id);
   const outputs = lm.slots.filter((s) => s.kind === 'output').map((s) => s.name);

@@ -367,3 +367,10 @@ export function unitSuffix(text: string | undefined): string {
   const t = unitText(text);
   return t ? ` [${t}]` : '';
 }
+
+/**
+ * The label of the model's time unit. A model without units (or with a bare `time`) has dimensionless
+ * time: its rates are per time unit, never per second (docs/language.md, "time").
+ */
+export const NONDIMENSIONAL_TIME = 'time unit';
+export const timeUnitLabel = (text: string): string => text || NONDIMENSIONAL_TIME;

@@ -6,6 +6,7 @@
  * operating values, its value and unit). Pure.
  */
 import { escapeMarkdown } from './markdown';
+import { timeUnitLabel } from '../semantics/units';
 import { hasName, nameTable } from '../names';
 import type { Analysis } from '../pipeline/analysis';
 import type * as A from '../syntax/ast';
@@ -206,7 +207,7 @@ function pointText(a: Analysis, name: string, digits: number): string {
     out.push('', `No linear model: ${d ? d.message : 'it could not be formed.'}`);
     return out.join('\n');
   }
-  const tu = lin.timeUnit || 's';
+  const tu = timeUnitLabel(lin.timeUnit);
   if (lin.n === 0) {
     out.push('', 'The model has no states: no eigenvalues (a static model).');
     return out.join('\n');

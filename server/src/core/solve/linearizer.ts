@@ -5,6 +5,7 @@
  * algebraic unknowns are eliminated:  [Δw; Δz] = −[F_w F_z]⁻¹ (F_x Δx + F_u Δu).
  * A, B, C, D are returned in the declared units of each variable, time in the model's time unit.
  */
+import { timeUnitLabel } from '../semantics/units';
 import { diag, type Diagnostic } from '../diagnostics';
 import { formatNumber } from '../algebra/expr';
 import { compileModel } from '../model/jacobian';
@@ -97,7 +98,7 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
     point, states: states.map((s) => lm.slots[s].name), inputs: inputs.map((s) => lm.slots[s].name), outputs: outputs.map((s) => lm.slots[s].name),
     stateUnits: states.map((s) => lm.slots[s].unit.text), inputUnits: inputs.map((s) => lm.slots[s].unit.text), outputUnits: outputs.map((s) => lm.slots[s].unit.text),
     sparse: { A: emptyCsr(n, n), B: emptyCsr(n, m), C: emptyCsr(p, n), D: emptyCsr(p, m) }, n, m, p,
-    stateSlots: states, inputSlots: inputs, outputSlots: outputs, timeUnit: lm.timeUnit || 's', diagnostics, ok: false as boolean,
+    stateSlots: states, inputSlots: inputs, outputSlots: outputs, timeUnit: timeUnitLabel(lm.timeUnit), diagnostics, ok: false as boolean,
   });
 
   const N = unknownSlots.length; // highest derivatives then algebraic

@@ -526,11 +526,11 @@ export function pointChecks(lm: LoweredModel, values: Float64Array, point: strin
           break;
         case 'abs':
         case 'sign':
-          if (a === 0) report('P505', n.src, `${n.fn} at zero`, eq.span);
+          if (a === 0 && hasTwoSlopes(eq.residual, n, n.fn === 'abs' ? [n.args[0], E.neg(n.args[0])] : [E.ONE, E.num(-1)], values)) report('P505', n.src, `${n.fn} at zero`, eq.span);
           break;
         case 'min':
         case 'max':
-          if (a === b) report('P505', n.src, `${n.fn} with both arguments equal (${fmt(a)})`, eq.span);
+          if (a === b && hasTwoSlopes(eq.residual, n, [n.args[0], n.args[1]], values)) report('P505', n.src, `${n.fn} with both arguments equal (${fmt(a)})`, eq.span);
           break;
       }
     };
@@ -552,4 +552,36 @@ function domainDiagnostic(lm: LoweredModel, values: Float64Array, point: string,
     return diag('P503', pointSpan, { point, detail: `${when} ${d.message.replace(/^Domain error at point "[^"]*": /, '').replace(/\.$/, '')}; give guesses ("~") inside the model's domain.` }, { related: [{ span: d.span, message: 'here' }] });
   }
   return diag('P503', pointSpan, { point, detail: `${when} the equations evaluate to non-finite values${rows.length ? '' : ''}; give guesses ("~") inside the model's domain.` });
+}
+
+/** root with the node `target` replaced by `by` (structural rebuild through the folding constructors). */
+function replaceNode(root: E.Node, target: E.Node, by: E.Node): E.Node {
+  if (root === target) return by;
+  switch (root.t) {
+    case 'num':
+    case 'sym':
+      return root;
+    case 'add': return E.add(root.args.map((a) => replaceNode(a, target, by)), root.src);
+    case 'mul': return E.mul(root.args.map((a) => replaceNode(a, target, by)), root.src);
+    case 'pow': return E.pow(replaceNode(root.base, target, by), replaceNode(root.exp, target, by), root.src);
+    case 'fn': return E.fn(root.fn, root.args.map((a) => replaceNode(a, target, by)), root.src);
+  }
+}
+
+/**
+ * Whether the equation really has two slopes (or a jump) at a kink: the residual and its gradient with the
+ * kinked function replaced by each of its branches, compared at the point. `w*abs(w)` at w = 0 has one slope (0)
+ * on both sides, so the linear model is exact there and no warning is due.
+ */
+function hasTwoSlopes(residual: E.Node, kink: E.Node, branches: [E.Node, E.Node], values: Float64Array): boolean {
+  const [r1, r2] = branches.map((b) => replaceNode(residual, kink, b));
+  const close = (x: number, y: number): boolean => Math.abs(x - y) <= 1e-12 * (Math.abs(x) + Math.abs(y)) + 1e-300;
+  // a jump (sign) shows in the values, a kink (abs, min, max) in the slopes
+  if (!close(E.evaluate(r1, values), E.evaluate(r2, values))) return true;
+  for (const id of E.slots(residual)) {
+    const g1 = E.evaluate(E.derivative(r1, id), values);
+    const g2 = E.evaluate(E.derivative(r2, id), values);
+    if (!close(g1, g2)) return true;
+  }
+  return false;
 }

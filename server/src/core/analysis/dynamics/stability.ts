@@ -1,4 +1,5 @@
 /** The stability verdict of the modes, and the horizon of the step responses that follows from them. */
+import { timeUnitLabel } from '../../semantics/units';
 import type { Complex, Horizon, LinearSystem, Mode, StabilityVerdict } from './types';
 import { RANK_TOL } from './types';
 import { complexRank } from './pbh';
@@ -48,7 +49,7 @@ export function verdict(sys: LinearSystem, modes: Mode[], rho: number, tol: numb
 
 /** Length of the step responses: a few slowest time constants, bounded for unstable and oscillating models. */
 export function stepHorizon(modes: Mode[], rho: number, timeUnit = 's'): Horizon {
-  const t = timeUnit || 's';
+  const t = timeUnitLabel(timeUnit);
   const h = (value: number, reason: string): Horizon => ({ value, unit: t, reason });
   if (!modes.length) return h(1, `static model: a fixed horizon of 1 ${t}`);
   const stable = modes.filter((m) => m.stability === 'stable');

@@ -87,7 +87,7 @@ export function minimalPair(A: Float64Array, b: Float64Array, c: Float64Array, d
  * u = −a_{q,q+1}·x_{q+1}/b_q; the remaining coordinates then follow
  * x' = (A₂₂ − (a_{q,q+1}/b_q)·b₂·e₁ᵀ)x, whose eigenvalues are the zeros.
  */
-function pairZeros(mp: MinimalPair, tolRel: number): { zeros: Complex[]; relativeDegree: number } {
+function pairZeros(mp: MinimalPair, tolRel: number): { zeros: Complex[]; relativeDegree: number; norm: number; dim: number } {
   const { A, b, gamma, d, r } = mp;
   let nb = 0;
   for (let i = 0; i < r; i++) nb += b[i] * b[i];
@@ -97,11 +97,11 @@ function pairZeros(mp: MinimalPair, tolRel: number): { zeros: Complex[]; relativ
   if (dRelevant) {
     const Z = Float64Array.from(A);
     for (let i = 0; i < r; i++) Z[i * r] -= (b[i] * gamma) / d;
-    return { zeros: eigList(Z, r), relativeDegree: 0 };
+    return { zeros: eigList(Z, r), relativeDegree: 0, norm: frob(Z), dim: r };
   }
   let q = 0;
   while (q < r && Math.abs(b[q]) <= tolRel * nb) q++;
-  if (q >= r - 1) return { zeros: [], relativeDegree: r };
+  if (q >= r - 1) return { zeros: [], relativeDegree: r, norm: 0, dim: 0 };
   const k = r - q - 1;
   const Z = new Float64Array(k * k);
   const f = A[q * r + q + 1] / b[q];
@@ -109,12 +109,43 @@ function pairZeros(mp: MinimalPair, tolRel: number): { zeros: Complex[]; relativ
     for (let j = 0; j < k; j++) Z[i * k + j] = A[(q + 1 + i) * r + (q + 1 + j)];
     Z[i * k] -= f * b[q + 1 + i];
   }
-  return { zeros: eigList(Z, k), relativeDegree: q + 1 };
+  return { zeros: eigList(Z, k), relativeDegree: q + 1, norm: Math.max(frob(Z), na), dim: k };
 }
 
 /** Roots within tol of the origin are the origin (integrators, differentiators): exactly 0. */
 export function snapRoots(r: Complex[], tol: number): Complex[] {
   return sortRoots(r.map((x) => (Math.hypot(x.re, x.im) <= tol ? { re: 0, im: 0 } : x)));
+}
+
+const EPS = 2.220446049250313e-16;
+
+/**
+ * Roots at the origin, with their multiplicity decided by the conditioning of the eigenvalue problem they
+ * came from (a matrix of order `dim` and norm `norm`). A k-fold eigenvalue perturbed by rounding of size
+ * ε·‖M‖ splits into k roots about (ε·‖M‖^k)^(1/k)·c away, while their centroid moves only O(ε·‖M‖)
+ * (T. Kato, Perturbation Theory for Linear Operators, 1966, ch. II; the usual argument for clusters). So
+ * the k roots nearest the origin are a k-fold root at 0 when each lies within ‖M‖·(c·ε)^(1/k), their
+ * centroid within ‖M‖·c·ε, and the next root is clearly farther. Such roots are set to exactly 0.
+ */
+export function snapOriginCluster(roots: Complex[], norm: number, dim: number): Complex[] {
+  if (!roots.length || !(norm > 0)) return roots;
+  const c = 64 * Math.max(dim, 1);
+  const byMag = roots.map((z, i) => ({ z, i, a: Math.hypot(z.re, z.im) })).sort((x, y) => x.a - y.a);
+  let best = 0;
+  let sre = 0, sim = 0;
+  for (let k = 1; k <= byMag.length; k++) {
+    sre += byMag[k - 1].z.re;
+    sim += byMag[k - 1].z.im;
+    const spread = norm * Math.pow(c * EPS, 1 / k);
+    if (byMag[k - 1].a > spread) continue;
+    const centroid = Math.hypot(sre, sim) / k;
+    const next = k < byMag.length ? byMag[k].a : Infinity;
+    if (centroid <= norm * c * EPS && next > 10 * spread) best = k;
+  }
+  if (!best) return roots;
+  const out = roots.slice();
+  for (let k = 0; k < best; k++) out[byMag[k].i] = { re: 0, im: 0 };
+  return sortRoots(out);
 }
 
 const rootSnap = AXIS_TOL;
@@ -196,10 +227,19 @@ export function evaluateFactored(tf: Pick<TransferFunction, 'gain' | 'poles' | '
  * parts (row-major). Throws when s is an eigenvalue of A.
  */
 export function evaluateTransfer(sys: Pick<LinearSystem, 'n' | 'm' | 'p' | 'A' | 'B' | 'C' | 'D'>, s: Complex): { re: Float64Array; im: Float64Array } {
+  return evaluateTransferWithScale(sys, s).G;
+}
+
+/**
+ * G(s) as {@link evaluateTransfer}, with the scale of every entry: |C_i|·|x_j| where x_j = (sI − A)⁻¹·b_j.
+ * An entry far below its scale is a cancellation to rounding: no path from that input to that output.
+ */
+export function evaluateTransferWithScale(sys: Pick<LinearSystem, 'n' | 'm' | 'p' | 'A' | 'B' | 'C' | 'D'>, s: Complex): { G: { re: Float64Array; im: Float64Array }; scale: Float64Array } {
   const { n, m, p } = sys;
   const re = Float64Array.from(sys.D);
   const im = new Float64Array(p * m);
-  if (n === 0) return { re, im };
+  const scale = new Float64Array(p * m);
+  if (n === 0) return { G: { re, im }, scale };
   const are: DenseMatrix = { rows: n, cols: n, data: new Float64Array(n * n) };
   const aim: DenseMatrix = { rows: n, cols: n, data: new Float64Array(n * n) };
   for (let k = 0; k < n * n; k++) are.data[k] = -sys.A[k];
@@ -208,18 +248,26 @@ export function evaluateTransfer(sys: Pick<LinearSystem, 'n' | 'm' | 'p' | 'A' |
     aim.data[i * n + i] = s.im;
   }
   const X = complexSolve(are, aim, { rows: n, cols: m, data: Float64Array.from(sys.B) }, { rows: n, cols: m, data: new Float64Array(n * m) });
+  const xNorm = new Float64Array(m);
+  for (let k = 0; k < n; k++) for (let j = 0; j < m; j++) xNorm[j] += X.re.data[k * m + j] ** 2 + X.im.data[k * m + j] ** 2;
   for (let i = 0; i < p; i++) {
+    let cNorm = 0;
     for (let k = 0; k < n; k++) {
       const c = sys.C[i * n + k];
       if (c === 0) continue;
+      cNorm += c * c;
       for (let j = 0; j < m; j++) {
         re[i * m + j] += c * X.re.data[k * m + j];
         im[i * m + j] += c * X.im.data[k * m + j];
       }
     }
+    for (let j = 0; j < m; j++) scale[i * m + j] = Math.sqrt(cNorm * xNorm[j]);
   }
-  return { re, im };
+  return { G: { re, im }, scale };
 }
+
+/** Below this fraction of its scale |C_i|·|x_j| an entry of G(s) is rounding, not a path. */
+const NO_PATH = 1e-12;
 
 export function transferFunctions(sys: LinearSystem, bal: Balanced, rtol: number, rho: number, axisTol: number): TransferFunction[] {
   const { n, m, p } = sys;
@@ -239,9 +287,9 @@ export function transferFunctions(sys: LinearSystem, bal: Balanced, rtol: number
       }
       const mp = minimalPair(bal.A, b, c, sys.D[i * m + j] * bal.inScale[j] * bal.outScale[i], n, tolA);
       const snap = rootSnap * Math.max(rho, 1e-300);
-      const poles = mp.r ? snapRoots(eigList(mp.A, mp.r), snap) : [];
-      const z = mp.r ? pairZeros(mp, rtol) : { zeros: [], relativeDegree: 0 };
-      z.zeros = snapRoots(z.zeros, snap);
+      const poles = mp.r ? snapOriginCluster(snapRoots(eigList(mp.A, mp.r), snap), frob(mp.A), mp.r) : [];
+      const z = mp.r ? pairZeros(mp, rtol) : { zeros: [], relativeDegree: 0, norm: 0, dim: 0 };
+      z.zeros = snapOriginCluster(snapRoots(z.zeros, snap), z.norm, z.dim);
       for (const x of [...poles, ...z.zeros]) {
         const a = Math.hypot(x.re, x.im);
         if (a > axisTol && Number.isFinite(a)) {
@@ -255,14 +303,15 @@ export function transferFunctions(sys: LinearSystem, bal: Balanced, rtol: number
   // test points for the gains: at the typical frequency, away from every pole and zero
   const w0 = scaleCount ? Math.exp(scaleSum / scaleCount) : rho > 0 ? rho : 1;
   const all = pairs.flatMap((q) => [...q.poles, ...q.zeros]);
-  const evals: { s: Complex; G: { re: Float64Array; im: Float64Array } }[] = [];
+  const evals: { s: Complex; G: { re: Float64Array; im: Float64Array }; scale: Float64Array }[] = [];
   for (let t = 0; t < 16 && evals.length < 2; t++) {
     const ang = 0.93 + 0.41 * t;
     const rad = w0 * (1 + 0.17 * t);
     const s: Complex = { re: rad * Math.cos(ang), im: rad * Math.abs(Math.sin(ang)) + 1e-3 * rad };
     if (all.some((x) => Math.hypot(x.re - s.re, x.im - s.im) < 1e-3 * rad)) continue;
     try {
-      evals.push({ s, G: evaluateTransfer(sys, s) });
+      const r = evaluateTransferWithScale(sys, s);
+      evals.push({ s, G: r.G, scale: r.scale });
     } catch {
       // s is (numerically) an eigenvalue: try the next point
     }
@@ -272,7 +321,9 @@ export function transferFunctions(sys: LinearSystem, bal: Balanced, rtol: number
     const d = sys.D[i * m + j];
     const unit = perUnit(sys.outputUnits[i], sys.inputUnits[j]);
     const base = { input: sys.inputs[j], output: sys.outputs[i], inputIndex: j, outputIndex: i, unit };
-    if (mp.r === 0) {
+    // no path from input j to output i (to rounding): every test point shows only cancellation
+    const noPath = d === 0 && evals.length > 0 && evals.every((e) => Math.hypot(e.G.re[i * m + j], e.G.im[i * m + j]) <= NO_PATH * e.scale[i * m + j]);
+    if (mp.r === 0 || noPath) {
       out.push({
         ...base, num: d === 0 ? [0] : [d], den: [1], poles: [], zeros: [], gain: d, order: 0, relativeDegree: d === 0 ? null : 0,
         cancelled: n, identicallyZero: d === 0, dcGain: d, checkError: 0,
