@@ -153,3 +153,17 @@ describe('the expanded view', () => {
     });
   }
 });
+
+describe('the cell-by-cell exchanger example', () => {
+  it('conserves energy: total duty = hot stream loss = cold stream gain (first law, common practice)', () => {
+    const s = solve(require('fs').readFileSync(require('path').join(__dirname, '..', 'examples', 'exchanger_cells.poise'), 'utf8'));
+    const cp = 4186;
+    const hotLoss = 0.3 * cp * (85 - s.value('th[12]'));
+    const coldGain = 0.35 * cp * (s.value('tc[1]') - 12);
+    const total = s.value('total_duty') * 1000;
+    expect(Math.abs(hotLoss - total)).toBeLessThan(1e-8 * total);
+    expect(Math.abs(coldGain - total)).toBeLessThan(1e-8 * total);
+    expect(s.lin.states).toContain('th[12]');
+    expect(s.lin.n).toBe(24);
+  });
+});
