@@ -291,7 +291,7 @@ describe('sparse form', () => {
 describe('written as produced', () => {
   it('a 400-tank chain comes in several pieces of whole lines that join to the export', async () => {
     const { tankChain } = await import('../bench/models');
-    const { exportChunks } = await import('../server/src/core/present/exports');
+    const { exportChunks, exportLinearModel } = await import('../server/src/core/present/exports');
     const a = analyze(tankChain(400));
     const lin = a.linear('nominal')!;
     const values = a.values(a.point('nominal')!);
@@ -299,7 +299,7 @@ describe('written as produced', () => {
       const pieces = [...exportChunks(lin, values, f)];
       expect(pieces.length).toBeGreaterThan(1);
       for (const p of pieces) expect(p.endsWith('\n')).toBe(true);
-      expect(pieces.join('')).toBe(exportLinear(a, 'nominal', f));
+      expect(pieces.join('')).toBe(exportLinearModel(lin, values, f));
     }
     // JSON: one matrix row per line (A and B have 400 rows, C and D one)
     const json = exportLinear(a, 'nominal', 'json');

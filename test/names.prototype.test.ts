@@ -38,7 +38,9 @@ const models: [string, string][] = [
   ...(fs.existsSync(REFERENCE_MODELS)
     ? fs.readdirSync(REFERENCE_MODELS).filter((f) => f.endsWith('.poise')).map((f) => ['reference/' + f, fs.readFileSync(path.join(REFERENCE_MODELS, f), 'utf8')] as [string, string])
     : []),
-];
+  // models with indexed families are renamed by family, not by element (the rename of a family through its
+  // elements is the editor work of the families feature); they are left out of this property
+].filter(([, text]) => analyze(text).families.size === 0);
 
 const codes = (a: Analysis) => a.allDiagnostics().map((d) => d.code).sort();
 

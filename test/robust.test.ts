@@ -28,7 +28,7 @@ import { linearizeEdit } from '../server/src/core/services/linearBlock';
 import { quickFixes } from '../server/src/core/services/quickFixes';
 import { symbolicLinear } from '../server/src/core/analysis/symbolic';
 import { runDeclaredSweep } from '../server/src/core/analysis/sweep';
-import { sweepHtml } from '../server/src/core/present/sweepReport';
+import { sweepHtml } from '../server/src/core/present/sweepHtml';
 import { tankChain } from '../bench/models';
 import { ROOT, ensureBuilt, runCliAsync, scratchDir } from './helpers/cli';
 

@@ -29,7 +29,15 @@ const models: { file: string; ref?: string }[] = [
 /** Evaluates a formula's printed text with mathjs, the symbols bound to their values. */
 function evalText(s: SymbolicLinear, text: string): number {
   const scope: Record<string, number> = {};
-  for (const x of s.symbols) scope[x.name] = x.value;
+  // element names of families (th[3]) are not mathjs identifiers: bind them under plain aliases
+  const aliased = [...s.symbols].sort((a, b) => b.name.length - a.name.length);
+  aliased.forEach((x, k) => {
+    if (/[[\].]/.test(x.name)) {
+      const alias = `elem__${k}`;
+      text = text.split(x.name).join(alias);
+      scope[alias] = x.value;
+    } else scope[x.name] = x.value;
+  });
   const v = mathEvaluate(text, scope) as unknown;
   if (typeof v !== 'number') throw new Error(`mathjs gave ${String(v)} for ${text}`);
   return v;

@@ -14,7 +14,7 @@ import { buildReport, formatReportText, renderReportHtml } from '../server/src/c
 import type { TransferFunction } from '../server/src/core/analysis/dynamics';
 import { factoredText, polynomialText, superscript, transferLines } from '../server/src/core/analysis/transferText';
 import { runSweep, sweepCsv, formatSweepText } from '../server/src/core/analysis/sweep';
-import { sweepHtml, SEQ_LIGHT, SEQ_DARK } from '../server/src/core/present/sweepReport';
+import { sweepHtml, SEQ_LIGHT, SEQ_DARK } from '../server/src/core/present/sweepHtml';
 import { PALETTE } from '../server/src/core/present/svgCharts';
 import { simplifyUnitText } from '../server/src/core/semantics/simplifyUnit';
 import { parseUnit, dimsEqual } from '../server/src/core/semantics/units';

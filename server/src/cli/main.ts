@@ -271,7 +271,7 @@ export function version(): string {
   if (typeof POISE_VERSION === 'string') return POISE_VERSION;
   for (const up of [['..', '..', '..'], ['..', '..', '..', '..']]) {
     try {
-      const pkg = JSON.parse(fs.readFileSync(path.join(__dirname, ...up, 'package.json'), 'utf8')) as { name?: string; version: string };
+      const pkg = JSON.parse(fs.readFileSync(path.join(__dirname, up.join('/'), 'package.json'), 'utf8')) as { name?: string; version: string };
       if (pkg.name === 'poise') return pkg.version;
     } catch {
       /* try the next place */

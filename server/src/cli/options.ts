@@ -4,6 +4,7 @@
  * `poise COMMAND --help` and `poise --help`. Unknown or misspelt options (with the nearest known one
  * suggested) and options that belong to another command are usage errors (exit code 2).
  */
+import { maxOf, pushAll } from '../core/arrays';
 
 /** What an option takes: nothing (a flag), free text, a choice of words, or a whole number in a range. */
 export type ValueKind =
@@ -77,7 +78,7 @@ export const COMMANDS: CommandSpec[] = [
     summary: 'print the deviation equations and A, B, C, D at the point',
     options: [
       POINT,
-      { name: '--format', value: choice(...LINEARIZE_FORMATS), help: 'the output format (docs/exports.md)', default: 'text' },
+      { name: '--format', value: { kind: 'choice', choices: LINEARIZE_FORMATS }, help: 'the output format (docs/exports.md)', default: 'text' },
       { name: '--digits', value: DIGITS, help: 'significant digits, 1 to 17', default: '5; 17 for json' },
       { name: '--symbolic', value: flag, help: 'coefficients as formulas in the constants and point values' },
       { name: '--sparse', value: flag, help: 'only the non-zero entries of A, B, C, D (json, csv, numpy; docs/exports.md)' },
@@ -264,16 +265,16 @@ function usageLine(c: CommandSpec): string {
 /** `poise COMMAND --help`: the usage line, what it does and every option it takes. */
 export function commandHelp(c: CommandSpec): string {
   const rows = c.options.map((o) => [`${o.name}${o.value.kind === 'flag' ? '' : ' ' + placeholder(o)}`, o.help + (o.default !== undefined ? ` (default ${o.default})` : '')]);
-  const w = Math.max(...rows.map((r) => r[0].length));
+  const w = maxOf(rows.map((r) => r[0].length));
   const out = [`Usage: ${usageLine(c)}`, '', c.summary[0].toUpperCase() + c.summary.slice(1) + '.', '', 'Options:'];
   for (const [a, b] of rows) out.push(`  ${a.padEnd(w)}  ${b}`);
-  if (c.notes?.length) out.push('', ...c.notes);
+  if (c.notes?.length) pushAll(out, ['', ...c.notes]);
   return out.join('\n');
 }
 
 /** `poise --help`: every command with its summary. */
 export function generalHelp(): string {
-  const w = Math.max(...COMMANDS.map((c) => `${c.name} ${c.args}`.length));
+  const w = maxOf(COMMANDS.map((c) => `${c.name} ${c.args}`.length));
   return [
     'Usage: poise COMMAND [options]',
     '',

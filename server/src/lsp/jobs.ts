@@ -7,6 +7,7 @@
  * A job that cannot do what was asked throws a `JobFailure` whose message says why (a catalogue entry);
  * the request is then answered with that message.
  */
+import { pushAll } from '../core/arrays';
 import { buildReport } from '../core/analysis/report';
 import { renderReportHtml } from '../core/present/reportHtml';
 import { declaredSweeps, runSweep, sweepCandidates, sweepDiagnostics, variedProblem, type SweepSpec } from '../core/analysis/sweep';
@@ -107,10 +108,10 @@ export function allDiagnostics(a: Analysis): Diagnostic[] {
 export function pointDiagnostics(a: Analysis): Diagnostic[] {
   const out = [...a.diagnostics];
   if (a.canSolve) {
-    for (const name of new Set(a.pointNames)) out.push(...(a.point(name)?.diagnostics ?? []));
-    out.push(...sweepDiagnostics(a));
+    for (const name of new Set(a.pointNames)) pushAll(out, a.point(name)?.diagnostics ?? []);
+    pushAll(out, sweepDiagnostics(a));
   }
-  out.push(...staleBlockDiagnostics(a));
+  pushAll(out, staleBlockDiagnostics(a));
   return out.sort((x, y) => x.span.start - y.span.start || x.code.localeCompare(y.code));
 }
 

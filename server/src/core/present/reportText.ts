@@ -1,4 +1,5 @@
 /** The dynamics report as readable text, and the text of complex numbers, polynomials and factored transfer functions. */
+import { maxOf, pushAll } from '../arrays';
 import { formatNumber } from '../algebra/expr';
 import type { Complex, TransferFunction } from '../analysis/dynamics';
 import type { ReportData, ValidityLimit } from '../analysis/report';
@@ -51,11 +52,11 @@ export function formatReportText(r: ReportData, d = 4): string {
   const t = r.timeUnit;
   out.push(`${r.title} — report of point "${r.point}" (time in ${t})`);
   if (!r.ok) {
-    out.push('', 'The report could not be made:', ...r.problems.map((p) => `  ${p}`));
+    pushAll(out, ['', 'The report could not be made:', ...r.problems.map((p) => `  ${p}`)]);
     return out.join('\n');
   }
   out.push('', 'Operating point:');
-  const w = Math.max(4, ...r.values.filter((v) => v.kind !== 'const').map((v) => v.name.length));
+  const w = maxOf(r.values.filter((v) => v.kind !== 'const').map((v) => v.name.length), 4);
   for (const v of r.values) if (v.kind !== 'const') out.push(`  ${v.name.padEnd(w)}  ${f(v.value, 6).padStart(12)}${u(v.unit ? `[${v.unit}]` : '')}${v.role === 'fixed' ? '  (fixed)' : ''}`);
   out.push('', `Stability: ${r.stability!.verdict}. ${r.stability!.reason}`);
   out.push('', `Modes (eigenvalues in 1/${t}):`);
@@ -124,6 +125,6 @@ export function formatReportText(r: ReportData, d = 4): string {
       if (v.note) out.push(`      ${v.note}`);
     }
   }
-  out.push('', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`));
+  pushAll(out, ['', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`)]);
   return out.join('\n');
 }

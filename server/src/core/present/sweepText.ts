@@ -1,4 +1,5 @@
 /** The sweep as a plain-text table, with the stability changes and where it stopped. */
+import { maxOf, minOf } from '../arrays';
 import { formatNumber } from '../numbers';
 import type { SweepPoint, SweepResult } from '../analysis/sweep';
 
@@ -22,15 +23,15 @@ export function formatSweepText(r: SweepResult, digits = 5): string {
   const headers = [`${r.vary.name}${u(r.vary.unit)}`, 'stability', `eigenvalues [1/${r.timeUnit}] (largest real part first)`, `slowest τ [${r.timeUnit}]`, 'min ζ', ...shownCols.map(({ c }) => `${c.name}${u(c.unit)}`)];
   const rows: string[][] = r.points.map((p) => {
     const timed = p.modes.filter((m) => m.timeConstant !== null);
-    const slow = timed.length ? Math.max(...timed.map((m) => m.timeConstant!)) : NaN;
+    const slow = timed.length ? maxOf(timed.map((m) => m.timeConstant!)) : NaN;
     const pairs = p.modes.filter((m) => m.im > 0 && m.damping !== null);
-    const zmin = pairs.length ? Math.min(...pairs.map((m) => m.damping!)) : NaN;
+    const zmin = pairs.length ? minOf(pairs.map((m) => m.damping!)) : NaN;
     return [
       formatNumber(p.value, 6), p.stability, eigText(p.eigenvalues, digits), Number.isNaN(slow) ? '-' : formatNumber(slow, digits), Number.isNaN(zmin) ? '-' : formatNumber(zmin, digits),
       ...shownCols.map(({ i }) => formatNumber(p.values[i], digits)),
     ];
   });
-  const w = headers.map((h, j) => Math.max(h.length, ...rows.map((row) => row[j].length)));
+  const w = headers.map((h, j) => maxOf(rows.map((row) => row[j].length), h.length));
   out.push('  ' + headers.map((h, j) => h.padEnd(w[j])).join('  ').trimEnd());
   for (const row of rows) out.push('  ' + row.map((c, j) => (j === 1 || j === 2 ? c.padEnd(w[j]) : c.padStart(w[j]))).join('  ').trimEnd());
   if (r.columns.length - 1 > shownCols.length) out.push(`  (${r.columns.length - 1 - shownCols.length} more variables in --format json or csv)`);

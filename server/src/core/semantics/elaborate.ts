@@ -12,6 +12,7 @@
  * Index ranges and indices are whole-number constant expressions: numbers without units, constants
  * defined that way (`const n = 20`), index names, + − * / ^ and parentheses.
  */
+import { pushAll } from '../arrays';
 import type * as A from '../syntax/ast';
 import { diag, type Diagnostic } from '../diagnostics';
 import type { Span } from '../text';
@@ -59,7 +60,7 @@ function usesFamilies(file: A.ModelFile): boolean {
         case 'reduce': return true;
         case 'unary': stack.push(x.arg); break;
         case 'binary': stack.push(x.left, x.right); break;
-        case 'call': stack.push(...x.args.slice(0, 64)); for (let k = 64; k < x.args.length; k++) stack.push(x.args[k]); break;
+        case 'call': for (const a of x.args) stack.push(a); break;
       }
     }
     return false;
@@ -233,7 +234,7 @@ export function elaborate(file: A.ModelFile): ElaborationResult {
           case 'state':
           case 'var': {
             const names: A.Ident[] = [];
-            for (const id of st.names) tryIt(() => names.push(...declare(id, st.kind)));
+            for (const id of st.names) tryIt(() => pushAll(names, declare(id, st.kind)));
             sink.push({ ...st, names });
             return;
           }

@@ -67,6 +67,11 @@ export function solveEdits(a: Analysis, point: string, digits = 4): SolveEdits {
   const lm = a.lowered;
   const edits: TextEdit[] = [];
   const listed = new Set<string>();
+  // a family written on one line (`h ~ 1 [m]`) stands for several elements with one value span: their
+  // solved values are written back as a list, `h ~ {…} [m]`
+  const family = new Map<string, { span: A.Expr['span']; values: string[]; unit: string; changed: boolean }>();
+  const spanCount = new Map<string, number>();
+  for (const l of block.lines) spanCount.set(`${l.value.span.start}:${l.value.span.end}`, (spanCount.get(`${l.value.span.start}:${l.value.span.end}`) ?? 0) + 1);
   for (const l of block.lines) {
     listed.add(l.name.name);
     if (l.mode !== 'guess' || l.primes) continue;
@@ -82,11 +87,20 @@ export function solveEdits(a: Analysis, point: string, digits = 4): SolveEdits {
     const inUnit = (si: number) => (u ? (si - u.offset) / u.scale : declaredValue(slot, si));
     const solved = formatNumber(inUnit(sol.values[id]), digits);
     const had = formatNumber(inUnit(sol.guesses[id]), digits);
-    if (solved === had) continue;
     const unitText = unitRef && u ? ' ' + a.text.slice(unitRef.span.start, unitRef.span.end) : '';
+    const key = `${l.value.span.start}:${l.value.span.end}`;
+    if ((spanCount.get(key) ?? 0) > 1) {
+      const g = family.get(key) ?? { span: l.value.span, values: [], unit: unitText, changed: false };
+      g.values.push(solved);
+      g.changed ||= solved !== had;
+      family.set(key, g);
+      continue;
+    }
+    if (solved === had) continue;
     const newText = solved + unitText;
     if (a.text.slice(l.value.span.start, l.value.span.end) !== newText) edits.push({ span: l.value.span, newText });
   }
+  for (const g of family.values()) if (g.changed) edits.push({ span: g.span, newText: `{${g.values.join(', ')}}${g.unit}` });
   const added: string[] = [];
   const indent = blockIndent(a, block);
   for (const id of sol.unknowns) {

@@ -5,6 +5,7 @@
  * algebraic unknowns are eliminated:  [Δw; Δz] = −[F_w F_z]⁻¹ (F_x Δx + F_u Δu).
  * A, B, C, D are returned in the declared units of each variable, time in the model's time unit.
  */
+import { pushAll } from '../arrays';
 import { timeUnitLabel } from '../semantics/units';
 import { diag, type Diagnostic } from '../diagnostics';
 import { formatNumber } from '../algebra/expr';
@@ -209,7 +210,7 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
   // an entry that is not finite, or beyond what the analyses can take, is an error on its equation
   const problems = linearModelProblems(lm, res, pointSpan);
   if (problems.length) {
-    diagnostics.push(...problems);
+    pushAll(diagnostics, problems);
     return res;
   }
   res.ok = true;

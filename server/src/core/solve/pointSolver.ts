@@ -150,7 +150,7 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   // a value the point writes (or a constant it gives again, or one computed from it) that is not finite
   const bad = nonFiniteLines(m, lm, block, values);
   if (bad.length) {
-    diagnostics.push(...bad);
+    pushAll(diagnostics, bad);
     return result;
   }
 
