@@ -167,3 +167,18 @@ describe('the cell-by-cell exchanger example', () => {
     expect(s.lin.n).toBe(24);
   });
 });
+
+describe('poise expand', () => {
+  it('prints the flat model of the exchanger example, which reads back to the same linear model', async () => {
+    const { runCli, ensureBuilt, EXAMPLES } = await import('./helpers/cli');
+    ensureBuilt();
+    const file = require('path').join(EXAMPLES, 'exchanger_cells.poise');
+    const r = runCli(['expand', file]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/^state th\[1\], th\[2\]/m);
+    const back = analyze(r.stdout);
+    expect(back.diagnostics.filter((d) => d.severity === 'error')).toEqual([]);
+    const orig = analyze(require('fs').readFileSync(file, 'utf8'));
+    expect(Array.from(back.linear()!.A)).toEqual(Array.from(orig.linear()!.A));
+  });
+});

@@ -120,6 +120,13 @@ export const COMMANDS: CommandSpec[] = [
     ],
   },
   {
+    name: 'expand',
+    args: 'FILE',
+    files: [1, 1],
+    summary: 'print the flat model a file with indexed families stands for (valid model text)',
+    options: [HELP],
+  },
+  {
     name: 'lsp',
     args: '',
     files: [0, 0],
