@@ -19,6 +19,7 @@
  *    (Wᵀ·A·T, Wᵀ·B, C·T, D).
  * 4. Error bound (Glover 1984; Enns 1984): ‖G − G_r‖∞ ≤ 2·Σ_{i>r} σ_i.
  */
+import { mulRowMajor, transposeRowMajor } from './dense';
 import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
 import type { StateSpace } from './discretize';
 import { eigenvalues } from './eigen';
@@ -40,23 +41,7 @@ export interface BalancedTruncation {
   residual: { controllability: number; observability: number };
 }
 
-function mul(a: Float64Array, b: Float64Array, r: number, k: number, c: number): Float64Array {
-  const out = new Float64Array(r * c);
-  for (let i = 0; i < r; i++) {
-    for (let l = 0; l < k; l++) {
-      const v = a[i * k + l];
-      if (v === 0) continue;
-      for (let j = 0; j < c; j++) out[i * c + j] += v * b[l * c + j];
-    }
-  }
-  return out;
-}
 
-function transpose(a: Float64Array, r: number, c: number): Float64Array {
-  const out = new Float64Array(r * c);
-  for (let i = 0; i < r; i++) for (let j = 0; j < c; j++) out[j * r + i] = a[i * c + j];
-  return out;
-}
 
 function toMatrix(a: Float64Array, r: number, c: number): Matrix {
   const m = new Matrix(r, c);
@@ -158,9 +143,9 @@ function splitStable(sys: StateSpace, alpha: number): { stable: StateSpace; rest
   }
   const ti = inverse(t, n);
   if (!ti) return undefined;
-  const at = mul(mul(ti, sys.A, n, n, n), t, n, n, n);
-  const bt = mul(ti, sys.B, n, n, m);
-  const ct = mul(sys.C, t, p, n, n);
+  const at = mulRowMajor(mulRowMajor(ti, sys.A, n, n, n), t, n, n, n);
+  const bt = mulRowMajor(ti, sys.B, n, n, m);
+  const ct = mulRowMajor(sys.C, t, p, n, n);
   const ks = vs.k, ku = vu.k;
   const block = (r0: number, r: number, c0: number, c: number, src: Float64Array, cols: number): Float64Array => {
     const out = new Float64Array(r * c);
@@ -176,23 +161,23 @@ function splitStable(sys: StateSpace, alpha: number): { stable: StateSpace; rest
 /** Hankel singular values and balancing factors of a stable system. */
 function balance(sys: StateSpace): { hankel: number[]; lc: Float64Array; lo: Float64Array; u: Matrix; v: Matrix; resC: number; resO: number } | undefined {
   const { n, m, p } = sys;
-  const bbt = mul(sys.B, transpose(sys.B, n, m), n, m, n);
-  const ctc = mul(transpose(sys.C, p, n), sys.C, n, p, n);
+  const bbt = mulRowMajor(sys.B, transposeRowMajor(sys.B, n, m), n, m, n);
+  const ctc = mulRowMajor(transposeRowMajor(sys.C, p, n), sys.C, n, p, n);
   const a = { rows: n, cols: n, data: sys.A };
-  const at = { rows: n, cols: n, data: transpose(sys.A, n, n) };
+  const at = { rows: n, cols: n, data: transposeRowMajor(sys.A, n, n) };
   const P = solveLyapunov(a, { rows: n, cols: n, data: bbt });
   const Q = solveLyapunov(at, { rows: n, cols: n, data: ctc });
   if (!P || !Q) return undefined;
   const lc = symmetricFactor(P.data, n);
   const lo = symmetricFactor(Q.data, n);
-  const mtx = mul(transpose(lo, n, n), lc, n, n, n);
+  const mtx = mulRowMajor(transposeRowMajor(lo, n, n), lc, n, n, n);
   const svd = new SingularValueDecomposition(toMatrix(mtx, n, n));
   const hankel = Array.from(svd.diagonal, (x) => Math.abs(x));
   return { hankel, lc, lo, u: svd.leftSingularVectors, v: svd.rightSingularVectors, resC: lyapRes(sys.A, P.data, bbt, n), resO: lyapRes(at.data, Q.data, ctc, n) };
 }
 
 function lyapRes(a: Float64Array, x: Float64Array, q: Float64Array, n: number): number {
-  const ax = mul(a, x, n, n, n);
+  const ax = mulRowMajor(a, x, n, n, n);
   let r = 0, na = 0, nx = 0, nq = 0;
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < n; j++) {
@@ -263,10 +248,10 @@ export function balancedTruncation(sys: StateSpace, opts: TruncationOptions = {}
       w[i * r + j] = wv * sc;
     }
   }
-  const wt = transpose(w, ns, r);
-  const ar = mul(mul(wt, stable.A, r, ns, ns), t, r, ns, r);
-  const br = mul(wt, stable.B, r, ns, m);
-  const cr = mul(stable.C, t, p, ns, r);
+  const wt = transposeRowMajor(w, ns, r);
+  const ar = mulRowMajor(mulRowMajor(wt, stable.A, r, ns, ns), t, r, ns, r);
+  const br = mulRowMajor(wt, stable.B, r, ns, m);
+  const cr = mulRowMajor(stable.C, t, p, ns, r);
   const k = r + rest.n;
   const A = new Float64Array(k * k);
   const B = new Float64Array(k * m);

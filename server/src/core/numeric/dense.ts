@@ -61,19 +61,29 @@ export function toArrays(m: DenseMatrix): number[][] {
 /** Matrix product a·b. */
 export function matMul(a: DenseMatrix, b: DenseMatrix): DenseMatrix {
   if (a.cols !== b.rows) throw new RangeError(`matMul: ${a.rows}x${a.cols} times ${b.rows}x${b.cols}`);
-  const m = a.rows, k = a.cols, n = b.cols;
-  const out = new Float64Array(m * n);
-  const ad = a.data, bd = b.data;
-  for (let i = 0; i < m; i++) {
-    const oi = i * n;
+  return { rows: a.rows, cols: b.cols, data: mulRowMajor(a.data, b.data, a.rows, a.cols, b.cols) };
+}
+
+/** a·b for row-major arrays a (r×k) and b (k×c). */
+export function mulRowMajor(a: Float64Array, b: Float64Array, r: number, k: number, c: number): Float64Array {
+  const out = new Float64Array(r * c);
+  for (let i = 0; i < r; i++) {
+    const oi = i * c;
     for (let p = 0; p < k; p++) {
-      const aip = ad[i * k + p];
+      const aip = a[i * k + p];
       if (aip === 0) continue;
-      const bp = p * n;
-      for (let j = 0; j < n; j++) out[oi + j] += aip * bd[bp + j];
+      const bp = p * c;
+      for (let j = 0; j < c; j++) out[oi + j] += aip * b[bp + j];
     }
   }
-  return { rows: m, cols: n, data: out };
+  return out;
+}
+
+/** The transpose of a row-major r×c array. */
+export function transposeRowMajor(a: Float64Array, r: number, c: number): Float64Array {
+  const out = new Float64Array(r * c);
+  for (let i = 0; i < r; i++) for (let j = 0; j < c; j++) out[j * r + i] = a[i * c + j];
+  return out;
 }
 
 /** Power of two closest to 1/x (exact scaling, no rounding error). */

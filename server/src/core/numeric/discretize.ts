@@ -16,6 +16,7 @@
  *   x[k+1] = Φ x[k] + Γ₁ u[k−1] + Γ₀ u[k] with Γ₀ = ∫₀^{T−τ} e^{Aη} dη·B and Γ₁ = e^{A(T−τ)}∫₀^{τ} e^{Aη} dη·B;
  *   the previous input becomes m extra states: [[Φ, Γ₁], [0, 0]], [[Γ₀], [I]], [C, 0], D.
  */
+import { mulRowMajor } from './dense';
 import { expm } from './expm';
 import { luFactorInPlace, luSolveInPlace } from './flatlu';
 
@@ -49,17 +50,6 @@ function holdIntegrals(a: Float64Array, b: Float64Array, n: number, m: number, t
   return { phi, gamma };
 }
 
-function mul(a: Float64Array, b: Float64Array, r: number, k: number, c: number): Float64Array {
-  const out = new Float64Array(r * c);
-  for (let i = 0; i < r; i++) {
-    for (let l = 0; l < k; l++) {
-      const v = a[i * k + l];
-      if (v === 0) continue;
-      for (let j = 0; j < c; j++) out[i * c + j] += v * b[l * c + j];
-    }
-  }
-  return out;
-}
 
 /** Zero-order hold. */
 export function zeroOrderHold(sys: StateSpace, t: number): StateSpace {
@@ -88,9 +78,9 @@ export function firstOrderHold(sys: StateSpace, t: number): StateSpace {
       g2[i * m + j] = e[i * k + n + m + j];
     }
   }
-  const bd = mul(phi, g2, n, n, m);
+  const bd = mulRowMajor(phi, g2, n, n, m);
   for (let q = 0; q < n * m; q++) bd[q] += g1[q] - g2[q];
-  const cg = mul(sys.C, g2, p, n, m);
+  const cg = mulRowMajor(sys.C, g2, p, n, m);
   const dd = sys.D.slice();
   for (let q = 0; q < p * m; q++) dd[q] += cg[q];
   return { n, m, p, A: phi, B: bd, C: sys.C.slice(), D: dd };
@@ -122,8 +112,8 @@ export function tustin(sys: StateSpace, t: number): StateSpace | undefined {
   const at2 = sys.A.map((v) => (v * t) / 2);
   const minvAt2 = solveCols(at2, n);
   for (let i = 0; i < n; i++) minvAt2[i * n + i] += 1;
-  const cd = mul(sys.C, minvAt2, p, n, n);
-  const cbd = mul(sys.C, bd, p, n, m);
+  const cd = mulRowMajor(sys.C, minvAt2, p, n, n);
+  const cbd = mulRowMajor(sys.C, bd, p, n, m);
   const dd = sys.D.slice();
   for (let q = 0; q < p * m; q++) dd[q] += cbd[q] / 2;
   return { n, m, p, A: ad, B: bd, C: cd, D: dd };
@@ -140,8 +130,8 @@ export function zeroOrderHoldDelayed(sys: StateSpace, t: number, f: number): Sta
   const tau = f * t;
   const early = holdIntegrals(sys.A, sys.B, n, m, t - tau); // e^{A(T−τ)}, Γ₀
   const late = holdIntegrals(sys.A, sys.B, n, m, tau); // ∫₀^τ e^{Aη}dη·B
-  const g1 = mul(early.phi, late.gamma, n, n, m);
-  const phi = mul(early.phi, late.phi, n, n, n);
+  const g1 = mulRowMajor(early.phi, late.gamma, n, n, m);
+  const phi = mulRowMajor(early.phi, late.phi, n, n, n);
   const k = n + m;
   const A = new Float64Array(k * k);
   const B = new Float64Array(k * m);

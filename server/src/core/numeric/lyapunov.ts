@@ -11,7 +11,7 @@
  * symmetrised at the end. Both need λ_i(A) + λ_j(B) ≠ 0 for all i, j (for Lyapunov: no two eigenvalues
  * of A symmetric about the imaginary axis, e.g. A stable).
  */
-import type { DenseMatrix } from './dense';
+import { mulRowMajor, transposeRowMajor, type DenseMatrix } from './dense';
 import { realSchur } from './eigen';
 
 /** Starts (row indices) of the diagonal blocks of a quasi-triangular n×n matrix t (row-major). */
@@ -48,24 +48,7 @@ function smallSolve(m: number[][], b: number[]): number[] | undefined {
   return x;
 }
 
-/** c = a·b for row-major matrices a (r×k) and b (k×c). */
-function mul(a: Float64Array, b: Float64Array, r: number, k: number, c: number): Float64Array {
-  const out = new Float64Array(r * c);
-  for (let i = 0; i < r; i++) {
-    for (let l = 0; l < k; l++) {
-      const ail = a[i * k + l];
-      if (ail === 0) continue;
-      for (let j = 0; j < c; j++) out[i * c + j] += ail * b[l * c + j];
-    }
-  }
-  return out;
-}
 
-function transpose(a: Float64Array, r: number, c: number): Float64Array {
-  const out = new Float64Array(r * c);
-  for (let i = 0; i < r; i++) for (let j = 0; j < c; j++) out[j * r + i] = a[i * c + j];
-  return out;
-}
 
 /**
  * Solves S·Y + Y·T = F for Y, with S (m×m) and T (n×n) upper quasi-triangular (real Schur forms) and F
@@ -122,10 +105,10 @@ export function solveSylvester(a: DenseMatrix, b: DenseMatrix, c: DenseMatrix): 
   const sa = realSchur(a);
   const sb = realSchur(b);
   if (!sa || !sb) return undefined;
-  const f = mul(mul(transpose(sa.q, m, m), c.data, m, m, n), sb.q, m, n, n);
+  const f = mulRowMajor(mulRowMajor(transposeRowMajor(sa.q, m, m), c.data, m, m, n), sb.q, m, n, n);
   const y = quasiTriangularSylvester(sa.t, m, sb.t, n, f);
   if (!y) return undefined;
-  const x = mul(mul(sa.q, y, m, m, n), transpose(sb.q, n, n), m, n, n);
+  const x = mulRowMajor(mulRowMajor(sa.q, y, m, m, n), transposeRowMajor(sb.q, n, n), m, n, n);
   for (let k = 0; k < x.length; k++) if (!Number.isFinite(x[k])) return undefined;
   return { rows: m, cols: n, data: x };
 }
@@ -136,7 +119,7 @@ export function solveSylvester(a: DenseMatrix, b: DenseMatrix, c: DenseMatrix): 
  */
 export function solveLyapunov(a: DenseMatrix, q: DenseMatrix): DenseMatrix | undefined {
   const n = a.rows;
-  const at: DenseMatrix = { rows: n, cols: n, data: transpose(a.data, n, n) };
+  const at: DenseMatrix = { rows: n, cols: n, data: transposeRowMajor(a.data, n, n) };
   const negQ: DenseMatrix = { rows: n, cols: n, data: q.data.map((v) => -v) };
   const x = solveSylvester(a, at, negQ);
   if (!x) return undefined;
@@ -153,7 +136,7 @@ export function solveLyapunov(a: DenseMatrix, q: DenseMatrix): DenseMatrix | und
 /** Relative residual ‖A·X + X·Aᵀ + Q‖_F / (2‖A‖_F‖X‖_F + ‖Q‖_F) of a Lyapunov solution. */
 export function lyapunovResidual(a: DenseMatrix, x: DenseMatrix, q: DenseMatrix): number {
   const n = a.rows;
-  const ax = mul(a.data, x.data, n, n, n);
+  const ax = mulRowMajor(a.data, x.data, n, n, n);
   let r = 0, na = 0, nx = 0, nq = 0;
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < n; j++) {

@@ -1,7 +1,7 @@
-/** The dynamics report as readable text, and the text of complex numbers, polynomials and factored transfer functions. */
+/** The dynamics report as readable text (transfer functions in the notation of analysis/transferText.ts). */
 import { maxOf, pushAll } from '../arrays';
 import { formatNumber } from '../algebra/expr';
-import type { Complex, TransferFunction } from '../analysis/dynamics';
+import type { Complex } from '../analysis/dynamics';
 import type { ReportData, ValidityLimit } from '../analysis/report';
 import { transferLines } from '../analysis/transferText';
 
@@ -11,40 +11,6 @@ const u = (unit: string) => (unit ? ` ${unit}` : '');
 export function complexText(c: Complex, d = 4): string {
   if (c.im === 0) return f(c.re, d);
   return `${f(c.re, d)} ${c.im < 0 ? '-' : '+'} ${f(Math.abs(c.im), d)}i`;
-}
-
-/** Polynomial in s as text: "0.5 s^2 + 1.2 s + 3". */
-export function polyText(c: number[], d = 4, v = 's'): string {
-  const deg = c.length - 1;
-  const parts: string[] = [];
-  c.forEach((a, k) => {
-    if (a === 0) return;
-    const pw = deg - k;
-    const mag = Math.abs(a);
-    const coef = mag === 1 && pw > 0 ? '' : f(mag, d);
-    const term = pw === 0 ? coef : `${coef}${coef ? ' ' : ''}${v}${pw > 1 ? `^${pw}` : ''}`;
-    parts.push(`${parts.length ? (a < 0 ? ' - ' : ' + ') : a < 0 ? '-' : ''}${term}`);
-  });
-  return parts.join('') || '0';
-}
-
-/** Factored form: "0.03125 / (s + 0.0003375)". */
-export function factoredText(tf: TransferFunction, d = 4): string {
-  if (tf.identicallyZero) return '0';
-  const fac = (rs: Complex[]): string[] => {
-    const out: string[] = [];
-    for (const r of rs) {
-      if (r.im < 0) continue;
-      if (r.im > 0) out.push(`(s^2 ${-2 * r.re < 0 ? '-' : '+'} ${f(Math.abs(2 * r.re), d)} s + ${f(r.re * r.re + r.im * r.im, d)})`);
-      else if (r.re === 0) out.push('s');
-      else out.push(`(s ${r.re > 0 ? '-' : '+'} ${f(Math.abs(r.re), d)})`);
-    }
-    return out;
-  };
-  const num = fac(tf.zeros);
-  const den = fac(tf.poles);
-  const top = [f(tf.gain, d), ...num].join('·');
-  return den.length ? `${top} / ${den.length > 1 ? `[${den.join('·')}]` : den[0]}` : top;
 }
 
 export function formatReportText(r: ReportData, d = 4): string {

@@ -5,8 +5,10 @@
  */
 import { balancedTruncation, suggestOrder } from '../../numeric/balancedTruncation';
 import type { LinearSystem } from '../dynamics';
+import type { LinearSignals, StateSpace } from '../../solve/linearizer';
 
-export interface ReducedModel {
+/** The reduced model (balanced states first, then the unstable part) with its names; states have no unit. */
+export interface ReducedModel extends LinearSignals, StateSpace {
   /** Order of the full model and of the reduced one. */
   fullOrder: number;
   order: number;
@@ -21,18 +23,6 @@ export interface ReducedModel {
   tolerance: number;
   /** The order the tolerance suggests (stable part), whether or not it was used. */
   suggested: number;
-  n: number;
-  m: number;
-  p: number;
-  A: Float64Array;
-  B: Float64Array;
-  C: Float64Array;
-  D: Float64Array;
-  states: string[];
-  inputs: string[];
-  inputUnits: string[];
-  outputs: string[];
-  outputUnits: string[];
   timeUnit: string;
   residual: { controllability: number; observability: number };
 }
@@ -66,6 +56,7 @@ export function reducedModel(sys: LinearSystem, opts: ReduceOptions = {}): Reduc
     n: bt.reduced.n, m: bt.reduced.m, p: bt.reduced.p,
     A: bt.reduced.A, B: bt.reduced.B, C: bt.reduced.C, D: bt.reduced.D,
     states: reducedStateNames(bt.kept, bt.unstable),
+    stateUnits: new Array<string>(bt.reduced.n).fill(''),
     inputs: sys.inputs, inputUnits: sys.inputUnits, outputs: sys.outputs, outputUnits: sys.outputUnits,
     timeUnit: sys.timeUnit,
     residual: bt.residual,

@@ -7,6 +7,7 @@
 import { discretize, type HoldMethod } from '../../numeric/discretize';
 import { eigenvalues, sortEigen } from '../../numeric/eigen';
 import type { Complex, LinearSystem, StabilityClass } from '../dynamics';
+import type { LinearSignals, StateSpace } from '../../solve/linearizer';
 
 export interface SampledPole {
   /** Discrete pole z. */
@@ -17,27 +18,14 @@ export interface SampledPole {
   s: Complex | null;
 }
 
-export interface SampledModel {
+/** The discrete model x[k+1] = A·x[k] + B·u[k], y[k] = C·x[k] + D·u[k] with its names and units. */
+export interface SampledModel extends LinearSignals, StateSpace {
   hold: HoldMethod;
   /** Sample time in the model's time unit. */
   sampleTime: number;
   timeUnit: string;
   /** Input delay as a fraction of a sample (0 when none). */
   delayFraction: number;
-  n: number;
-  m: number;
-  p: number;
-  A: Float64Array;
-  B: Float64Array;
-  C: Float64Array;
-  D: Float64Array;
-  /** State names: the model's state components, then (with a delay) the held previous inputs. */
-  states: string[];
-  stateUnits: string[];
-  inputs: string[];
-  inputUnits: string[];
-  outputs: string[];
-  outputUnits: string[];
   poles: SampledPole[];
   verdict: StabilityClass;
   /** Largest |z|. */
