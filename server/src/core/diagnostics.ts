@@ -95,6 +95,12 @@ export const catalogue = {
   P404: { severity: 'error', text: 'Structurally singular: equations {equations} all determine only {unknowns}: {advice}' },
   P405: { severity: 'error', text: 'The model has no equations.' },
   P406: { severity: 'error', text: 'This equation has no unknown to determine: it holds only states, inputs and constants, so it constrains the states (a model of index above 1). Differentiate it into an equation for a derivative, or declare one of its states as "var".' },
+  P407: { severity: 'info', text: 'Index reduction (model index {index}): Poise differentiates this equation {times} ({method}); each point\'s linear model is an ODE in the states chosen there.' },
+  P408: { severity: 'error', text: 'The model\'s index cannot be reduced: {detail} Write the constraint in fewer variables (e.g. an angle instead of two coordinates) or give the constrained variable its own equation.' },
+  P409: { severity: 'info', text: 'At point "{point}" the states are {states}; {constrained} follow from the constraints (dummy derivatives {dummies}).' },
+  P410: { severity: 'warning', text: 'This constraint holds input {inputs}; differentiating it for index reduction takes the input\'s rate as zero, so the linear model does not carry steps of {inputs} through this constraint. Drive the constrained motion through a force or a first-order lag state instead of the input directly.' },
+  P411: { severity: 'error', text: 'At point "{point}" no states can be chosen: {detail} ({equations}). Move the point off this configuration (e.g. not where the constraint\'s gradient vanishes) or write the constraint in other variables.' },
+  P412: { severity: 'warning', text: 'Sweep "{name}": the states change from {from} to {to} at {at}; the linear models before and after are in different states (compare eigenvalues, not matrix entries).' },
 
   // 5xx operating point
   P501: { severity: 'error', text: 'Point "{point}" is unbalanced: {equations} equation(s) for {unknowns} unknown(s). {advice}' },

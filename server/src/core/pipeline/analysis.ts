@@ -14,6 +14,9 @@ import { elaborate, type Family } from '../semantics/elaborate';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
 import { sweepDiagnostics } from './sweepChecks';
 import { checkStructure, type StructureResult } from '../model/structure';
+import { reduceStructure, reductionSummary, type IndexPlan } from '../model/indexReduction';
+import { dynamicModel, type DynamicModel } from './dynamicModel';
+import { listNames } from '../model/structure';
 import { LineMap } from '../text';
 import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 import { unitText } from '../semantics/units';
@@ -47,6 +50,8 @@ export class Analysis {
   readonly units: UnitFacts;
   readonly lowered: LoweredModel;
   readonly structure: StructureResult;
+  /** A constrained (index above 1) model's reduction by Pantelides' algorithm; states are chosen per point. */
+  readonly indexPlan: IndexPlan | undefined;
   /** Diagnostics of the static stages (syntax, names, units, structure). */
   readonly diagnostics: Diagnostic[];
   /** Whether points can be solved (no errors that make the numbers meaningless). */
@@ -68,7 +73,9 @@ export class Analysis {
     this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices });
     this.units = checkUnits(this.bound);
     this.lowered = lower(this.bound, this.units, text);
-    this.structure = checkStructure(this.lowered);
+    const reduced = reduceStructure(this.lowered, checkStructure(this.lowered));
+    this.structure = reduced.structure;
+    this.indexPlan = reduced.plan;
     this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics]);
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
@@ -103,10 +110,28 @@ export class Analysis {
     if (!sol || !sol.ok) return undefined;
     let l = this.linears.get(sol.name);
     if (!l) {
-      l = linearize(this.lowered, this.structure.unknowns, sol.values, sol.name, sol.block.name.span);
+      const dm = this.dynamicsAt(sol.values);
+      l = linearize(dm.model, dm.unknowns, dm.values, sol.name, sol.block.name.span);
+      if (dm.failure) {
+        const labels = dm.failure.equations.map((r) => this.lowered.equations[r]?.label ?? '?');
+        l.diagnostics.push(diag('P411', sol.block.name.span, { point: sol.name, detail: dm.failure.detail, equations: labels.map((x) => `"${x}"`).join(', ') }));
+      } else if (dm.selection && this.indexPlan) {
+        const s = dm.selection;
+        l.reduction = reductionSummary(this.indexPlan, s.stateNames, s.dummyNames, s.constrained);
+        if (l.ok) l.diagnostics.push(diag('P409', sol.block.name.span, { point: sol.name, states: s.stateNames.length ? listNames(s.stateNames) : 'none', constrained: s.constrained.length ? listNames(s.constrained) : 'no declared states', dummies: listNames(s.dummyNames) }, { data: { states: s.stateNames, dummies: s.dummyNames } }));
+      }
       this.linears.set(sol.name, l);
     }
     return l;
+  }
+
+  /**
+   * The index-1 model to linearize or simulate at these values (SI; a point solution's values): the lowered
+   * model itself, or for a constrained model its reduction with the states chosen there (`prefer`: dummy
+   * slots of a previous choice, kept while they stay well-conditioned).
+   */
+  dynamicsAt(values: Float64Array, prefer?: readonly number[]): DynamicModel {
+    return dynamicModel(this.lowered, this.structure.unknowns, this.indexPlan, values, prefer);
   }
 
   deviationEquations(name?: string, digits = 4): DeviationEquation[] | undefined {

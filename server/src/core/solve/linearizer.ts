@@ -15,6 +15,7 @@ import { sparseLU } from '../numeric/sparseLU';
 import { SparseSolver } from '../numeric/sparseSolve';
 import { csrFromTriplets, csrToDense, type CsrMatrix } from '../numeric/csr';
 import { listNames } from '../model/structure';
+import type { IndexReductionSummary } from '../model/indexReduction';
 import type { Span } from '../text';
 import { linearModelProblems } from './finiteLinear';
 
@@ -59,6 +60,8 @@ export interface LinearModel extends LinearSignals, StateSpace {
   timeUnit: string;
   diagnostics: Diagnostic[];
   ok: boolean;
+  /** For a constrained model: the index reduction (differentiated equations, states chosen at the point). */
+  reduction?: IndexReductionSummary;
 }
 
 export interface LinearSparse {
