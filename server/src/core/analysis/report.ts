@@ -5,6 +5,7 @@
  * (present/reportHtml.ts) turns it into one standalone page; `formatReportText` (present/reportText.ts) into a
  * readable summary. Pure.
  */
+import type { IndexReductionSummary } from '../model/indexReduction';
 import { dynamicsProblem } from './finiteDynamics';
 import { timeUnitLabel } from '../semantics/units';
 import { hasName } from '../names';
@@ -120,6 +121,8 @@ export interface ReportData extends LinearSignals {
   values: ValueRow[];
   /** How the point was solved: Newton iterations and the achieved relative residual (see PointSolution.residual). */
   solve?: { iterations: number; residual: number };
+  /** A constrained model's index reduction: the differentiated equations and the states chosen at the point. */
+  indexReduction?: IndexReductionSummary;
   outputsAreStates: boolean;
   matrices: { A: number[][]; B: number[][]; C: number[][]; D: number[][] } | null;
   stability: StabilityVerdict | null;
@@ -187,6 +190,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     pushAll(data.problems, lin?.diagnostics.map((d) => d.message) ?? ['The model could not be linearized at this point.']);
     return data;
   }
+  if (lin.reduction) data.indexReduction = lin.reduction;
   const dyn = analyzeDynamics(lin);
   const overflow = dynamicsProblem(dyn, point, sol.block.name.span);
   if (overflow) {
@@ -213,7 +217,8 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   const T = dyn.horizon.value;
   const samples = Math.max(11, opts.samples ?? 241);
   const times = Array.from({ length: samples }, (_, k) => (T * k) / (samples - 1));
-  const sim = new Simulator(a.lowered, a.structure.unknowns, sol.values, point);
+  const dm = a.dynamicsAt(sol.values);
+  const sim = new Simulator(dm.model, dm.unknowns, dm.values, point);
   const linked = (i: number, j: number) => {
     const tf = dyn.transfer.find((x) => x.outputIndex === i && x.inputIndex === j);
     return !!tf && !tf.identicallyZero;

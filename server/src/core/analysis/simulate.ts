@@ -449,5 +449,6 @@ function allFinite(a: Float64Array): boolean {
 export function createSimulator(a: Analysis, point: string): Simulator | undefined {
   const sol = a.point(point);
   if (!sol || !sol.ok) return undefined;
-  return new Simulator(a.lowered, a.structure.unknowns, sol.values, point);
+  const dm = a.dynamicsAt(sol.values);
+  return new Simulator(dm.model, dm.unknowns, dm.values, point);
 }

@@ -13,7 +13,7 @@
  */
 import { timeUnitLabel } from '../semantics/units';
 import type { Analysis } from '../pipeline/analysis';
-import type { Diagnostic } from '../diagnostics';
+import { diag, type Diagnostic } from '../diagnostics';
 import { formatNumber } from '../algebra/expr';
 import { compileModel } from '../model/jacobian';
 import { declaredValue, linearize, type LinearModel } from '../solve/linearizer';
@@ -65,6 +65,8 @@ export interface SweepPoint {
   iterations: number;
   /** Extra continuation steps (halvings) needed to reach this point. */
   substeps: number;
+  /** A constrained model's states at this point (index reduction; chosen by dummy derivatives). */
+  states?: string[];
 }
 
 export interface Crossing {
@@ -306,10 +308,17 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
     return { ok: false, last: cur, failed: target };
   };
 
+  // a constrained model: the states chosen at the previous evaluation are kept while they stay well-conditioned
+  let keepDummies: number[] | undefined;
   const evaluate = (sol: PointSolution): Evaluated | undefined => {
     result.stats.linearizations++;
-    const lin = linearize(lm, unknownSlots, sol.values, spec.point, block.name.span);
+    const dm = a.indexPlan ? a.dynamicsAt(sol.values, keepDummies) : undefined;
+    const lin = dm ? linearize(dm.model, dm.unknowns, dm.values, spec.point, block.name.span) : linearize(lm, unknownSlots, sol.values, spec.point, block.name.span);
     if (!lin.ok) return undefined;
+    if (dm?.selection) {
+      keepDummies = dm.selection.dummies;
+      lin.reduction = { index: 0, differentiated: [], states: dm.selection.stateNames, dummies: dm.selection.dummyNames, constrained: dm.selection.constrained };
+    }
     const e = eigenvalues({ rows: lin.n, cols: lin.n, data: lin.A });
     const eig = sortEigen(e.re, e.im);
     const t = eigTolerance(lin, eig);
@@ -328,6 +337,17 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
       iterations: st.sol.iterations,
       substeps,
     };
+    if (ev.lin.reduction) {
+      pt.states = ev.lin.reduction.states;
+      const before = result.points[result.points.length - 1]?.states;
+      if (!result.points.length && !outputs.length) {
+        result.gainRows = result.states = pt.states;
+        result.gainUnits = ev.lin.stateUnits.map((ru) => lm.inputs.map((id) => simplifyUnitText(perUnit(ru === '1' ? '' : ru, unitOf(id)))));
+      }
+      if (before && before.join(',') !== pt.states.join(',')) {
+        result.diagnostics.push(diag('P412', block.name.span, { name: spec.name, from: before.join(', '), to: pt.states.join(', '), at: fmt(st.p) }, { data: { at: st.p, from: before, to: pt.states } }));
+      }
+    }
     result.points.push(pt);
     return pt;
   };

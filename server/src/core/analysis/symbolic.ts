@@ -237,8 +237,11 @@ export function symbolicLinear(a: Analysis, point?: string, opts: SymbolicOption
   return r;
 }
 
-function build(a: Analysis, si: Float64Array, lin: LinearModel, opts: SymbolicOptions): SymbolicLinear {
-  const lm = a.lowered;
+function build(a: Analysis, pointValues: Float64Array, lin: LinearModel, opts: SymbolicOptions): SymbolicLinear {
+  // the model the linear model was made from (for a constrained model, its reduction at the point)
+  const dm = a.dynamicsAt(pointValues);
+  const lm = dm.model;
+  const si = dm.values;
   const maxNodes = opts.maxNodes ?? 250;
   const maxUnknowns = opts.maxUnknowns ?? 400;
   const cm = compileModel(lm);
@@ -276,7 +279,7 @@ function build(a: Analysis, si: Float64Array, lin: LinearModel, opts: SymbolicOp
     return r;
   };
 
-  const unknownSlots = a.structure.unknowns;
+  const unknownSlots = dm.unknowns;
   const N = unknownSlots.length;
   const n = lin.n;
   const m = lin.m;

@@ -193,6 +193,7 @@ function linearJsonChunks(lin: LinearModel, values: VariableValue[], o: ExportOp
     eqs.forEach((e, k) => emit(`  ${jstr(e.text)}${k < eqs.length - 1 ? ',' : ''}`));
     emit(' ],');
     if (o.solve) emit(` "solve": {"iterations": ${o.solve.iterations}, "residual": ${jnum(o.solve.residual)}},`);
+    if (lin.reduction) emit(` "indexReduction": ${JSON.stringify(lin.reduction)},`); // a constrained model: differentiated equations, chosen states
     emit(` "caution": ${jstr(LINEAR_CAUTION)}`);
     emit('}');
   });

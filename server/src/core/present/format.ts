@@ -6,6 +6,7 @@ import { nameRecord } from '../names';
 import type { Analysis, VariableValue } from '../pipeline/analysis';
 import { formatNumber } from '../algebra/expr';
 import type { DeviationEquation, LinearModel } from '../solve/linearizer';
+import type { IndexReductionSummary } from '../model/indexReduction';
 import { eigenvalues, eigenvaluesSparse, sortEigen } from '../numeric/eigen';
 import { unitSuffix, unitText } from '../semantics/units';
 import { maxOf, pushAll } from '../arrays';
@@ -23,6 +24,8 @@ export interface LinearJson {
   D: number[][];
   eigenvalues: { re: number; im: number }[];
   equations: string[];
+  /** A constrained model's index reduction (differentiated equations, states chosen at the point). */
+  indexReduction?: IndexReductionSummary;
 }
 
 /**
@@ -61,10 +64,22 @@ export function linearJson(lin: LinearModel, values: VariableValue[], eqs: Devia
     D: rows(lin.D, lin.p, lin.m),
     eigenvalues: linearEigen(lin),
     equations: eqs.map((e) => e.text),
+    ...(lin.reduction ? { indexReduction: lin.reduction } : {}),
   };
 }
 
 const u1 = unitText;
+
+/** The index reduction of a constrained model in words: what was differentiated and which states were chosen. */
+export function indexReductionLines(s: IndexReductionSummary): string[] {
+  const times = (k: number) => (k === 1 ? 'once' : k === 2 ? 'twice' : `${k} times`);
+  return [
+    `Index reduction (the model as written has index ${s.index}; Pantelides' algorithm, states by dummy derivatives):`,
+    `  differentiated: ${s.differentiated.map((d) => `"${d.label}" ${times(d.times)}`).join(', ')}`,
+    `  states: ${s.states.join(', ') || '(none)'}`,
+    `  determined by the constraints: ${s.constrained.join(', ') || '(no declared state)'}; dummy derivatives (algebraic): ${s.dummies.join(', ')}`,
+  ];
+}
 
 export function formatValues(values: VariableValue[], digits = 6, withConstants = false): string {
   const shown = values.filter((v) => withConstants || v.kind !== 'const');
@@ -110,6 +125,7 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   out.push(`Point ${lin.point} (time in ${t})`);
   out.push(formatValues(values, 6));
   out.push('');
+  if (lin.reduction) out.push(...indexReductionLines(lin.reduction), '');
   out.push('Deviation equations (Δv = v − v₀; v₀: the value at the point):');
   for (const e of eqs) out.push('  ' + e.text);
   out.push('');

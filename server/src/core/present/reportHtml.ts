@@ -92,8 +92,14 @@ function sectionPoint(d: ReportData): string {
   const consts = d.values.filter((v) => v.kind === 'const');
   return `<section id="point"><h2>Operating point</h2>
 <table class="data"><thead><tr><th>variable</th><th>kind</th><th class="num">value</th><th>unit</th><th></th></tr></thead><tbody>${rowsHtml}</tbody></table>
+${d.indexReduction ? indexReductionHtml(d.indexReduction) : ''}
 ${consts.length ? `<details><summary>Constants (${consts.length})</summary><table class="data"><tbody>${consts.map((v) => `<tr><td class="name">${esc(v.name)}</td><td class="num">${num(v.value, 6)}</td><td>${esc(v.unit)}</td></tr>`).join('')}</tbody></table></details>` : ''}
 </section>`;
+}
+
+function indexReductionHtml(s: NonNullable<ReportData['indexReduction']>): string {
+  const times = (k: number) => (k === 1 ? 'once' : k === 2 ? 'twice' : `${k} times`);
+  return `<p class="note">Constrained model (index ${s.index} as written), reduced by Pantelides' algorithm with states chosen by dummy derivatives: differentiated ${s.differentiated.map((x) => `<code>${esc(x.label)}</code> ${times(x.times)}`).join(', ')}. States: <b>${esc(s.states.join(', ') || 'none')}</b>; determined by the constraints: ${esc(s.constrained.join(', ') || 'no declared state')} (dummy derivatives ${esc(s.dummies.join(', '))}).</p>`;
 }
 
 function verdictBadge(d: ReportData): string {

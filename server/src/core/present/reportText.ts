@@ -4,6 +4,7 @@ import { formatNumber } from '../algebra/expr';
 import type { Complex } from '../analysis/dynamics';
 import type { ReportData, ValidityLimit } from '../analysis/report';
 import { transferLines } from '../analysis/transferText';
+import { indexReductionLines } from './format';
 
 const f = (v: number | null | undefined, d = 4): string => (v === null || v === undefined ? '—' : formatNumber(v, d));
 const u = (unit: string) => (unit ? ` ${unit}` : '');
@@ -21,6 +22,7 @@ export function formatReportText(r: ReportData, d = 4): string {
     pushAll(out, ['', 'The report could not be made:', ...r.problems.map((p) => `  ${p}`)]);
     return out.join('\n');
   }
+  if (r.indexReduction) out.push('', ...indexReductionLines(r.indexReduction));
   out.push('', 'Operating point:');
   const w = maxOf(r.values.filter((v) => v.kind !== 'const').map((v) => v.name.length), 4);
   for (const v of r.values) if (v.kind !== 'const') out.push(`  ${v.name.padEnd(w)}  ${f(v.value, 6).padStart(12)}${u(v.unit ? `[${v.unit}]` : '')}${v.role === 'fixed' ? '  (fixed)' : ''}`);
