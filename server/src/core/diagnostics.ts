@@ -100,7 +100,7 @@ export const catalogue = {
   P409: { severity: 'info', text: 'At point "{point}" the states are {states}; {constrained} follow from the constraints (dummy derivatives {dummies}).' },
   P410: { severity: 'warning', text: 'This constraint holds input {inputs}; differentiating it for index reduction takes the input\'s rate as zero, so the linear model does not carry steps of {inputs} through this constraint. Drive the constrained motion through a force or a first-order lag state instead of the input directly.' },
   P411: { severity: 'error', text: 'At point "{point}" no states can be chosen: {detail} ({equations}). Move the point off this configuration (e.g. not where the constraint\'s gradient vanishes) or write the constraint in other variables.' },
-  P412: { severity: 'warning', text: 'Sweep "{name}": the states change from {from} to {to} at {at}; the linear models before and after are in different states (compare eigenvalues, not matrix entries).' },
+  P412: { severity: 'warning', text: 'Sweep{name}: the states change from {from} to {to} at {at}; the linear models before and after are in different states (compare eigenvalues, not matrix entries).' },
 
   // 5xx operating point
   P501: { severity: 'error', text: 'Point "{point}" is unbalanced: {equations} equation(s) for {unknowns} unknown(s). {advice}' },

@@ -345,7 +345,7 @@ export function runSweep(a: Analysis, spec: SweepSpec, opts: SweepOptions = {}):
         result.gainUnits = ev.lin.stateUnits.map((ru) => lm.inputs.map((id) => simplifyUnitText(perUnit(ru === '1' ? '' : ru, unitOf(id)))));
       }
       if (before && before.join(',') !== pt.states.join(',')) {
-        result.diagnostics.push(diag('P412', block.name.span, { name: spec.name, from: before.join(', '), to: pt.states.join(', '), at: fmt(st.p) }, { data: { at: st.p, from: before, to: pt.states } }));
+        result.diagnostics.push(diag('P412', block.name.span, { name: spec.name ? ` "${spec.name}"` : '', from: before.join(', '), to: pt.states.join(', '), at: fmt(st.p) }, { data: { at: st.p, from: before, to: pt.states } }));
       }
     }
     result.points.push(pt);

@@ -48,6 +48,8 @@ export function formatSweepText(r: SweepResult, digits = 5): string {
     for (const c of r.crossings) out.push('  ' + c.message);
   } else out.push('No stability change over the points computed.');
   if (r.stop) out.push('', `Stopped: ${r.stop.message}`);
+  const stateChanges = r.diagnostics.filter((d) => d.code === 'P412'); // a constrained model's states (index reduction)
+  if (stateChanges.length) out.push('', ...stateChanges.map((d) => d.message));
   out.push('', 'Each row is a linear model valid only near its own operating point; check conclusions on the nonlinear model and the plant.');
   return out.join('\n');
 }
