@@ -117,7 +117,7 @@ describe('names', () => {
       z = 2*x
       point p:
         u = 1
-    `, [{ code: 'P205', message: [`z'`, 'declare it as "var"'] }], { ignore: ['P401', 'P402', 'P403', 'P404', 'P406'] });
+    `, [{ code: 'P205', message: [`z'`, 'declare it as "var"'] }], { ignore: ['P401', 'P402', 'P403', 'P404', 'P406', 'P407'] });
   });
 });
 
@@ -215,14 +215,32 @@ describe('structure', () => {
       state x
       var a, ⟦b⟧
       x' = -x + u + b
-      ⟦a = x⟧
-      ⟦a = 2*x⟧
+      ⟦a = u⟧
+      ⟦a = 2*u⟧
       point p:
         u = 1
     `, [
       { code: 'P403', at: 0, message: ['"b"'] },
-      { code: 'P404', at: 1, message: ['"a = x"', '"a = 2*x"', '"a"'] },
+      { code: 'P404', at: 1, message: ['"a = u"', '"a = 2*u"', '"a"'] },
       { code: 'P402', at: 2 },
+    ]);
+  });
+
+  it('two constraints on a state are an index-2 model, reduced (P407 on each, P409 at the point: no state left)', () => {
+    // a = x and a = 2*x hold x at 0; differentiated once each (Pantelides), x' = 0 and b follows
+    check(`
+      input u
+      state x
+      var a, b
+      x' = -x + u + b
+      ⟦a = x⟧
+      ⟦a = 2*x⟧
+      point ⟦p⟧:
+        u = 1
+    `, [
+      { code: 'P407', at: 0, message: ['index 2', 'once'] },
+      { code: 'P407', at: 1, message: ['index 2', 'once'] },
+      { code: 'P409', at: 2, message: ['none (the linear model is static)', '"x" follow'] },
     ]);
   });
 });
@@ -448,14 +466,26 @@ describe('structure: a constraint on the states', () => {
     check(`
       input u
       state x
-      var ⟦z⟧
+      var z
       x' = z
       ⟦x = u⟧
-      point p:
+      point ⟦p⟧:
         u = 1
     `, [
-      { code: 'P403', at: 0, message: ['"z"'] },
-      { code: 'P406', at: 1, message: ['constrains the states', 'Differentiate'] },
+      { code: 'P407', at: 0, message: ['index 2', 'differentiates this equation once'] },
+      { code: 'P410', at: 0, message: ['input "u"', 'rate as zero', 'first-order lag'] },
+      { code: 'P409', at: 1, message: ['"x" follow from the constraints'] },
     ]);
+  });
+
+  it('an unbalanced model with a constraint is not reduced: P406 stays', () => {
+    check(`
+      input u
+      state x
+      x' = -x + u
+      ⟦x = 2*u⟧
+      point p:
+        u = 1
+    `, [{ code: 'P406', at: 0, message: ['constrains the states', 'Differentiate'] }], { ignore: ['P401', 'P402'] });
   });
 });

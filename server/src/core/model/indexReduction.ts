@@ -197,7 +197,7 @@ export function planIndexReduction(lm: LoweredModel): PlanResult {
     ...lm, slots, equations, baseValues,
     slotOf: (s, order = 0) => extra.get(s)?.[order] ?? lm.slotOf(s, order),
   };
-  const maxC = Math.max(0, ...c);
+  const maxC = c.reduce((x, y) => Math.max(x, y), 0);
   const index = maxC + (d.some((x) => x === 0) ? 1 : 0);
   const differentiated = c.map((times, equation) => ({ equation, times })).filter((x) => x.times > 0);
   return { ok: true, plan: { augmented, symbols, slotAt, eqAt, c, d, declared, index, differentiated, withInputs } };

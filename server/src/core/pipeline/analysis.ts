@@ -73,7 +73,9 @@ export class Analysis {
     this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices });
     this.units = checkUnits(this.bound);
     this.lowered = lower(this.bound, this.units, text);
-    const reduced = reduceStructure(this.lowered, checkStructure(this.lowered));
+    // a constrained model (index above 1) is reduced unless naming errors already explain the structure
+    const checked = checkStructure(this.lowered);
+    const reduced = this.bound.diagnostics.some((d) => d.severity === 'error') ? { structure: checked, plan: undefined } : reduceStructure(this.lowered, checked);
     this.structure = reduced.structure;
     this.indexPlan = reduced.plan;
     this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics]);
@@ -118,7 +120,7 @@ export class Analysis {
       } else if (dm.selection && this.indexPlan) {
         const s = dm.selection;
         l.reduction = reductionSummary(this.indexPlan, s.stateNames, s.dummyNames, s.constrained);
-        if (l.ok) l.diagnostics.push(diag('P409', sol.block.name.span, { point: sol.name, states: s.stateNames.length ? listNames(s.stateNames) : 'none', constrained: s.constrained.length ? listNames(s.constrained) : 'no declared states', dummies: listNames(s.dummyNames) }, { data: { states: s.stateNames, dummies: s.dummyNames } }));
+        if (l.ok) l.diagnostics.push(diag('P409', sol.block.name.span, { point: sol.name, states: s.stateNames.length ? listNames(s.stateNames) : 'none (the linear model is static)', constrained: s.constrained.length ? listNames(s.constrained) : 'no declared states', dummies: listNames(s.dummyNames) }, { data: { states: s.stateNames, dummies: s.dummyNames } }));
       }
       this.linears.set(sol.name, l);
     }

@@ -125,7 +125,7 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   out.push(`Point ${lin.point} (time in ${t})`);
   out.push(formatValues(values, 6));
   out.push('');
-  if (lin.reduction) out.push(...indexReductionLines(lin.reduction), '');
+  if (lin.reduction) pushAll(out, [...indexReductionLines(lin.reduction), '']);
   out.push('Deviation equations (Δv = v − v₀; v₀: the value at the point):');
   for (const e of eqs) out.push('  ' + e.text);
   out.push('');

@@ -22,7 +22,7 @@ export function formatReportText(r: ReportData, d = 4): string {
     pushAll(out, ['', 'The report could not be made:', ...r.problems.map((p) => `  ${p}`)]);
     return out.join('\n');
   }
-  if (r.indexReduction) out.push('', ...indexReductionLines(r.indexReduction));
+  if (r.indexReduction) pushAll(out, ['', ...indexReductionLines(r.indexReduction)]);
   out.push('', 'Operating point:');
   const w = maxOf(r.values.filter((v) => v.kind !== 'const').map((v) => v.name.length), 4);
   for (const v of r.values) if (v.kind !== 'const') out.push(`  ${v.name.padEnd(w)}  ${f(v.value, 6).padStart(12)}${u(v.unit ? `[${v.unit}]` : '')}${v.role === 'fixed' ? '  (fixed)' : ''}`);

@@ -1,5 +1,5 @@
 /** The sweep as a plain-text table, with the stability changes and where it stopped. */
-import { maxOf, minOf } from '../arrays';
+import { maxOf, minOf, pushAll } from '../arrays';
 import { formatNumber } from '../numbers';
 import type { SweepPoint, SweepResult } from '../analysis/sweep';
 
@@ -49,7 +49,7 @@ export function formatSweepText(r: SweepResult, digits = 5): string {
   } else out.push('No stability change over the points computed.');
   if (r.stop) out.push('', `Stopped: ${r.stop.message}`);
   const stateChanges = r.diagnostics.filter((d) => d.code === 'P412'); // a constrained model's states (index reduction)
-  if (stateChanges.length) out.push('', ...stateChanges.map((d) => d.message));
+  if (stateChanges.length) pushAll(out, ['', ...stateChanges.map((d) => d.message)]);
   out.push('', 'Each row is a linear model valid only near its own operating point; check conclusions on the nonlinear model and the plant.');
   return out.join('\n');
 }
