@@ -130,8 +130,10 @@ function checkCommand(p: Parsed, io: Io): number {
     if (errors) failed = true;
     if (json) files.push({ file: f, ok: errors === 0, diagnostics: ds.map((d) => diagnosticJson(a, f, d)) });
     else {
-      for (const d of ds) io.out(formatDiagnostic(a, f, d));
-      if (!ds.length && !quiet) io.out(`${f}: ok`);
+      // problems only: information (e.g. an index reduction, P407) is in the JSON and the editor
+      const problems = ds.filter((d) => d.severity !== 'info');
+      for (const d of problems) io.out(formatDiagnostic(a, f, d));
+      if (!problems.length && !quiet) io.out(`${f}: ok`);
     }
   }
   if (json) io.out(JSON.stringify({ schema: 'poise-check/1', ok: !failed, files }, null, 1));
