@@ -22,6 +22,7 @@ import { linearSystem } from '../server/src/core/analysis/dynamics';
 import { linearStepResponse } from '../server/src/core/numeric/expm';
 import { createSimulator } from '../server/src/core/analysis/simulate';
 import { buildReport } from '../server/src/core/analysis/report';
+import { hover } from '../server/src/core/services/hover';
 import { dedent, expectClose } from './helpers/model';
 import { EXAMPLES, runCli } from './helpers/cli';
 
@@ -404,5 +405,20 @@ describe('CLI: linearize and report of the example', () => {
     expect(c.stdout.trim()).toBe(`${file}: ok`); // information is not a problem
     const cj = JSON.parse(runCli(['check', file, '--format', 'json']).stdout);
     expect(cj.files[0].diagnostics.filter((d: { code: string }) => d.code === 'P407').map((d: { line: number }) => d.line)).toEqual([15, 16, 19]);
+  });
+});
+
+describe('editor: the point hover names the chosen states', () => {
+  it('hover on a point of the example shows the states and the differentiated equations', () => {
+    const text = fs.readFileSync(path.join(EXAMPLES, 'dip_rail_shuttle.poise'), 'utf8');
+    const a = analyze(text);
+    const h = hover(a, text.indexOf('point held:') + 'point h'.length)!;
+    expect(h).toBeDefined();
+    const md = JSON.stringify(h);
+    expect(md).toContain('Index 3 model, reduced: states `x`, `vx`');
+    expect(md).toContain('`y = x^2/(2*rdip)` twice');
+    // the same information as a diagnostic at the point header
+    const info = a.allDiagnostics().find((d) => d.code === 'P409' && text.slice(d.span.start, d.span.end) === 'held')!;
+    expect(info.severity).toBe('info');
   });
 });

@@ -208,6 +208,12 @@ function pointText(a: Analysis, name: string, digits: number): string {
     return out.join('\n');
   }
   const tu = timeUnitLabel(lin.timeUnit);
+  if (lin.reduction) {
+    // a constrained model: the states chosen here (dummy derivatives) and what was differentiated
+    const r = lin.reduction;
+    const times = (k: number) => (k === 1 ? 'once' : k === 2 ? 'twice' : `${k} times`);
+    out.push('', `Index ${r.index} model, reduced: states ${r.states.map(code).join(', ') || 'none'}${r.constrained.length ? `; ${r.constrained.map(code).join(', ')} follow from the constraints` : ''} (dummy derivatives ${r.dummies.map(code).join(', ')}); differentiated ${r.differentiated.map((d) => `${code(d.label)} ${times(d.times)}`).join(', ')}.`);
+  }
   if (lin.n === 0) {
     out.push('', 'The model has no states: no eigenvalues (a static model).');
     return out.join('\n');
