@@ -422,3 +422,25 @@ describe('editor: the point hover names the chosen states', () => {
     expect(info.severity).toBe('info');
   });
 });
+
+describe('the example: a carriage on a parabolic rail (bead on a wire) against Lagrange\'s equations', () => {
+  // With x as the one coordinate of y = x²/(2R): kinetic energy ½·m·(1 + (x/R)²)·ẋ², potential m·g·y − push·x,
+  // drag on both velocity components: generalised damping drag·(1 + (x/R)²)·ẋ. About the equilibrium
+  // x₀ = push·R/(m·g): ẍ = −g/(R·(1 + s²))·Δx − (drag/m)·ẋ + Δpush/(m·(1 + s²)), s = x₀/R (derived by hand
+  // from Lagrange's equations; classical mechanics)
+  const a = analyze(fs.readFileSync(path.join(EXAMPLES, 'dip_rail_shuttle.poise'), 'utf8'));
+  for (const [point, push] of [['resting', 0], ['held', 20]] as const) {
+    it(`${point}: A and B equal the one-coordinate model`, () => {
+      const m = 8, R = 2.5, g = 9.81, drag = 6;
+      const s = (push * R) / (m * g) / R;
+      const lin = a.linear(point)!;
+      expect(lin.states).toEqual(['x', 'vx']);
+      const A = Array.from(lin.A);
+      expectClose(A[0], 0, 0, 1e-14, 'A11');
+      expectClose(A[1], 1, 1e-14, 0, 'A12');
+      expectClose(A[2], -g / (R * (1 + s * s)), 1e-12, 0, 'A21');
+      expectClose(A[3], -drag / m, 1e-12, 0, 'A22');
+      expectClose(lin.B[1], 1 / (m * (1 + s * s)), 1e-12, 0, 'B2');
+    });
+  }
+});
