@@ -444,3 +444,31 @@ describe('the example: a carriage on a parabolic rail (bead on a wire) against L
     });
   }
 });
+
+describe('index of a chain of integrators with its end held (structural index = chain length + 1)', () => {
+  // x1' = x2, …, x(n−1)' = xn, xn' = z, x1 = u: the constraint is differentiated n times to reach z, so the
+  // index is n + 1 (common practice: each differentiation exposes one more derivative)
+  const chain = (n: number) => {
+    const lines = [`input u`, `state ${Array.from({ length: n }, (_, i) => `x${i + 1}`).join(', ')}`, 'var z'];
+    for (let i = 1; i < n; i++) lines.push(`x${i}' = x${i + 1}`);
+    lines.push(`x${n}' = z`, 'x1 = u', 'point p:', '  u = 1');
+    return analyze(lines.join('\n'));
+  };
+  it('n = 4: index 5, the constraint differentiated 4 times; the linear model is static', () => {
+    const a = chain(4);
+    expect(errors(a)).toEqual([]);
+    expect(a.indexPlan?.index).toBe(5);
+    expect(a.indexPlan?.c[a.lowered.equations.findIndex((e) => e.label === 'x1 = u')]).toBe(4);
+    const lin = a.linear('p')!;
+    expect(lin.ok).toBe(true);
+    expect(lin.n).toBe(0);
+  });
+  it('n = 14: more than 12 differentiations: P408 says what to change', () => {
+    const a = chain(14);
+    const d = a.diagnostics.find((x) => x.code === 'P408')!;
+    expect(d.severity).toBe('error');
+    expect(d.message).toContain('more than 12 times');
+    expect(d.message).toContain('Write the constraint');
+    expect(a.canSolve).toBe(false);
+  });
+});
