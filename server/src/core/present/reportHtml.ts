@@ -11,6 +11,7 @@ import type { ReportData, StepReport, ValidityLimit, ValidityReport } from '../a
 import { factorsOf, transferLines } from '../analysis/transferText';
 import { chart, esc, htmlPage, legend, linRange, num, newPage, r1, type AxisSpec, type PageContext, type Series } from './svgCharts';
 import { unitSuffix } from '../semantics/units';
+import { directionText, multiplicityText } from './format';
 import { maxOf, minOf, pushAll } from '../arrays';
 
 export interface RenderOptions {
@@ -106,7 +107,7 @@ function sectionModes(page: PageContext, d: ReportData): string {
   const st = d.stability!;
   const body = d.modes
     .map((m) => {
-      const lam = m.multiplicity === 2 ? `${num(m.re)} ± ${num(m.im)}i` : num(m.re);
+      const lam = `${m.im > 0 ? `${num(m.re)} ± ${num(m.im)}i` : num(m.re)}${esc(multiplicityText(m))}`;
       const part = m.participation
         .slice(0, 3)
         .filter((p, i) => i === 0 || p.factor >= 0.05)
@@ -211,7 +212,7 @@ function sectionTransfer(d: ReportData): string {
     .join('');
   const c = d.controllability!;
   const o = d.observability!;
-  const failing = (r: typeof c, word: string) => (r.failing.length ? `${word}: ${r.failing.map((x) => `mode ${x.mode} (λ = ${complexHtml({ re: x.re, im: x.im })})`).join(', ')}.` : `every mode is ${word.replace(/^un/, '')}.`);
+  const failing = (r: typeof c, word: string) => (r.failing.length ? `${word}: ${r.failing.map((x) => `mode ${x.mode} (λ = ${complexHtml({ re: x.re, im: x.im })}${x.directions.length ? `; direction ${x.directions.map((v) => esc(directionText(v))).join('; ')}` : ''})`).join(', ')}.` : `every mode is ${word.replace(/^un/, '')}.`);
   return `<section id="transfer"><h2>Transfer functions</h2>
 <p class="note">Each pair from its controllable and observable part (orthogonal staircase reduction); poles are that part's eigenvalues, zeros the transmission zeros from the system matrix [[A, b], [c, d]] reduced to an ordinary eigenproblem; the gain K from the exact response at a test point. <i>s</i> in 1/${esc(t)}. ${d.outputsAreStates ? 'The model declares no outputs, so the state components serve as outputs.' : ''}</p>
 ${d.inputs.length ? items || '<p>No pairs.</p>' : '<p>The model has no inputs.</p>'}
