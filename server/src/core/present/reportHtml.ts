@@ -309,8 +309,8 @@ ${d.inputs.length ? blocks : '<p>The model has no inputs.</p>'}</section>`;
 function limText(l: ValidityLimit | null, v: ValidityReport, sign: string): string {
   if (!l) return '—';
   if (l.limitedBy === 'nothing valid') return '<span class="no">none found</span>';
-  if (l.limitedBy === 'time budget' && l.step === 0) return '<span class="muted">not computed</span>';
-  return `${sign}${num(l.step, 3)}${unitTxt(v.unit)} <span class="muted">(${num(l.percent, 3)} %)</span>${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' ? ' or more' : ''}`;
+  if ((l.limitedBy === 'time budget' || l.limitedBy === 'work budget') && l.step === 0) return '<span class="muted">not computed</span>';
+  return `${sign}${num(l.step, 3)}${unitTxt(v.unit)} <span class="muted">(${num(l.percent, 3)} %)</span>${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' || l.limitedBy === 'work budget' ? ' or more' : ''}`;
 }
 
 const LIMIT_WORDS: Record<ValidityLimit['limitedBy'], string> = {
@@ -319,6 +319,7 @@ const LIMIT_WORDS: Record<ValidityLimit['limitedBy'], string> = {
   'search limit': 'none up to 1000 %',
   'nothing valid': 'tolerance at every size tried',
   'time budget': 'time budget (range at least this wide)',
+  'work budget': 'work budget (range at least this wide)',
 };
 
 function sectionValidity(page: PageContext, d: ReportData): string {
@@ -379,6 +380,7 @@ export function renderReportHtml(data: ReportData, opts: RenderOptions = {}): st
     sections.push(`<section><h2>No report</h2><p>The report could not be made for this point:</p><ul class="problems">${data.problems.map((p) => `<li>${esc(p)}</li>`).join('')}</ul></section>`);
   } else {
     sections.push(sectionPoint(data), sectionModes(page, data), sectionGains(data), sectionTransfer(data), sectionBode(page, data), sectionSteps(page, data), sectionValidity(page, data));
+    if (data.skipped?.length) sections.push(`<section id="skipped"><h2>Left out or cut short</h2><ul>${data.skipped.map((x) => `<li>${esc(x)}</li>`).join('')}</ul></section>`);
   }
   const nav = data.ok
     ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}`

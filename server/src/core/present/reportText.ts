@@ -89,7 +89,7 @@ export function formatReportText(r: ReportData, d = 4): string {
         continue;
       }
       const lim = (l: ValidityLimit | null, sign: string) =>
-        !l ? '—' : l.limitedBy === 'nothing valid' ? `${sign}: no step found valid` : `${sign}${f(l.step, 3)}${u(v.unit)} (${f(l.percent, 3)} %)${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' ? ' or more' : l.limitedBy === 'domain' ? ', then out of the domain' : ''}`;
+        !l ? '—' : l.limitedBy === 'nothing valid' ? `${sign}: no step found valid` : `${sign}${f(l.step, 3)}${u(v.unit)} (${f(l.percent, 3)} %)${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' || l.limitedBy === 'work budget' ? ' or more' : l.limitedBy === 'domain' ? ', then out of the domain' : ''}`;
       const basis = v.percentBasis === 'unit' ? `% of one unit; the operating value is 0${u(v.unit)}` : `% of the operating value ${f(v.operatingValue, 4)}${u(v.unit)}`;
       out.push(`  ${v.input}: up to ${lim(v.up, '+')}, down to ${lim(v.down, '-')}  (${basis})`);
       const dm = v.up?.domainMessage ?? v.down?.domainMessage;
@@ -97,6 +97,7 @@ export function formatReportText(r: ReportData, d = 4): string {
       if (v.note) out.push(`      ${v.note}`);
     }
   }
+  if (r.skipped?.length) pushAll(out, ['', 'Left out or cut short:', ...r.skipped.map((x) => `  - ${x}`)]);
   pushAll(out, ['', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`)]);
   return out.join('\n');
 }
