@@ -95,6 +95,7 @@ export const COMMANDS: CommandSpec[] = [
       { name: '--html', value: text('OUT.html'), help: 'also write the standalone report page' },
       { name: '--step', value: text('INPUT=SIZE', true), help: 'step size of an input: a number in its declared unit, with a unit (0.5[L/s]) or a percentage of its value (5%); repeatable' },
       { name: '--tolerance', value: text('PCT'), help: 'how far the linear prediction may differ for the validity range, in percent', default: '5' },
+      { name: '--quick', value: flag, help: 'leave out the validity search and cap the nonlinear simulations at a work budget; the report lists what it left out' },
       { name: '--format', value: choice('text', 'json'), help: 'text, or json (schema poise-report/1)', default: 'text' },
       HELP,
     ],

@@ -1,5 +1,5 @@
 /**
- * `poise report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE]... [--format text|json] [--tolerance PCT]`
+ * `poise report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE]... [--format text|json] [--tolerance PCT] [--quick]`
  *
  * Prints the dynamics at the point (text summary or JSON) and, with --html, writes the standalone page.
  * SIZE is in the input's declared unit, a number with a unit in brackets (0.5[L/s]), or a percentage of
@@ -13,6 +13,9 @@ import { formatReportText } from '../core/present/reportText';
 import type { Parsed } from './options';
 import type { CliHelpers, Io } from './shared';
 import { sizeInDeclaredUnit } from './quantity';
+
+/** Integrator step attempts a quick report may spend on its nonlinear step responses. */
+export const QUICK_WORK = 2000;
 
 export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
   const file = h.oneFile(p);
@@ -58,7 +61,9 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
     if (!Number.isFinite(size) || size === 0) throw new h.UsageError(`--step ${name}: "${sizeText}" is not a non-zero number (a value in the input's unit, a value with a unit like 0.5[L/s], or a percentage like 5%)`);
     steps[name] = size;
   }
-  const data = buildReport(r.a, r.point, { steps, tolerance, title: path.basename(file) });
+  // --quick: no validity search, and each report's nonlinear simulations within QUICK_WORK integrator steps
+  const quick = p.opts.has('--quick');
+  const data = buildReport(r.a, r.point, { steps, tolerance, title: path.basename(file), ...(quick ? { quick: true, workBudget: QUICK_WORK } : {}) });
   if (!data.ok) {
     for (const m of data.problems) io.err(`${file}: ${m}`);
     return 1;

@@ -92,8 +92,8 @@ export function pointEdit(a: Analysis, action: 'solve' | 'linearize', point: str
   }
   const r = linearizeEdit(a, point, digits);
   if (!r.ok) return { ok: false, message: catalogueText('P805', { point, detail: r.message }) };
-  const same = a.text.slice(r.edit.span.start, r.edit.span.end) === r.edit.newText;
-  return { ok: true, label: catalogueText('P707', { point }), edits: same ? [] : [r.edit] };
+  const same = r.edits.length === 1 && a.text.slice(r.edit.span.start, r.edit.span.end) === r.edit.newText;
+  return { ok: true, label: catalogueText('P707', { point }), edits: same ? [] : r.edits };
 }
 
 /** Every diagnostic of the document, points solved (sorted by position, then code). */

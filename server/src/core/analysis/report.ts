@@ -34,6 +34,15 @@ export interface ReportOptions {
   samples?: number;
   /** Stop the validity search after this many milliseconds (default: no limit); what was found is kept. */
   validityBudgetMs?: number;
+  /**
+   * Work budget of the nonlinear simulations, in integrator step attempts (accepted plus rejected) counted
+   * by the core over the step responses and the validity search (default: no limit). A step response gets
+   * what is left, at most; a validity evaluation is not started once the budget is spent. What was cut is
+   * listed in `skipped`. Deterministic: the same model and budget give the same report on any machine.
+   */
+  workBudget?: number;
+  /** A quick report: no validity search (the `--quick` of `poise report`); listed in `skipped`. */
+  quick?: boolean;
 }
 
 export interface ValueRow {
@@ -81,7 +90,7 @@ export interface ValidityLimit {
   step: number;
   percent: number;
   /** What ends the range. */
-  limitedBy: 'tolerance' | 'domain' | 'search limit' | 'nothing valid' | 'time budget';
+  limitedBy: 'tolerance' | 'domain' | 'search limit' | 'nothing valid' | 'time budget' | 'work budget';
   /** Smallest step found invalid (null when none was). */
   firstInvalid: number | null;
   /** Message of the smallest step that left the domain, if any. */
@@ -138,6 +147,10 @@ export interface ReportData extends LinearSignals {
   steps: StepReport[];
   validity: ValidityReport[] | null;
   cautions: string[];
+  /** Sections left out or cut short (quick report, work budget), one sentence each; empty when complete. */
+  skipped: string[];
+  /** Integrator step attempts spent on the nonlinear simulations (the unit of `workBudget`). */
+  work: number;
   /** Wall-clock milliseconds of each stage (for information; varies run to run). */
   timingsMs: Record<string, number>;
 }
@@ -166,7 +179,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     schema: 'poise-report/1', title: opts.title ?? `Point ${point}`, point, timeUnit: timeUnitLabel(a.lowered.timeUnit), digest: a.pointBlock(point) ? a.digest(point) : '',
     ok: false, problems: [], values: [], states: [], inputs: [], outputs: [], stateUnits: [], inputUnits: [], outputUnits: [], outputsAreStates: false,
     matrices: null, stability: null, eigenvalues: [], modes: [], dcGain: null, transfer: [], controllability: null, observability: null,
-    frequency: null, horizon: null, tolerance, steps: [], validity: null, cautions: CAUTIONS.slice(), timingsMs,
+    frequency: null, horizon: null, tolerance, steps: [], validity: null, cautions: CAUTIONS.slice(), skipped: [], work: 0, timingsMs,
   };
   const t0 = now();
   if (!a.pointBlock(point)) {
@@ -231,6 +244,14 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   const opValue = (j: number) => declaredValue(a.lowered.slots[lin.inputSlots[j]], sol.values[lin.inputSlots[j]]);
   const outputSeries = (r: ReturnType<Simulator['step']>): number[][] => (sys.outputsAreStates ? r.states : r.outputs);
 
+  // the work budget, counted in integrator step attempts
+  const budgetWork = opts.workBudget !== undefined && opts.workBudget >= 0 ? opts.workBudget : Infinity;
+  let work = 0;
+  const workLeft = (): number => Math.max(0, budgetWork - work);
+  const spend = (r: ReturnType<Simulator['step']>): void => {
+    work += r.stats.steps + r.stats.rejected;
+    data.work = work;
+  };
   for (let j = 0; j < m; j++) {
     const op = opValue(j);
     const basis = op !== 0 ? Math.abs(op) : 1;
@@ -241,7 +262,12 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     du[j] = step;
     const stateScale = maxAbsCols(lr.x, n).map((v) => v * Math.abs(step));
     // rtol 1e-5: a global error of about 1e-4 of the change (measured), far below what a plot shows
-    const r = sim.step({ du, horizon: T, times, stateScale, rtol: 1e-5 });
+    const left = workLeft();
+    const r = left < 1 ? sim.step({ du, horizon: T, times, stateScale, rtol: 1e-5, maxSteps: 1 }) : sim.step({ du, horizon: T, times, stateScale, rtol: 1e-5, maxSteps: Math.min(20000, left) });
+    spend(r);
+    if (r.status !== 'ok' && left < 20000 && r.stats.steps + r.stats.rejected >= Math.min(20000, left)) {
+      data.skipped.push(`The nonlinear step response of ${sys.inputs[j]} stopped at the work budget (${work} integrator steps spent).`);
+    }
     const ys = outputSeries(r);
     const outs: StepOutput[] = [];
     let worst: number | null = null;
@@ -267,10 +293,14 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
   }
   timingsMs.steps = now() - t2;
 
-  if (opts.validity !== false) {
+  if (opts.quick && opts.validity !== false && m > 0) {
+    data.skipped.push('Validity range: not computed (quick report); run the report without --quick for the search, about twenty nonlinear simulations per input.');
+  }
+  if (opts.validity !== false && !opts.quick) {
     const t3 = now();
     const budget = opts.validityBudgetMs ?? Infinity;
     let outOfTime = false;
+    let outOfWork = false;
     const vs = Math.min(samples, 121);
     const vtimes = Array.from({ length: vs }, (_, k) => (T * k) / (vs - 1));
     data.validity = [];
@@ -297,10 +327,15 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
           outOfTime = true;
           return { step: s, error: null, status: 'failed', message: 'not computed (time budget)' };
         }
+        if (workLeft() < 1) {
+          outOfWork = true;
+          return { step: s, error: null, status: 'failed', message: 'not computed (work budget)' };
+        }
         const du = new Float64Array(m);
         du[j] = s;
         // rtol 3e-5: a global error of about 4e-4 of the change, small against the tolerance
-        const r = sim.step({ du, horizon: T, times: vtimes, stateScale: xScale.map((v) => v * Math.abs(s)), rtol: 3e-5 });
+        const r = sim.step({ du, horizon: T, times: vtimes, stateScale: xScale.map((v) => v * Math.abs(s)), rtol: 3e-5, maxSteps: Math.min(20000, workLeft()) });
+        spend(r);
         let error: number | null = null;
         if (r.status === 'ok') {
           const ys = outputSeries(r);
@@ -388,6 +423,7 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
         const inv = firstInvalid !== null ? cache.get(sign * firstInvalid) : undefined;
         let limitedBy: ValidityLimit['limitedBy'];
         if (outOfTime && (lo === 0 || firstInvalid === null || firstInvalid / lo > 1.04)) limitedBy = 'time budget';
+        else if (outOfWork && (lo === 0 || firstInvalid === null || firstInvalid / lo > 1.04)) limitedBy = 'work budget';
         else if (lo === 0) limitedBy = 'nothing valid';
         else if (firstInvalid === null) limitedBy = 'search limit';
         else limitedBy = inv && inv.status === 'domain' ? 'domain' : 'tolerance';
@@ -396,6 +432,10 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
       rep.up = search(1);
       rep.down = search(-1);
       rep.samples = [...cache.values()].map(({ step, error, status }) => ({ step, error, status })).sort((x, y) => x.step - y.step);
+      if (outOfWork && !outOfTime) {
+        rep.note = rep.samples.length ? 'The search stopped at its work budget: the range is at least as wide as shown.' : 'Not computed: the work budget ran out.';
+        data.skipped.push(`Validity range of ${sys.inputs[j]}: ${rep.samples.length ? 'cut short' : 'not computed'} (work budget of ${budgetWork} integrator steps).`);
+      }
       if (outOfTime) rep.note = rep.samples.length ? 'The search stopped at its time budget: the range is at least as wide as shown (run `poise report` for the full search).' : 'Not computed: the time budget ran out (run `poise report` for the full search).';
       data.validity.push(rep);
     }

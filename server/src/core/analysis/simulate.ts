@@ -75,6 +75,10 @@ export class Simulator {
   private readonly dx: Float64Array;
   /** Natural magnitude of each unknown: the size that balances the terms of its equations at the point. */
   private readonly natural: Float64Array;
+  /** Size of the terms of each equation at the point (scales the residual in the damped Newton iteration). */
+  private readonly eqScale: Float64Array;
+  private readonly zStart: Float64Array;
+  private readonly zTrial: Float64Array;
   /** Jacobian entries that belong to M (unknown columns) and to F_X (state columns). */
   private readonly mEnt: Int32Array;
   private readonly xEnt: Int32Array;
@@ -117,7 +121,11 @@ export class Simulator {
     this.xEnt = Int32Array.from(xEnt);
     this.xCols = Array.from({ length: this.n }, () => [] as number[]);
     for (const k of xEnt) this.xCols[this.stateIdx[this.cm.cols[k]]].push(k);
-    this.natural = naturalScales(this.cm, this.base, this.colOf, this.N, unknowns.map((id) => lm.slots[id].scale));
+    const scales = naturalScales(this.cm, this.base, this.colOf, this.N, unknowns.map((id) => lm.slots[id].scale));
+    this.natural = scales.natural;
+    this.eqScale = scales.equation;
+    this.zStart = new Float64Array(this.N);
+    this.zTrial = new Float64Array(this.N);
     // the point itself: solve once (refines the point solver's result) and record the drift
     this.f0 = new Float64Array(this.n);
     this.z0 = new Float64Array(this.N);
@@ -135,24 +143,37 @@ export class Simulator {
   }
 
   /**
-   * Newton on F(w, X, z, u) = 0 for the unknowns in v (states and inputs as set), starting from the values
-   * in v. Reuses the last factorisation (chord iteration) and refactors when the corrections stop
-   * shrinking fast; stops at a relative correction of 1e-13 or at the round-off floor. False on failure.
+   * Solves F(w, X, z, u) = 0 for the unknowns in v (states and inputs as set), starting from the values in
+   * v: first the fast chord iteration, then, when that fails, the damped Newton iteration from the same
+   * start. False on failure; `badValues` is set only for a real domain failure (the equations are not
+   * finite at the start itself, or every damped step leaves the domain).
    */
   private solve(v: Float64Array): boolean {
-    const { N, F, dx, cm, unknowns } = this;
+    const { N, unknowns } = this;
     if (N === 0) {
-      cm.residual(v, F);
-      return allFinite(F);
+      this.cm.residual(v, this.F);
+      if (allFinite(this.F)) return true;
+      this.badValues = Float64Array.from(v);
+      return false;
     }
+    const start = this.zStart;
+    for (let k = 0; k < N; k++) start[k] = v[unknowns[k]];
+    if (this.solveChord(v)) return true;
+    for (let k = 0; k < N; k++) v[unknowns[k]] = start[k];
+    return this.solveDamped(v);
+  }
+
+  /**
+   * Chord iteration: reuses the last factorisation and refactors when the corrections stop shrinking fast;
+   * stops at a relative correction of 1e-13 or at the round-off floor. False when it does not converge.
+   */
+  private solveChord(v: Float64Array): boolean {
+    const { N, F, dx, cm, unknowns } = this;
     let prev = Infinity;
     let fresh = false;
     for (let it = 0; it < 30; it++) {
       cm.residual(v, F);
-      if (!allFinite(F)) {
-        this.badValues = Float64Array.from(v);
-        return false;
-      }
+      if (!allFinite(F)) return false;
       if (!this.lu) {
         if (!this.factor(v)) return false;
         fresh = true;
@@ -171,10 +192,7 @@ export class Simulator {
         v[id] += step[k];
       }
       this.newtonCount++;
-      if (!Number.isFinite(conv)) {
-        this.badValues = Float64Array.from(v);
-        return false;
-      }
+      if (!Number.isFinite(conv)) return false;
       if (tight) return true;
       if (it >= 1 && conv >= 0.25 * prev) {
         if (fresh) return conv <= 1e-9; // round-off floor reached (or no convergence)
@@ -182,6 +200,85 @@ export class Simulator {
         fresh = true;
       }
       prev = conv;
+    }
+    return false;
+  }
+
+  /**
+   * Damped Newton in scaled variables (Deuflhard, "Newton Methods for Nonlinear Problems", Springer 2004,
+   * Sect. 3.1; Dennis & Schnabel, "Numerical Methods for Unconstrained Optimization and Nonlinear
+   * Equations", SIAM 1996, Sect. 6.3): a fresh Jacobian at every iterate, the Newton correction limited to
+   * a few natural sizes of each unknown (so a stiff exponential cannot jump by many of its own scales in
+   * one step), then backtracking on the equation-scaled residual ‖F_i/r_i‖² (Armijo's sufficient decrease,
+   * halving the step; a trial outside the domain halves it too). A real domain failure is recorded only
+   * when the start itself is not finite or no damped step stays finite.
+   */
+  private solveDamped(v: Float64Array): boolean {
+    const { N, F, cm, unknowns, eqScale, natural } = this;
+    const trial = this.zTrial;
+    const merit = (): number => {
+      let s = 0;
+      for (let i = 0; i < N; i++) s += (F[i] / eqScale[i]) ** 2;
+      return s;
+    };
+    cm.residual(v, F);
+    if (!allFinite(F)) {
+      this.badValues = Float64Array.from(v);
+      return false;
+    }
+    let phi = merit();
+    let allNonFinite = true;
+    for (let it = 0; it < 100; it++) {
+      if (!this.factor(v)) return false;
+      for (let k = 0; k < N; k++) this.dx[k] = -F[k];
+      const step = this.lu!.solve(this.dx);
+      // limit the correction to LIMIT natural sizes of each unknown (scaled step limiting)
+      let lim = 1;
+      let conv = 0;
+      let tight = true;
+      for (let k = 0; k < N; k++) {
+        const a = Math.abs(step[k]);
+        const vk = Math.abs(v[unknowns[k]]);
+        if (!Number.isFinite(a)) return false;
+        const c = a / (vk + natural[k]);
+        if (c > conv) conv = c;
+        if (!(a <= 1e-13 * vk + 1e-14 * natural[k])) tight = false;
+        const allowed = DAMPED_LIMIT * (vk + natural[k]);
+        if (a > allowed) lim = Math.min(lim, allowed / a);
+      }
+      for (let k = 0; k < N; k++) trial[k] = v[unknowns[k]];
+      if (tight) {
+        for (let k = 0; k < N; k++) v[unknowns[k]] += step[k];
+        this.newtonCount++;
+        cm.residual(v, F);
+        return allFinite(F);
+      }
+      let lambda = lim;
+      let accepted = false;
+      for (let h = 0; h < 40; h++) {
+        for (let k = 0; k < N; k++) v[unknowns[k]] = trial[k] + lambda * step[k];
+        this.newtonCount++;
+        cm.residual(v, F);
+        if (allFinite(F)) {
+          allNonFinite = false;
+          const phiNew = merit();
+          if (phiNew <= (1 - 2e-4 * lambda) * phi || (lambda === 1 && conv <= 1e-9)) {
+            phi = phiNew;
+            accepted = true;
+            break;
+          }
+        }
+        lambda *= 0.5;
+      }
+      if (!accepted) {
+        if (allNonFinite) this.badValues = Float64Array.from(v);
+        for (let k = 0; k < N; k++) v[unknowns[k]] = trial[k];
+        return false;
+      }
+      if (lambda === 1 && conv <= 1e-9) {
+        // full steps at the round-off floor: finish with the chord iteration's tight test
+        return this.solveChord(v);
+      }
     }
     return false;
   }
@@ -308,11 +405,14 @@ export class Simulator {
     if (this.problem) return empty('failed', `The nonlinear model cannot be simulated: ${this.problem}.`);
     if (o.du.length !== m) throw new RangeError(`expected ${m} input steps, got ${o.du.length}`);
     const v = this.values;
-    // start from the solved point
-    v.set(this.base);
-    for (let k = 0; k < this.N; k++) v[this.unknowns[k]] = this.z0[k];
-    this.setInputs(v, o.du);
     this.badValues = undefined;
+    // the algebraic unknowns just after the input step (by continuation in the step when needed)
+    if (!this.startAfterStep(v, o.du)) {
+      const r = this.badValues ? empty('domain', this.domainMessage(0)) : empty('failed', `The nonlinear integration cannot start: the algebraic equations have no solution found just after the step (t = 0 ${timeUnitLabel(lm.timeUnit)}).`);
+      return { ...r, stats: { ...stats, newton: this.newtonCount, factorizations: this.factorCount } };
+    }
+    const zAfter = new Float64Array(this.N);
+    for (let k = 0; k < this.N; k++) zAfter[k] = v[this.unknowns[k]];
     let tGood = 0;
 
     const f = (t: number, xi: Float64Array, dxi: Float64Array): boolean => {
@@ -364,6 +464,8 @@ export class Simulator {
     stats.fEvals = sol.stats.fEvals;
     stats.jEvals = sol.stats.jEvals;
     const bad = this.badValues;
+    // samples in order, each warm-started from the one before (the first from just after the step)
+    for (let k = 0; k < this.N; k++) v[this.unknowns[k]] = zAfter[k];
     for (let k = 0; k < sol.t.length; k++) {
       if (!record(sol.x[k], states, outputs)) break;
       tOut.push(sol.t[k] / ts);
@@ -373,13 +475,42 @@ export class Simulator {
     stats.factorizations = this.factorCount;
     const reached = tOut.length ? tOut[tOut.length - 1] : 0;
     if (sol.status === 'ok' && tOut.length === tModel.length) return { status: 'ok', t: tOut, states, outputs, reached, stats };
-    if (sol.status === 'domain' || this.badValues) {
+    if (this.badValues) {
       return { status: 'domain', message: this.domainMessage(tGood / ts), t: tOut, states, outputs, reached, stats };
     }
     return {
       status: 'failed', t: tOut, states, outputs, reached, stats,
       message: `The nonlinear integration stopped at t = ${formatShort(reached)} ${timeUnitLabel(lm.timeUnit)}: ${sol.message ?? 'the algebraic equations could not be solved'}.`,
     };
+  }
+
+  /**
+   * Sets the inputs to the point's values plus du and solves for the unknowns at the point's states: from
+   * the point's solution directly, else by continuation in the step (du split in 2, 4, … 64 equal parts,
+   * each solved from the last). False when no part can be solved.
+   */
+  private startAfterStep(v: Float64Array, du: ArrayLike<number>): boolean {
+    const { N, unknowns } = this;
+    const fromPoint = (): void => {
+      v.set(this.base);
+      for (let k = 0; k < N; k++) v[unknowns[k]] = this.z0[k];
+    };
+    fromPoint();
+    this.setInputs(v, du);
+    if (this.solve(v)) return true;
+    const part = new Float64Array(du.length);
+    for (let parts = 2; parts <= 64; parts *= 2) {
+      fromPoint();
+      this.badValues = undefined;
+      let ok = true;
+      for (let q = 1; q <= parts && ok; q++) {
+        for (let j = 0; j < du.length; j++) part[j] = (du[j] * q) / parts;
+        this.setInputs(v, part);
+        ok = this.solve(v);
+      }
+      if (ok) return true;
+    }
+    return false;
   }
 
   /**
@@ -418,9 +549,11 @@ export class Simulator {
 /**
  * For each unknown k: the smallest r_i/|M_ik| over the equations i it appears in, where r_i is the sum of
  * |∂F_i/∂v_j·v_j| over the equation's variables (the size of its terms at the point). Falls back on the
- * unit scale of the slot.
+ * unit scale of the slot. Also r_i itself for each equation (1 where it is zero).
  */
-function naturalScales(cm: CompiledModel, v: Float64Array, colOf: Int32Array, N: number, unitScale: number[]): Float64Array {
+function naturalScales(
+  cm: CompiledModel, v: Float64Array, colOf: Int32Array, N: number, unitScale: number[],
+): { natural: Float64Array; equation: Float64Array } {
   const J = new Float64Array(cm.nodes.length);
   cm.jacobian(v, J);
   const r = new Float64Array(cm.nEq);
@@ -437,8 +570,13 @@ function naturalScales(cm: CompiledModel, v: Float64Array, colOf: Int32Array, N:
     if (a > 0 && ri > 0 && Number.isFinite(ri / a)) out[c] = Math.min(out[c], ri / a);
   }
   for (let k = 0; k < N; k++) if (!(out[k] < Infinity) || !(out[k] > 0)) out[k] = Math.abs(unitScale[k]) || 1;
-  return out;
+  const equation = new Float64Array(cm.nEq);
+  for (let i = 0; i < cm.nEq; i++) equation[i] = r[i] > 0 && Number.isFinite(r[i]) ? r[i] : 1;
+  return { natural: out, equation };
 }
+
+/** Largest damped Newton correction, in natural sizes (|v| + natural scale) of each unknown. */
+const DAMPED_LIMIT = 4;
 
 function allFinite(a: Float64Array): boolean {
   for (let i = 0; i < a.length; i++) if (!Number.isFinite(a[i])) return false;

@@ -10,6 +10,7 @@ import type { IndexReductionSummary } from '../model/indexReduction';
 import { eigenvalues, eigenvaluesSparse, sortEigen } from '../numeric/eigen';
 import { unitSuffix, unitText } from '../semantics/units';
 import { maxOf, pushAll } from '../arrays';
+import { REPEAT_TOL } from '../analysis/dynamics/types';
 
 export interface LinearJson {
   point: string;
@@ -115,8 +116,34 @@ export function formatMatrix(name: string, a: Float64Array, r: number, c: number
   return lines.join('\n');
 }
 
+/**
+ * Eigenvalues as a list; a repeated eigenvalue (equal within REPEAT_TOL of the spectral radius, common
+ * practice for eigenvalues computed by QR) once, with its algebraic multiplicity: "-0.5 (×2)".
+ */
 export function formatEigen(eig: { re: number; im: number }[], digits = 5): string {
-  return eig.map((e) => (e.im === 0 ? formatNumber(e.re, digits) : `${formatNumber(e.re, digits)} ${e.im < 0 ? '-' : '+'} ${formatNumber(Math.abs(e.im), digits)}i`)).join(', ');
+  const rho = eig.reduce((m, e) => Math.max(m, Math.hypot(e.re, e.im)), 0);
+  const groups: { e: { re: number; im: number }; count: number }[] = [];
+  for (const e of eig) {
+    const g = groups.find((x) => Math.hypot(x.e.re - e.re, x.e.im - e.im) <= REPEAT_TOL * rho && (x.e.im > 0) === (e.im > 0) && (x.e.im < 0) === (e.im < 0));
+    if (g) g.count++;
+    else groups.push({ e, count: 1 });
+  }
+  const one = (e: { re: number; im: number }) => (e.im === 0 ? formatNumber(e.re, digits) : `${formatNumber(e.re, digits)} ${e.im < 0 ? '-' : '+'} ${formatNumber(Math.abs(e.im), digits)}i`);
+  return groups.map((g) => `${one(g.e)}${g.count > 1 ? ` (×${g.count})` : ''}`).join(', ');
+}
+
+/** A direction in state space in Poise's notation: "0.707·h1 − 0.707·h2" (three significant digits). */
+export function directionText(dir: { state: string; weight: number }[]): string {
+  return dir
+    .map((t, i) => `${i === 0 ? (t.weight < 0 ? '−' : '') : t.weight < 0 ? ' − ' : ' + '}${formatNumber(Math.abs(t.weight), 3)}·${t.state}`)
+    .join('');
+}
+
+/** "", " (×2)" or " (×2, 1 eigenvector)" for a mode's algebraic and geometric multiplicity. */
+export function multiplicityText(md: { algebraicMultiplicity: number; geometricMultiplicity: number }): string {
+  if (md.algebraicMultiplicity <= 1) return '';
+  const g = md.geometricMultiplicity < md.algebraicMultiplicity ? `, ${md.geometricMultiplicity} eigenvector${md.geometricMultiplicity === 1 ? '' : 's'}` : '';
+  return ` (×${md.algebraicMultiplicity}${g})`;
 }
 
 export function formatLinearText(a: Analysis, lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[], digits = 5): string {

@@ -11,6 +11,7 @@ import type { ReportData, StepReport, ValidityLimit, ValidityReport } from '../a
 import { factorsOf, transferLines } from '../analysis/transferText';
 import { chart, esc, htmlPage, legend, linRange, num, newPage, r1, type AxisSpec, type PageContext, type Series } from './svgCharts';
 import { unitSuffix } from '../semantics/units';
+import { directionText, multiplicityText } from './format';
 import { maxOf, minOf, pushAll } from '../arrays';
 
 export interface RenderOptions {
@@ -112,7 +113,7 @@ function sectionModes(page: PageContext, d: ReportData): string {
   const st = d.stability!;
   const body = d.modes
     .map((m) => {
-      const lam = m.multiplicity === 2 ? `${num(m.re)} ± ${num(m.im)}i` : num(m.re);
+      const lam = `${m.im > 0 ? `${num(m.re)} ± ${num(m.im)}i` : num(m.re)}${esc(multiplicityText(m))}`;
       const part = m.participation
         .slice(0, 3)
         .filter((p, i) => i === 0 || p.factor >= 0.05)
@@ -217,7 +218,7 @@ function sectionTransfer(d: ReportData): string {
     .join('');
   const c = d.controllability!;
   const o = d.observability!;
-  const failing = (r: typeof c, word: string) => (r.failing.length ? `${word}: ${r.failing.map((x) => `mode ${x.mode} (λ = ${complexHtml({ re: x.re, im: x.im })})`).join(', ')}.` : `every mode is ${word.replace(/^un/, '')}.`);
+  const failing = (r: typeof c, word: string) => (r.failing.length ? `${word}: ${r.failing.map((x) => `mode ${x.mode} (λ = ${complexHtml({ re: x.re, im: x.im })}${x.directions.length ? `; direction ${x.directions.map((v) => esc(directionText(v))).join('; ')}` : ''})`).join(', ')}.` : `every mode is ${word.replace(/^un/, '')}.`);
   return `<section id="transfer"><h2>Transfer functions</h2>
 <p class="note">Each pair from its controllable and observable part (orthogonal staircase reduction); poles are that part's eigenvalues, zeros the transmission zeros from the system matrix [[A, b], [c, d]] reduced to an ordinary eigenproblem; the gain K from the exact response at a test point. <i>s</i> in 1/${esc(t)}. ${d.outputsAreStates ? 'The model declares no outputs, so the state components serve as outputs.' : ''}</p>
 ${d.inputs.length ? items || '<p>No pairs.</p>' : '<p>The model has no inputs.</p>'}
@@ -314,8 +315,8 @@ ${d.inputs.length ? blocks : '<p>The model has no inputs.</p>'}</section>`;
 function limText(l: ValidityLimit | null, v: ValidityReport, sign: string): string {
   if (!l) return '—';
   if (l.limitedBy === 'nothing valid') return '<span class="no">none found</span>';
-  if (l.limitedBy === 'time budget' && l.step === 0) return '<span class="muted">not computed</span>';
-  return `${sign}${num(l.step, 3)}${unitTxt(v.unit)} <span class="muted">(${num(l.percent, 3)} %)</span>${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' ? ' or more' : ''}`;
+  if ((l.limitedBy === 'time budget' || l.limitedBy === 'work budget') && l.step === 0) return '<span class="muted">not computed</span>';
+  return `${sign}${num(l.step, 3)}${unitTxt(v.unit)} <span class="muted">(${num(l.percent, 3)} %)</span>${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' || l.limitedBy === 'work budget' ? ' or more' : ''}`;
 }
 
 const LIMIT_WORDS: Record<ValidityLimit['limitedBy'], string> = {
@@ -324,6 +325,7 @@ const LIMIT_WORDS: Record<ValidityLimit['limitedBy'], string> = {
   'search limit': 'none up to 1000 %',
   'nothing valid': 'tolerance at every size tried',
   'time budget': 'time budget (range at least this wide)',
+  'work budget': 'work budget (range at least this wide)',
 };
 
 function sectionValidity(page: PageContext, d: ReportData): string {
@@ -384,6 +386,7 @@ export function renderReportHtml(data: ReportData, opts: RenderOptions = {}): st
     sections.push(`<section><h2>No report</h2><p>The report could not be made for this point:</p><ul class="problems">${data.problems.map((p) => `<li>${esc(p)}</li>`).join('')}</ul></section>`);
   } else {
     sections.push(sectionPoint(data), sectionModes(page, data), sectionGains(data), sectionTransfer(data), sectionBode(page, data), sectionSteps(page, data), sectionValidity(page, data));
+    if (data.skipped?.length) sections.push(`<section id="skipped"><h2>Left out or cut short</h2><ul>${data.skipped.map((x) => `<li>${esc(x)}</li>`).join('')}</ul></section>`);
   }
   const nav = data.ok
     ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}`

@@ -1,10 +1,10 @@
 /** The dynamics report as readable text (transfer functions in the notation of analysis/transferText.ts). */
 import { maxOf, pushAll } from '../arrays';
 import { formatNumber } from '../algebra/expr';
-import type { Complex } from '../analysis/dynamics';
+import type { Complex, RankTest } from '../analysis/dynamics';
 import type { ReportData, ValidityLimit } from '../analysis/report';
 import { transferLines } from '../analysis/transferText';
-import { indexReductionLines } from './format';
+import { directionText, indexReductionLines, multiplicityText } from './format';
 
 const f = (v: number | null | undefined, d = 4): string => (v === null || v === undefined ? '—' : formatNumber(v, d));
 const u = (unit: string) => (unit ? ` ${unit}` : '');
@@ -12,6 +12,11 @@ const u = (unit: string) => (unit ? ` ${unit}` : '');
 export function complexText(c: Complex, d = 4): string {
   if (c.im === 0) return f(c.re, d);
   return `${f(c.re, d)} ${c.im < 0 ? '-' : '+'} ${f(Math.abs(c.im), d)}i`;
+}
+
+/** "mode 1 (direction 0.707·h1 − 0.707·h2)": a failing mode of a rank test with the directions it loses. */
+function failingText(x: RankTest['failing'][number]): string {
+  return x.directions.length ? `mode ${x.mode} (direction${x.directions.length > 1 ? 's' : ''} ${x.directions.map(directionText).join('; ')})` : `mode ${x.mode}`;
 }
 
 export function formatReportText(r: ReportData, d = 4): string {
@@ -29,7 +34,7 @@ export function formatReportText(r: ReportData, d = 4): string {
   out.push('', `Stability: ${r.stability!.verdict}. ${r.stability!.reason}`);
   out.push('', `Modes (eigenvalues in 1/${t}):`);
   for (const md of r.modes) {
-    const lam = md.multiplicity === 2 ? `${f(md.re, d)} ± ${f(md.im, d)}i` : f(md.re, d);
+    const lam = `${md.im > 0 ? `${f(md.re, d)} ± ${f(md.im, d)}i` : f(md.re, d)}${multiplicityText(md)}`;
     let desc = md.description;
     if (md.kind === 'real') desc += `, τ = ${f(md.timeConstant, d)} ${t}`;
     if (md.kind === 'oscillatory' || md.kind === 'undamped') desc += `, ωn = ${f(md.naturalFrequency, d)} rad/${t}, period ${f(md.period, d)} ${t}`;
@@ -39,8 +44,8 @@ export function formatReportText(r: ReportData, d = 4): string {
   if (!r.modes.length) out.push('  (none: the model has no states)');
   const ctl = r.controllability!;
   const obs = r.observability!;
-  out.push('', `Controllability (PBH): rank ${ctl.rank} of ${ctl.n}${r.inputs.length ? '' : ' (the model has no inputs)'}${ctl.failing.length ? `; uncontrollable: ${ctl.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}`);
-  out.push(`Observability (PBH): rank ${obs.rank} of ${obs.n}${obs.failing.length ? `; unobservable: ${obs.failing.map((x) => `mode ${x.mode}`).join(', ')}` : ''}${r.outputsAreStates ? ' (no outputs declared: the states are the outputs)' : ''}`);
+  out.push('', `Controllability (PBH): rank ${ctl.rank} of ${ctl.n}${r.inputs.length ? '' : ' (the model has no inputs)'}${ctl.failing.length ? `; uncontrollable: ${ctl.failing.map(failingText).join(', ')}` : ''}`);
+  out.push(`Observability (PBH): rank ${obs.rank} of ${obs.n}${obs.failing.length ? `; unobservable: ${obs.failing.map(failingText).join(', ')}` : ''}${r.outputsAreStates ? ' (no outputs declared: the states are the outputs)' : ''}`);
   const g = r.dcGain!;
   out.push('', `Steady-state gains (output change per input change${g.method === 'per-pair' ? '; A is singular, so pairs through an integrator have no steady state' : ''}):`);
   for (let i = 0; i < r.outputs.length; i++) {
@@ -85,7 +90,7 @@ export function formatReportText(r: ReportData, d = 4): string {
         continue;
       }
       const lim = (l: ValidityLimit | null, sign: string) =>
-        !l ? '—' : l.limitedBy === 'nothing valid' ? `${sign}: no step found valid` : `${sign}${f(l.step, 3)}${u(v.unit)} (${f(l.percent, 3)} %)${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' ? ' or more' : l.limitedBy === 'domain' ? ', then out of the domain' : ''}`;
+        !l ? '—' : l.limitedBy === 'nothing valid' ? `${sign}: no step found valid` : `${sign}${f(l.step, 3)}${u(v.unit)} (${f(l.percent, 3)} %)${l.limitedBy === 'search limit' || l.limitedBy === 'time budget' || l.limitedBy === 'work budget' ? ' or more' : l.limitedBy === 'domain' ? ', then out of the domain' : ''}`;
       const basis = v.percentBasis === 'unit' ? `% of one unit; the operating value is 0${u(v.unit)}` : `% of the operating value ${f(v.operatingValue, 4)}${u(v.unit)}`;
       out.push(`  ${v.input}: up to ${lim(v.up, '+')}, down to ${lim(v.down, '-')}  (${basis})`);
       const dm = v.up?.domainMessage ?? v.down?.domainMessage;
@@ -93,6 +98,7 @@ export function formatReportText(r: ReportData, d = 4): string {
       if (v.note) out.push(`      ${v.note}`);
     }
   }
+  if (r.skipped?.length) pushAll(out, ['', 'Left out or cut short:', ...r.skipped.map((x) => `  - ${x}`)]);
   pushAll(out, ['', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`)]);
   return out.join('\n');
 }

@@ -14,7 +14,7 @@ import { someExpr } from '../syntax/walk';
 import type { ModelSymbol } from '../semantics/binder';
 import * as E from '../algebra/expr';
 import { AXIS_TOL, analyzeDynamics, eigenFigures, stabilityOf, type Dynamics } from '../analysis/dynamics';
-import { formatEigen, linearEigen } from '../present/format';
+import { directionText, formatEigen, linearEigen } from '../present/format';
 import { declaredValue } from '../solve/linearizer';
 import { symbolicCoefficient } from '../analysis/symbolic';
 import type { Slot } from '../model/model';
@@ -232,6 +232,12 @@ function pointText(a: Analysis, name: string, digits: number): string {
   if (dyn) {
     const v = dyn.stability.verdict;
     out.push(`**${v === 'stable' ? 'Stable' : v === 'marginal' ? 'Marginally stable' : 'Unstable'}**: ${dyn.stability.reason}`);
+    for (const md of dyn.modes.filter((x) => x.algebraicMultiplicity > 1)) {
+      out.push('', `Repeated eigenvalue ${md.im > 0 ? `${fmt(md.re, digits)} ± ${fmt(md.im, digits)}i` : fmt(md.re, digits)}: algebraic multiplicity ${md.algebraicMultiplicity}, ${md.geometricMultiplicity} independent eigenvector${md.geometricMultiplicity === 1 ? '' : 's'}.`);
+    }
+    for (const [test, word] of [[dyn.controllability, 'Uncontrollable'], [dyn.observability, 'Unobservable']] as const) {
+      for (const x of test.failing) for (const dir of x.directions) out.push('', `${word} direction (mode ${x.mode}): ${escapeMarkdown(directionText(dir))}`);
+    }
   } else {
     const big = maxOf(eig.map((e) => Math.hypot(e.re, e.im)), 0);
     const classes = eig.map((e) => stabilityOf(e.re, AXIS_TOL * big));
@@ -243,7 +249,7 @@ function pointText(a: Analysis, name: string, digits: number): string {
   }
   // one time constant per real eigenvalue or conjugate pair in the left half-plane
   const tolAxis = AXIS_TOL * maxOf(eig.map((e) => Math.hypot(e.re, e.im)), 0);
-  const taus = eig.filter((e) => e.im >= 0 && e.re < -tolAxis).map((e) => eigenFigures(e, false).timeConstant!);
+  const taus = (dyn ? dyn.modes : eig).filter((e) => e.im >= 0 && e.re < -tolAxis).map((e) => eigenFigures(e, false).timeConstant!);
   if (taus.length) {
     const slow = maxOf(taus);
     const fast = minOf(taus);

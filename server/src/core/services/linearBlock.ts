@@ -52,7 +52,11 @@ export function linearBlockText(a: Analysis, point: string, digits = 4, nl = '\n
   return { ok: true, text: lines.join(nl) };
 }
 
-export type LinearizeEdit = { ok: true; edit: TextEdit; replaced: boolean } | { ok: false; brief: string; message: string };
+/**
+ * `edit` writes the block; `edits` is `edit` followed by the removal of every further block for the same
+ * point (a file can hold two after a paste or a merge: regenerating leaves exactly one). Apply `edits`.
+ */
+export type LinearizeEdit = { ok: true; edit: TextEdit; edits: TextEdit[]; replaced: boolean } | { ok: false; brief: string; message: string };
 
 /** The existing generated block for a point, if any (the first one). */
 export function linearBlockFor(a: Analysis, point: string): A.LinearBlock | undefined {
@@ -72,10 +76,19 @@ export function linearizeEdit(a: Analysis, point: string, digits = 4): Linearize
   const nl = eol(a.text);
   const t = linearBlockText(a, point, digits, nl);
   if (!t.ok) return t;
-  const existing = linearBlockFor(a, point);
+  const all = a.bound.linears.filter((l) => l.name.name === point);
+  const existing = all[0];
   if (existing) {
     const span = blockLinesSpan(a, existing);
-    return { ok: true, edit: { span, newText: t.text }, replaced: true };
+    const edit = { span, newText: t.text };
+    // the duplicates go, each with the line breaks before it (the blank line that separated it)
+    const removals = all.slice(1).map((lb) => {
+      const end = blockLinesSpan(a, lb).end;
+      let start = lb.span.start;
+      while (start > span.end && /[\r\n]/.test(a.text[start - 1])) start--;
+      return { span: { start, end }, newText: '' };
+    });
+    return { ok: true, edit, edits: [edit, ...removals], replaced: true };
   }
   const block = a.pointBlock(point)!;
   const at = blockLinesSpan(a, block).end;
@@ -83,7 +96,8 @@ export function linearizeEdit(a: Analysis, point: string, digits = 4): Linearize
   const rest = a.text.slice(at);
   const nextLine = rest.startsWith(nl) ? rest.slice(nl.length).split(/\r?\n/, 1)[0] : '';
   const after = nextLine.trim() ? nl : '';
-  return { ok: true, edit: { span: { start: at, end: at }, newText: nl + nl + t.text + after }, replaced: false };
+  const edit = { span: { start: at, end: at }, newText: nl + nl + t.text + after };
+  return { ok: true, edit, edits: [edit], replaced: false };
 }
 
 /** P601 for every generated block whose digest no longer matches its point (same rule as Analysis.allDiagnostics). */

@@ -47,7 +47,7 @@ export function quickFixes(a: Analysis, diagnostics: readonly DiagnosticRef[], d
       case 'P601': {
         const point = typeof data.point === 'string' ? data.point : undefined;
         const r = point ? linearizeEdit(a, point, digits) : undefined;
-        if (r && r.ok) out.push({ title: catalogueText('P701'), edits: [r.edit], isPreferred: true, diagnostic: d });
+        if (r && r.ok) out.push({ title: catalogueText('P701'), edits: r.edits, isPreferred: true, diagnostic: d });
         break;
       }
     }

@@ -4,7 +4,7 @@ import { RANK_TOL, type Dynamics, type LinearSystem } from './types';
 import { linearSystem, transpose } from './system';
 import { balanceSystem } from './balance';
 import { buildModes, spectrum } from './modes';
-import { pbhDeficiencies, rankTest } from './pbh';
+import { lostDirections, pbhDeficiencies, rankTest } from './pbh';
 import { stepHorizon, verdict } from './stability';
 import { transferFunctions } from './transfer';
 import { dcGains } from './dcGain';
@@ -28,8 +28,10 @@ export function analyzeDynamics(linOrSys: LinearModel | LinearSystem, opts: Dyna
   const modes = buildModes(sys, sp, ctrlDef, obsDef);
 
   const stability = verdict(sys, modes, rho, axisTol, raw);
-  const controllability = rankTest(modes, ctrlDef, n);
-  const observability = rankTest(modes, obsDef, n);
+  // the directions lost, from the unbalanced system (in declared units)
+  const At = transpose(sys.A, n, n);
+  const controllability = rankTest(modes, ctrlDef, n, (md, d) => lostDirections(At, transpose(sys.B, n, sys.m), n, sys.m, md.re, d, sys.states));
+  const observability = rankTest(modes, obsDef, n, (md, d) => lostDirections(sys.A, sys.C, n, sys.p, md.re, d, sys.states));
   const transfer = transferFunctions(sys, bal, rtol, rho, axisTol);
   const dcGain = dcGains(sys, transfer, modes);
   return { system: sys, eigenvalues: sp.eigenvalues, modes, stability, dcGain, transfer, controllability, observability, horizon: stepHorizon(modes, rho, sys.timeUnit) };

@@ -3,14 +3,18 @@
  * natural frequency, damping ratio, participation factors (left and right eigenvectors) and a description.
  */
 import { eigenvalues, eigenvectors } from '../../numeric/eigen';
-import { AXIS_TOL, type Complex, type LinearSystem, type Mode, type ModeKind, type StabilityClass } from './types';
+import { AXIS_TOL, REPEAT_TOL, type Complex, type LinearSystem, type Mode, type ModeKind, type StabilityClass } from './types';
+import { complexRank } from './pbh';
+import { frob } from './system';
 
 /** The spectrum of A: every eigenvalue, one per mode, the spectral radius and the axis tolerance. */
 export interface Spectrum {
   /** Every eigenvalue, dominant first (largest real part first; a complex pair +i then −i). */
   eigenvalues: Complex[];
-  /** One eigenvalue per mode (a complex pair by its +i member), dominant first. */
+  /** One eigenvalue per mode (a complex pair by its +i member), dominant first; a repeated eigenvalue once. */
   modal: Complex[];
+  /** Algebraic multiplicity of each modal eigenvalue (for a pair: of its +i member). */
+  modalCount: number[];
   /** Largest |λ|. */
   rho: number;
   /** |Re λ| at or below this counts as on the imaginary axis (AXIS_TOL·ρ). */
@@ -38,7 +42,26 @@ export function spectrum(sys: LinearSystem): Spectrum {
     eigSorted.push(e);
     if (e.im > 0) eigSorted.push({ re: e.re, im: -e.im });
   }
-  return { eigenvalues: eigSorted, modal: raw, rho, axisTol };
+  // a repeated eigenvalue once, with its algebraic multiplicity (the mean of the copies: a defective
+  // eigenvalue of multiplicity k comes out of QR spread by about ε^(1/k)·‖A‖ around it)
+  const modal: Complex[] = [];
+  const modalCount: number[] = [];
+  const sums: Complex[] = [];
+  const rtol = REPEAT_TOL * rho;
+  for (const e of raw) {
+    const k = modal.findIndex((x) => Math.hypot(x.re - e.re, x.im - e.im) <= rtol && (x.im > 0) === (e.im > 0));
+    if (k < 0) {
+      modal.push({ ...e });
+      modalCount.push(1);
+      sums.push({ ...e });
+    } else {
+      modalCount[k]++;
+      sums[k].re += e.re;
+      sums[k].im += e.im;
+      modal[k] = { re: sums[k].re / modalCount[k], im: sums[k].im / modalCount[k] };
+    }
+  }
+  return { eigenvalues: eigSorted, modal, modalCount, rho, axisTol };
 }
 
 /** Stable, marginal (|Re λ| ≤ tol) or unstable; a real part that is not a number counts as unstable (nothing is known). */
@@ -97,8 +120,18 @@ export function buildModes(sys: LinearSystem, sp: Spectrum, ctrlDef: number[], o
     const onAxis = Math.abs(e.re) <= axisTol;
     const stability: StabilityClass = onAxis ? 'marginal' : e.re > 0 ? 'unstable' : 'stable';
     const kind: ModeKind = pair ? (onAxis ? 'undamped' : 'oscillatory') : onAxis ? 'integrator' : 'real';
-    const { p, method } = participationOf(e);
-    if (pair) participationOf({ re: e.re, im: -e.im }); // consume the conjugate
+    const count = sp.modalCount[k] ?? 1;
+    // a repeated eigenvalue: the participation of all its eigenvectors together
+    const p = new Float64Array(n);
+    let method: Mode['participationMethod'] = 'left-right';
+    for (let c = 0; c < count; c++) {
+      const one = participationOf(e);
+      if (pair) participationOf({ re: e.re, im: -e.im }); // consume the conjugate
+      for (let i = 0; i < n; i++) p[i] += one.p[i] / count;
+      if (one.method === 'right-only') method = 'right-only';
+    }
+    // geometric multiplicity n − rank(λI − A), at the rank tolerance of the PBH test (only when repeated)
+    const geometric = count > 1 ? Math.max(1, n - complexRank(sys.A, n, e, 1e-9 * Math.max(frob(sys.A), 1e-300))) : 1;
     const part = sys.states.map((s, i) => ({ state: s, factor: p[i] })).sort((a, b) => b.factor - a.factor);
     const dominant = part.filter((x, i) => i === 0 || x.factor >= 0.1).slice(0, 4).map((x) => x.state);
     const fig = eigenFigures(e, onAxis);
@@ -111,7 +144,8 @@ export function buildModes(sys: LinearSystem, sp: Spectrum, ctrlDef: number[], o
       default: description = e.re > 0 ? 'growing exponential' : 'decaying exponential';
     }
     return {
-      number: k + 1, kind, re: e.re, im: pair ? e.im : 0, multiplicity: pair ? 2 : 1, stability,
+      number: k + 1, kind, re: e.re, im: pair ? e.im : 0, multiplicity: (pair ? 2 : 1) * count, algebraicMultiplicity: count,
+      geometricMultiplicity: Math.min(count, geometric), stability,
       timeConstant: fig.timeConstant,
       naturalFrequency: fig.naturalFrequency, dampingRatio: zeta, dampedFrequency: pair ? e.im : null, period: pair ? (2 * Math.PI) / e.im : null,
       participation: part, dominant, participationMethod: method,
@@ -119,3 +153,4 @@ export function buildModes(sys: LinearSystem, sp: Spectrum, ctrlDef: number[], o
     };
   });
 }
+

@@ -1,6 +1,7 @@
 /** Controllability and observability by the PBH rank test (SVD ranks, Cholesky certificates of full rank). */
 import { svdValues } from '../../numeric/dense';
-import type { Complex, Mode, RankTest } from './types';
+import { rightSingularVectors } from '../../numeric/nullVectors';
+import type { Complex, Mode, RankTest, StateDirection } from './types';
 import { frob } from './system';
 
 /** Rank of λI − A (complex λ) by SVD of its real embedding. */
@@ -139,16 +140,47 @@ export function pbhDeficiencies(A: Float64Array, B: Float64Array, n: number, m: 
   return out;
 }
 
-/** The rank test of the modes from their PBH deficiencies. */
-export function rankTest(modes: Mode[], def: number[], n: number): RankTest {
+/**
+ * The rank test of the modes from their PBH deficiencies. A mode stands for its algebraic multiplicity of
+ * eigenvalues, but the deficiency at a repeated eigenvalue already counts every direction lost there, so a
+ * real mode loses `deficiency` dimensions and a complex pair twice that. `directions(mode, deficiency)`
+ * names the lost directions (empty when not available).
+ */
+export function rankTest(modes: Mode[], def: number[], n: number, directions: (md: Mode, d: number) => StateDirection[] = () => []): RankTest {
   const failing: RankTest['failing'] = [];
   let lost = 0;
   modes.forEach((md, k) => {
     if (def[k] > 0) {
-      failing.push({ mode: md.number, re: md.re, im: md.im, deficiency: def[k] });
-      lost += def[k] * md.multiplicity;
+      failing.push({ mode: md.number, re: md.re, im: md.im, deficiency: def[k], directions: md.im === 0 ? directions(md, def[k]) : [] });
+      lost += def[k] * (md.im > 0 ? 2 : 1);
     }
   });
   const rank = Math.max(0, n - lost);
   return { rank, n, full: rank === n, failing };
+}
+
+/**
+ * The `count` directions lost at a real eigenvalue λ: the right singular vectors of the smallest singular
+ * values of the (n + k) × n matrix [λI − A; K] (K = Bᵀ with A transposed for controllability: left null
+ * vectors of [λI − A, B]; K = C for observability: right null vectors of [λI − A; C]), as combinations of the
+ * named states. Row-major A (n × n), K (k × n).
+ */
+export function lostDirections(A: Float64Array, K: Float64Array, n: number, k: number, lam: number, count: number, states: string[]): StateDirection[] {
+  const rows = n + k;
+  const M = new Float64Array(rows * n);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) M[i * n + j] = -A[i * n + j];
+    M[i * n + i] += lam;
+  }
+  for (let r = 0; r < k; r++) for (let j = 0; j < n; j++) M[(n + r) * n + j] = K[r * n + j];
+  return rightSingularVectors(M, rows, n)
+    .slice(0, count)
+    .map(({ v }) => {
+      let norm = 0;
+      for (let i = 0; i < n; i++) norm += v[i] * v[i];
+      norm = Math.sqrt(norm) || 1;
+      const terms = states.map((state, i) => ({ state, weight: v[i] / norm })).filter((t) => Math.abs(t.weight) >= 1e-3);
+      const sign = terms.length && terms[0].weight < 0 ? -1 : 1;
+      return terms.map((t) => ({ state: t.state, weight: sign * t.weight + 0 }));
+    });
 }

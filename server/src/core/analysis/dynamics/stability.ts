@@ -23,7 +23,9 @@ export function verdict(sys: LinearSystem, modes: Mode[], rho: number, tol: numb
   if (marginal.length) {
     // repeated eigenvalues on the axis grow like t^k unless A is diagonalisable there
     for (const md of marginal) {
-      const same = raw.filter((e) => Math.hypot(e.re - md.re, e.im - md.im) <= Math.max(tol, 1e-9 * rho));
+      // the mode stands for its repeated copies (algebraic multiplicity); raw eigenvalues as a fallback
+      const near = raw.filter((e) => Math.hypot(e.re - md.re, e.im - md.im) <= Math.max(tol, 1e-9 * rho)).length;
+      const same = { length: Math.max(md.algebraicMultiplicity ?? 1, near) };
       if (same.length > 1) {
         const geo = n - complexRank(sys.A, n, { re: md.re, im: md.im }, RANK_TOL * Math.max(rho, 1e-300) * 10);
         if (geo < same.length) {

@@ -31,8 +31,12 @@ export interface Mode {
   /** The eigenvalue (for a complex pair the one with positive imaginary part; its conjugate is implied). */
   re: number;
   im: number;
-  /** Number of eigenvalues this mode stands for: 1, or 2 for a complex pair. */
-  multiplicity: 1 | 2;
+  /** Number of eigenvalues this mode stands for: its algebraic multiplicity, twice that for a complex pair. */
+  multiplicity: number;
+  /** How many times the eigenvalue (for a pair, its +i member) repeats in the spectrum (within REPEAT_TOL·ρ). */
+  algebraicMultiplicity: number;
+  /** n − rank(λI − A): independent eigenvectors of the eigenvalue (less than the algebraic one: a Jordan chain). */
+  geometricMultiplicity: number;
   stability: StabilityClass;
   /** 1/|Re λ| in the time unit (decay time; for an unstable mode the e-folding growth time); null on the imaginary axis. */
   timeConstant: number | null;
@@ -119,8 +123,16 @@ export interface RankTest {
   n: number;
   full: boolean;
   /** Modes that fail the test (by number), with the rank deficiency at their eigenvalue. */
-  failing: { mode: number; re: number; im: number; deficiency: number }[];
+  failing: { mode: number; re: number; im: number; deficiency: number; directions: StateDirection[] }[];
 }
+
+/**
+ * A direction in state space as a combination of states (unit length in declared units, first term
+ * positive, terms below 10⁻³ left out): for a mode that fails the controllability test, a left null vector w
+ * of [λI − A, B] (wᵀx is untouched by every input); for observability, a right null vector v of
+ * [λI − A; C] (a state deviation along v is invisible at every output). Real eigenvalues only.
+ */
+export type StateDirection = { state: string; weight: number }[];
 
 export interface Horizon {
   /** Length of the step responses in the time unit. */
@@ -146,5 +158,7 @@ export interface Dynamics {
 
 /** Relative tolerance of the rank decisions (Hessenberg subdiagonals, PBH singular values). */
 export const RANK_TOL = 1e-9;
+/** Eigenvalues closer than this fraction of the spectral radius are one repeated eigenvalue. */
+export const REPEAT_TOL = 1e-6;
 /** |Re λ| ≤ AXIS_TOL·ρ(A) counts as on the imaginary axis. */
 export const AXIS_TOL = 1e-9;
