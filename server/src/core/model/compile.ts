@@ -61,57 +61,106 @@ const INLINE_DEPTH = 40;
  * nested deeper than INLINE_DEPTH: the code grows with the size of the expression graph, not of its
  * unfolded tree, and never nests deeply (engines parse nested code recursively). Every walk here uses an
  * explicit stack.
+ *
+ * Hot for large models (a 20,000-equation model has some 200,000 nodes): the inner nodes are numbered
+ * once (one map lookup per edge), and everything after that works on arrays by number; leaves (numbers
+ * and slots) are never numbered, their code is written where they are used.
  */
 class Emitter {
-  private readonly uses = new Map<Node, number>();
-  private readonly done = new Map<Node, { code: string; height: number }>();
+  /** Number of each inner node (not numbers or slots). */
+  private readonly index = new Map<Node, number>();
+  private readonly nodes: Node[] = [];
+  private readonly uses: number[] = [];
+  /** Kids of inner node i: kid[kidStart[i] .. kidStart[i + 1]), an inner node's number or -1 for a leaf. */
+  private readonly kidStart: number[] = [0];
+  private readonly kid: number[] = [];
+  private readonly code: (string | undefined)[] = [];
+  private readonly height: number[] = [];
   temps = 0;
 
   constructor(roots: Node[]) {
     const stack: Node[] = [...roots];
     while (stack.length) {
       const n = stack.pop()!;
-      const u = this.uses.get(n);
-      this.uses.set(n, (u ?? 0) + 1);
-      if (u === undefined) for (const k of kids(n)) stack.push(k);
+      if (n.t === 'num' || n.t === 'sym') continue;
+      const i = this.index.get(n);
+      if (i !== undefined) {
+        this.uses[i]++;
+        continue;
+      }
+      this.index.set(n, this.nodes.length);
+      this.nodes.push(n);
+      this.uses.push(1);
+      this.code.push(undefined);
+      this.height.push(0);
+      if (n.t === 'pow') stack.push(n.base, n.exp);
+      else for (const k of n.args) stack.push(k);
+    }
+    const { index, kid, kidStart } = this;
+    for (const n of this.nodes) {
+      for (const k of kids(n)) kid.push(k.t === 'num' || k.t === 'sym' ? -1 : index.get(k)!);
+      kidStart.push(kid.length);
     }
   }
 
   /** The code of `root`; statements for the temporaries it needs first are appended to `body`. */
   expr(root: Node, body: string[]): string {
-    const stack: [Node, boolean][] = [[root, false]];
+    if (root.t === 'num' || root.t === 'sym') return codeOf(root, []);
+    const { nodes, kid, kidStart, code, height, uses } = this;
+    const r = this.index.get(root)!;
+    if (code[r] !== undefined) return code[r]!;
+    const stack: number[] = [r];
+    const open: boolean[] = [false];
     while (stack.length) {
-      const top = stack[stack.length - 1];
-      const n = top[0];
-      if (this.done.has(n)) {
+      const top = stack.length - 1;
+      const i = stack[top];
+      if (code[i] !== undefined) {
         stack.pop();
+        open.pop();
         continue;
       }
-      const ks = kids(n);
-      if (!top[1]) {
-        top[1] = true;
-        for (let i = ks.length - 1; i >= 0; i--) if (!this.done.has(ks[i])) stack.push([ks[i], false]);
+      const k0 = kidStart[i];
+      const k1 = kidStart[i + 1];
+      if (!open[top]) {
+        open[top] = true;
+        for (let k = k1 - 1; k >= k0; k--) {
+          const j = kid[k];
+          if (j >= 0 && code[j] === undefined) {
+            stack.push(j);
+            open.push(false);
+          }
+        }
         continue;
       }
       stack.pop();
-      let height = 0;
+      open.pop();
+      const n = nodes[i];
+      let h = 0;
       const cs: string[] = [];
-      for (const k of ks) {
-        const d = this.done.get(k)!;
-        cs.push(d.code);
-        if (d.height + 1 > height) height = d.height + 1;
+      if (k1 > k0) {
+        const ks = kids(n);
+        for (let k = k0; k < k1; k++) {
+          const j = kid[k];
+          if (j < 0) {
+            cs.push(codeOf(ks[k - k0], []));
+            if (h < 1) h = 1;
+          } else {
+            cs.push(code[j]!);
+            if (height[j] + 1 > h) h = height[j] + 1;
+          }
+        }
       }
-      let code = codeOf(n, cs);
-      const shared = (this.uses.get(n) ?? 0) > 1 && ks.length > 0;
-      if (shared || height >= INLINE_DEPTH) {
+      let c = codeOf(n, cs);
+      if ((uses[i] > 1 && k1 > k0) || h >= INLINE_DEPTH) {
         const w = `w[${this.temps++}]`;
-        body.push(`${w}=${code};`);
-        code = w;
-        height = 0;
+        body.push(`${w}=${c};`);
+        c = w;
+        h = 0;
       }
-      this.done.set(n, { code, height });
+      code[i] = c;
+      height[i] = h;
     }
-    return this.done.get(root)!.code;
+    return code[r]!;
   }
 }
 

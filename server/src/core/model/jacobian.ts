@@ -1,8 +1,10 @@
 /**
  * Symbolic sparse Jacobian of the residual equations with respect to every non-constant slot,
- * compiled once per model and reused by the point solver, the linearizer and sweeps.
+ * built once per model and reused by the point solver, the linearizer and sweeps; evaluated from an
+ * interpreted tape first and compiled to JavaScript once called often (model/tape.ts `lazyVector`).
  */
-import { compileVector, type VectorFn } from './compile';
+import type { VectorFn } from './compile';
+import { lazyVector } from './tape';
 import * as E from '../algebra/expr';
 import type { LoweredModel } from './model';
 
@@ -42,11 +44,11 @@ export function compileModel(lm: LoweredModel): CompiledModel {
   });
   const cm: CompiledModel = {
     nEq: lm.equations.length,
-    residual: compileVector(lm.equations.map((e) => e.residual)),
+    residual: lazyVector(lm.equations.map((e) => e.residual)),
     rows: Int32Array.from(rows),
     cols: Int32Array.from(cols),
     nodes,
-    jacobian: compileVector(nodes),
+    jacobian: lazyVector(nodes),
     rowEntries,
   };
   compiledCache.set(lm, cm);
