@@ -4,12 +4,11 @@
  */
 import type { ReducedModel } from '../analysis/handoff/reduced';
 import type { SampledModel } from '../analysis/handoff/sampled';
-import { formatEigen, formatMatrix } from './format';
+import { formatEigen, formatMatrix, LINEAR_CAUTION } from './format';
 import { formatNumber } from '../algebra/expr';
 
-const HOLD_WORDS = { zoh: 'zero-order hold', foh: 'first-order (triangle) hold', tustin: 'bilinear (Tustin) map' } as const;
+import { HOLD_NAMES as HOLD_WORDS } from './handoffExports';
 
-const CAUTION = 'Caution: a linear model holds near its operating point only; check any controller designed on it against the plant and local codes and licensed practice before use.';
 
 export function formatSampledText(s: SampledModel, digits = 5): string {
   const t = s.timeUnit;
@@ -29,7 +28,7 @@ export function formatSampledText(s: SampledModel, digits = 5): string {
   }
   const word = s.verdict === 'stable' ? 'stable: every pole inside the unit circle' : s.verdict === 'marginal' ? 'marginal: a pole on the unit circle' : 'unstable: a pole outside the unit circle';
   lines.push(`Verdict: ${word} (largest |z| = ${formatNumber(s.spectralRadius, digits)})`);
-  lines.push(CAUTION);
+  lines.push(LINEAR_CAUTION);
   return lines.join('\n') + '\n';
 }
 
@@ -47,6 +46,6 @@ export function formatReducedText(r: ReducedModel, digits = 5): string {
   lines.push(formatMatrix('Cr', r.C, r.p, r.n, r.outputs, r.states, digits));
   lines.push(formatMatrix('Dr', r.D, r.p, r.m, r.outputs, r.inputs, digits));
   lines.push(`Balanced states bal1… are combinations of the model's states; time in ${r.timeUnit}.`);
-  lines.push(CAUTION);
+  lines.push(LINEAR_CAUTION);
   return lines.join('\n') + '\n';
 }

@@ -74,8 +74,8 @@ export function sampledModel(sys: LinearSystem, t: number, hold: HoldMethod, del
   return {
     hold, sampleTime: t, timeUnit: sys.timeUnit, delayFraction,
     n: d.n, m: d.m, p: d.p, A: d.A, B: d.B, C: d.C, D: d.D,
-    states: [...sys.states, ...sys.inputs.map(heldInputName)],
-    stateUnits: [...sys.stateUnits, ...sys.inputUnits],
+    states: held ? [...sys.states, ...sys.inputs.map(heldInputName)] : sys.states.slice(),
+    stateUnits: held ? [...sys.stateUnits, ...sys.inputUnits] : sys.stateUnits.slice(),
     inputs: sys.inputs, inputUnits: sys.inputUnits, outputs: sys.outputs, outputUnits: sys.outputUnits,
     poles, verdict, spectralRadius: rho,
   };
