@@ -40,6 +40,34 @@ export function fractionOf(text: string): number | undefined {
   return t !== '' && Number.isFinite(v) && v >= 0 && v < 1 ? v : undefined;
 }
 
+/** --hold and --delay, checked. */
+export function holdOptions(p: Parsed, h: CliHelpers): { hold: HoldMethod; delay: number } {
+  const hold = (h.opt(p, '--hold') ?? 'zoh') as HoldMethod;
+  const delayText = h.opt(p, '--delay');
+  let delay = 0;
+  if (delayText !== undefined) {
+    const f = fractionOf(delayText);
+    if (f === undefined) throw new h.UsageError(`--delay takes a fraction of a sample from 0 up to (not including) 1, or a percentage below 100%, not "${delayText}"`);
+    if (f > 0 && hold !== 'zoh') throw new h.UsageError(`--delay works with --hold zoh only (the input delay is exact for a held input), not with --hold ${hold}`);
+    delay = f;
+  }
+  return { hold, delay };
+}
+
+/** --order and --within, checked. */
+export function reduceOptions(p: Parsed, h: CliHelpers): { order?: number; tolerance?: number } {
+  const orderText = h.opt(p, '--order');
+  const withinText = h.opt(p, '--within');
+  if (orderText !== undefined && withinText !== undefined) throw new h.UsageError('give --order or --within, not both');
+  let tolerance: number | undefined;
+  if (withinText !== undefined) {
+    const t = withinText.trim();
+    tolerance = t.endsWith('%') ? Number(t.slice(0, -1)) / 100 : Number(t);
+    if (!(tolerance > 0) || !Number.isFinite(tolerance)) throw new h.UsageError(`--within takes a positive bound relative to the largest Hankel singular value (1e-3, or 0.1%), not "${withinText}"`);
+  }
+  return { order: orderText === undefined ? undefined : Number(orderText), tolerance };
+}
+
 /** The linear system at the chosen point, or undefined after printing why not. */
 function systemAt(file: string, p: Parsed, io: Io, h: CliHelpers): { a: Analysis; point: string; sys: LinearSystem } | undefined {
   const r = h.prepare(file, h.opt(p, '--point'), io);
@@ -62,15 +90,7 @@ export async function sampleCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   const format = h.opt(p, '--format') ?? 'text';
   const every = h.opt(p, '--every');
   if (every === undefined) throw new h.UsageError('"poise sample" needs the sample time: --every T (in the model\'s time unit, or with a unit: --every 30[s])');
-  const hold = (h.opt(p, '--hold') ?? 'zoh') as HoldMethod;
-  const delayText = h.opt(p, '--delay');
-  let delay = 0;
-  if (delayText !== undefined) {
-    const f = fractionOf(delayText);
-    if (f === undefined) throw new h.UsageError(`--delay takes a fraction of a sample from 0 up to (not including) 1, or a percentage below 100%, not "${delayText}"`);
-    if (f > 0 && hold !== 'zoh') throw new h.UsageError(`--delay works with --hold zoh only (the input delay is exact for a held input), not with --hold ${hold}`);
-    delay = f;
-  }
+  const { hold, delay } = holdOptions(p, h);
   const digits = h.digitsOf(p, 5);
   const r = systemAt(file, p, io, h);
   if (!r) return 1;
@@ -89,19 +109,11 @@ export async function sampleCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
 export async function reduceCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
   const file = h.oneFile(p);
   const format = h.opt(p, '--format') ?? 'text';
-  const orderText = h.opt(p, '--order');
-  const withinText = h.opt(p, '--within');
-  if (orderText !== undefined && withinText !== undefined) throw new h.UsageError('give --order or --within, not both');
-  let tolerance: number | undefined;
-  if (withinText !== undefined) {
-    const t = withinText.trim();
-    tolerance = t.endsWith('%') ? Number(t.slice(0, -1)) / 100 : Number(t);
-    if (!(tolerance > 0) || !Number.isFinite(tolerance)) throw new h.UsageError(`--within takes a positive bound relative to the largest Hankel singular value (1e-3, or 0.1%), not "${withinText}"`);
-  }
+  const opts = reduceOptions(p, h);
   const digits = h.digitsOf(p, 5);
   const r = systemAt(file, p, io, h);
   if (!r) return 1;
-  const red = reducedModel(r.sys, { order: orderText === undefined ? undefined : Number(orderText), tolerance });
+  const red = reducedModel(r.sys, opts);
   if (!red) {
     io.err(`${file}: balanced truncation failed at point "${r.point}": an eigenvalue too close to the imaginary axis to split the stable part off, or a Lyapunov equation without a solution`);
     return 1;

@@ -11,11 +11,12 @@ import type { SampledModel } from '../analysis/handoff/sampled';
 import type { ExportFormat } from './exports';
 import { emptyMatrixText, LINEAR_CAUTION } from './format';
 import { coefficientUnit } from '../analysis/symbolic';
+import { HOLD_NAMES, reducedPlain, sampledPlain, type ReducedPlain, type SampledPlain } from '../analysis/handoff/plain';
 
 export const SAMPLED_SCHEMA = 'poise-sampled/1';
 export const REDUCED_SCHEMA = 'poise-reduced/1';
 
-export const HOLD_NAMES = { zoh: 'zero-order hold', foh: 'first-order (triangle) hold', tustin: 'bilinear (Tustin) map' } as const;
+export { HOLD_NAMES };
 
 /** What the exports of a hand-off model need besides the model: the point and the digits. */
 export interface HandoffExportOptions {
@@ -27,7 +28,6 @@ export interface HandoffExportOptions {
 type Handoff = { kind: 'sampled'; model: SampledModel } | { kind: 'reduced'; model: ReducedModel };
 
 const num = (v: number, digits?: number) => (!Number.isFinite(v) ? 'null' : digits === undefined ? String(v) : formatNumber(v, digits));
-const rowsOf = (a: Float64Array, r: number, c: number) => Array.from({ length: r }, (_, i) => Array.from(a.subarray(i * c, (i + 1) * c)));
 
 interface Mat {
   name: 'A' | 'B' | 'C' | 'D';
@@ -56,52 +56,13 @@ function mats(h: Handoff): Mat[] {
 }
 
 /** The JSON object of a sampled model (schema poise-sampled/1, docs/exports.md). */
-export function sampledJson(s: SampledModel, point: string, digits?: number): Record<string, unknown> {
-  const n = (v: number) => Number(num(v, digits));
-  return {
-    schema: SAMPLED_SCHEMA,
-    point,
-    hold: s.hold,
-    method: HOLD_NAMES[s.hold],
-    sampleTime: { value: s.sampleTime, unit: s.timeUnit },
-    delayFraction: s.delayFraction,
-    states: s.states, inputs: s.inputs, outputs: s.outputs,
-    units: { states: s.stateUnits, inputs: s.inputUnits, outputs: s.outputUnits, time: s.timeUnit },
-    A: rowsOf(s.A, s.n, s.n).map((r) => r.map(n)),
-    B: rowsOf(s.B, s.n, s.m).map((r) => r.map(n)),
-    C: rowsOf(s.C, s.p, s.n).map((r) => r.map(n)),
-    D: rowsOf(s.D, s.p, s.m).map((r) => r.map(n)),
-    poles: s.poles.map((p) => ({ z: { re: n(p.z.re), im: n(p.z.im) }, magnitude: n(p.magnitude), s: p.s ? { re: n(p.s.re), im: n(p.s.im) } : null })),
-    verdict: s.verdict,
-    spectralRadius: n(s.spectralRadius),
-    caution: LINEAR_CAUTION,
-  };
+export function sampledJson(s: SampledModel, point: string, digits?: number): { schema: string; point: string } & SampledPlain & { caution: string } {
+  return { schema: SAMPLED_SCHEMA, point, ...sampledPlain(s, (v) => Number(num(v, digits))), caution: LINEAR_CAUTION };
 }
 
 /** The JSON object of a reduced model (schema poise-reduced/1, docs/exports.md). */
-export function reducedJson(r: ReducedModel, point: string, digits?: number): Record<string, unknown> {
-  const n = (v: number) => Number(num(v, digits));
-  return {
-    schema: REDUCED_SCHEMA,
-    point,
-    method: 'balanced truncation (square-root)',
-    fullOrder: r.fullOrder,
-    order: r.order,
-    kept: r.kept,
-    unstable: r.unstable,
-    hankel: r.hankel.map(n),
-    bound: n(r.bound),
-    tolerance: r.tolerance,
-    suggested: r.suggested,
-    residual: r.residual,
-    states: r.states, inputs: r.inputs, outputs: r.outputs,
-    units: { states: r.stateUnits, inputs: r.inputUnits, outputs: r.outputUnits, time: r.timeUnit },
-    A: rowsOf(r.A, r.n, r.n).map((x) => x.map(n)),
-    B: rowsOf(r.B, r.n, r.m).map((x) => x.map(n)),
-    C: rowsOf(r.C, r.p, r.n).map((x) => x.map(n)),
-    D: rowsOf(r.D, r.p, r.m).map((x) => x.map(n)),
-    caution: LINEAR_CAUTION,
-  };
+export function reducedJson(r: ReducedModel, point: string, digits?: number): { schema: string; point: string } & ReducedPlain & { caution: string } {
+  return { schema: REDUCED_SCHEMA, point, ...reducedPlain(r, (v) => Number(num(v, digits))), caution: LINEAR_CAUTION };
 }
 
 /** One line describing the model: the method with T and the delay, or the orders with the bound. */

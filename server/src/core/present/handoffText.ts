@@ -7,7 +7,7 @@ import type { SampledModel } from '../analysis/handoff/sampled';
 import { formatEigen, formatMatrix, LINEAR_CAUTION } from './format';
 import { formatNumber } from '../algebra/expr';
 
-import { HOLD_NAMES as HOLD_WORDS } from './handoffExports';
+import { HOLD_NAMES as HOLD_WORDS } from '../analysis/handoff/plain';
 
 
 export function formatSampledText(s: SampledModel, digits = 5): string {

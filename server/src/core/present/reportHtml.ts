@@ -12,6 +12,7 @@ import { factorsOf, transferLines } from '../analysis/transferText';
 import { chart, esc, htmlPage, legend, linRange, num, newPage, r1, type AxisSpec, type PageContext, type Series } from './svgCharts';
 import { unitSuffix } from '../semantics/units';
 import { maxOf, minOf, pushAll } from '../arrays';
+import { reducedSectionHtml, sampledSectionHtml } from './handoffReport';
 
 export interface RenderOptions {
   /** Nonce for the inline style and script (webview). */
@@ -378,9 +379,10 @@ export function renderReportHtml(data: ReportData, opts: RenderOptions = {}): st
     sections.push(`<section><h2>No report</h2><p>The report could not be made for this point:</p><ul class="problems">${data.problems.map((p) => `<li>${esc(p)}</li>`).join('')}</ul></section>`);
   } else {
     sections.push(sectionPoint(data), sectionModes(page, data), sectionGains(data), sectionTransfer(data), sectionBode(page, data), sectionSteps(page, data), sectionValidity(page, data));
+    sections.push(sampledSectionHtml(page, data.sampled), reducedSectionHtml(page, data.reduced));
   }
   const nav = data.ok
-    ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}`
+    ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}${data.sampled !== undefined ? '<a href="#sampled">Sampled model</a>' : ''}${data.reduced !== undefined ? '<a href="#reduced">Smaller model</a>' : ''}`
     : undefined;
   const meta = [`time in ${esc(data.timeUnit)}`, data.digest ? `model digest ${esc(data.digest)}` : '', data.ok ? `${data.states.length} state component(s), ${data.inputs.length} input(s), ${data.outputs.length} output(s)${data.outputsAreStates ? ' (the states)' : ''}` : '']
     .filter(Boolean)

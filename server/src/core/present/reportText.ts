@@ -1,6 +1,7 @@
 /** The dynamics report as readable text (transfer functions in the notation of analysis/transferText.ts). */
 import { maxOf, pushAll } from '../arrays';
 import { formatNumber } from '../algebra/expr';
+import { reducedReportText, sampledReportText } from './handoffReport';
 import type { Complex } from '../analysis/dynamics';
 import type { ReportData, ValidityLimit } from '../analysis/report';
 import { transferLines } from '../analysis/transferText';
@@ -91,6 +92,7 @@ export function formatReportText(r: ReportData, d = 4): string {
       if (v.note) out.push(`      ${v.note}`);
     }
   }
+  pushAll(out, [...sampledReportText(r.sampled, d), ...reducedReportText(r.reduced, d)]);
   pushAll(out, ['', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`)]);
   return out.join('\n');
 }
