@@ -72,7 +72,7 @@ export function reducedSectionHtml(page: PageContext, r: ReducedPlain | null | u
     const svg = chart(page, {
       id: 'hankel', title: 'Hankel singular values', height: 260, series,
       x: { kind: 'lin', min: 0, max: r.hankel.length + 1, label: 'index i' },
-      y: { kind: 'log', min: Math.pow(10, Math.floor(Math.log10(lo))), max: Math.pow(10, Math.ceil(Math.log10(hi))), label: 'σ_i' },
+      y: { kind: 'log', min: Math.pow(10, Math.floor(Math.log10(lo))), max: Math.pow(10, Math.ceil(Math.log10(hi))), label: 'Hankel singular value σ' },
       hlines: [{ y: r.tolerance * r.hankel[0], cls: 'axis0', label: `tolerance·σ₁` }],
       vlines: [{ x: r.kept + 0.5, cls: 'axis0' }],
     });
