@@ -7,6 +7,7 @@
 import type { ReducedPlain, SampledPlain } from '../analysis/handoff/plain';
 import { chart, esc, legend, num, type PageContext, type Series } from './svgCharts';
 import { formatNumber } from '../numbers';
+import { maxOf, minOf } from '../arrays';
 
 const complex = (c: { re: number; im: number }, d = 4) => (c.im === 0 ? num(c.re, d) : `${num(c.re, d)} ${c.im < 0 ? '−' : '+'} ${num(Math.abs(c.im), d)}i`);
 const plainNum = (v: number, d = 4) => formatNumber(v, d);
@@ -61,8 +62,8 @@ export function reducedSectionHtml(page: PageContext, r: ReducedPlain | null | u
   const pos = r.hankel.map((v, i) => ({ i: i + 1, v })).filter((x) => x.v > 0);
   let chartHtml = '';
   if (pos.length) {
-    const lo = Math.min(...pos.map((x) => x.v), r.tolerance * r.hankel[0]);
-    const hi = Math.max(...pos.map((x) => x.v));
+    const lo = Math.min(minOf(pos.map((x) => x.v)), r.tolerance * r.hankel[0]);
+    const hi = maxOf(pos.map((x) => x.v));
     const kept = pos.filter((x) => x.i <= r.kept);
     const dropped = pos.filter((x) => x.i > r.kept);
     const series: Series[] = [
