@@ -153,3 +153,38 @@ print(json.dumps(out))`,
     expect(compared).toBeGreaterThanOrEqual(3);
   }, 120_000);
 });
+
+describe('the exports agree with each other', () => {
+  const canal = path.join(EXAMPLES, 'canal_pools.poise');
+  const tower = path.join(EXAMPLES, 'tower_level_loop.poise');
+  /** The CSV rows of a matrix as a dense array (row and column by name). */
+  const csvMatrix = (csv: string, name: string, rows: string[], cols: string[]) => {
+    const m = rows.map(() => cols.map(() => NaN));
+    for (const line of csv.trim().split('\n')) {
+      const [kind, r, c, v] = line.split(',');
+      if (kind === name) m[rows.indexOf(r)][cols.indexOf(c)] = Number(v);
+    }
+    return m;
+  };
+  it('sampled: every CSV number equals the JSON one exactly; the LaTeX and Markdown name T and the hold', async () => {
+    const args = ['sample', tower, '--every', '0.25', '--hold', 'foh'];
+    const [j, c, l, m] = await Promise.all(['json', 'csv', 'latex', 'markdown'].map((f) => runCliAsync([...args, '--format', f])));
+    const js = JSON.parse(j.stdout);
+    expect(csvMatrix(c.stdout, 'A', js.states, js.states)).toEqual(js.A);
+    expect(csvMatrix(c.stdout, 'B', js.states, js.inputs)).toEqual(js.B);
+    expect(c.stdout).toMatch(/^sample_time,,,0\.25,min$/m);
+    expect(c.stdout).toMatch(/^hold,foh,/m);
+    expect(l.stdout).toContain('T = 0.25\\ \\mathrm{min}');
+    expect(m.stdout).toContain('first-order (triangle) hold, sample time T = 0.25 min');
+  });
+  it('reduced: CSV Hankel values and bound equal the JSON ones; the NumPy bound is twice the discarded tail', async () => {
+    const args = ['reduce', canal, '--order', '7'];
+    const [j, c] = await Promise.all(['json', 'csv'].map((f) => runCliAsync([...args, '--format', f])));
+    const js = JSON.parse(j.stdout);
+    const hk = c.stdout.split('\n').filter((x) => x.startsWith('hankel,')).map((x) => Number(x.split(',')[3]));
+    expect(hk).toEqual(js.hankel);
+    expect(c.stdout.split('\n').filter((x) => x.startsWith('hankel,')).slice(6, 8).map((x) => x.split(',')[2])).toEqual(['kept', 'discarded']);
+    expect(csvMatrix(c.stdout, 'A', js.states, js.states)).toEqual(js.A);
+    expect(js.bound).toBeCloseTo(2 * js.hankel.slice(7).reduce((a: number, b: number) => a + b, 0), 12);
+  });
+});

@@ -37,15 +37,19 @@ export function formatReducedText(r: ReducedModel, digits = 5): string {
   lines.push(`Reduced model by balanced truncation: ${r.order} of ${r.fullOrder} states (${r.kept} balanced${r.unstable ? `, ${r.unstable} unstable or marginal kept exactly` : ''})`);
   lines.push(`Error bound: ‖G − Gr‖∞ ≤ 2·Σ(discarded σ) = ${formatNumber(r.bound, digits)}`);
   lines.push(`Order for a bound of ${formatNumber(r.tolerance, digits)}·σ1: ${r.suggested}`);
-  lines.push('Hankel singular values σ (kept | discarded):');
-  const shown = r.hankel.slice(0, Math.max(r.kept + 5, 10));
-  lines.push('  ' + shown.map((v, i) => `${i === r.kept ? '| ' : ''}${formatNumber(v, digits)}`).join('  ') + (r.hankel.length > shown.length ? `  … (${r.hankel.length - shown.length} more)` : ''));
+  if (!r.hankel.length) lines.push('Hankel singular values: none (no stable part: every mode is kept exactly)');
+  else {
+    lines.push('Hankel singular values σ (kept | discarded):');
+    const shown = r.hankel.slice(0, Math.max(r.kept + 5, 10));
+    lines.push('  ' + shown.map((v, i) => `${i === r.kept ? '| ' : ''}${formatNumber(v, digits)}`).join('  ') + (r.hankel.length > shown.length ? `  … (${r.hankel.length - shown.length} more)` : ''));
+  }
   lines.push('');
   lines.push(formatMatrix('Ar', r.A, r.n, r.n, r.states, r.states, digits));
   lines.push(formatMatrix('Br', r.B, r.n, r.m, r.states, r.inputs, digits));
   lines.push(formatMatrix('Cr', r.C, r.p, r.n, r.outputs, r.states, digits));
   lines.push(formatMatrix('Dr', r.D, r.p, r.m, r.outputs, r.inputs, digits));
-  lines.push(`Balanced states bal1… are combinations of the model's states; time in ${r.timeUnit}.`);
+  const parts = [r.kept ? 'balanced states bal1… are combinations of the model\'s states' : '', r.unstable ? 'kept1… span the unstable or marginal modes, unchanged' : ''].filter(Boolean).join('; ');
+  lines.push(`${parts ? parts[0].toUpperCase() + parts.slice(1) + '; t' : 'T'}ime in ${r.timeUnit}.`);
   lines.push(LINEAR_CAUTION);
   return lines.join('\n') + '\n';
 }
