@@ -6,32 +6,17 @@
  */
 import type { Analysis } from '../core/pipeline/analysis';
 import { linearSystem, type LinearSystem } from '../core/analysis/dynamics';
-import { sampledModel } from '../core/analysis/handoff/sampled';
+import { parseSampleTime, sampledModel } from '../core/analysis/handoff/sampled';
 import { reducedModel } from '../core/analysis/handoff/reduced';
 import { formatReducedText, formatSampledText } from '../core/present/handoffText';
 import { exportReduced, exportSampled } from '../core/present/handoffExports';
 import type { ExportFormat } from '../core/present/exports';
-import { dimsEqual, parseUnit } from '../core/semantics/units';
 import type { HoldMethod } from '../core/numeric/discretize';
 import type { Parsed } from './options';
 import type { CliHelpers, Io } from './shared';
-import { parseQuantity } from './quantity';
 
-/**
- * A sample time: a number in the model's time unit, or with a time unit of its own ("30[s]", "0.5 [min]").
- * Returns the value in the model's time unit or a one-line message.
- */
-export function sampleTimeIn(text: string, timeUnit: string): number | string {
-  const q = parseQuantity(text);
-  if (!q) return `"${text.trim()}" is not a number (optionally with a time unit in brackets, e.g. 30[s])`;
-  if (!(q.value > 0) || !Number.isFinite(q.value)) return `the sample time must be positive, not "${text.trim()}"`;
-  if (q.unit === undefined) return q.value;
-  const given = parseUnit(q.unit);
-  const model = parseUnit(timeUnit);
-  if (typeof given === 'string') return `unknown unit "${q.unit}": ${given}`;
-  if (typeof model === 'string' || !dimsEqual(given.dims, model.dims)) return `[${q.unit}] is not a time unit`;
-  return (q.value * given.scale) / model.scale;
-}
+/** A sample time in the model's time unit (analysis/handoff/sampled.ts). */
+export const sampleTimeIn = parseSampleTime;
 
 /** A fraction in [0, 1): "0.35" or "35%". */
 export function fractionOf(text: string): number | undefined {
