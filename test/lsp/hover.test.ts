@@ -167,3 +167,30 @@ describe('other hovers', () => {
     expect(d).toContain("time derivative of `Δlevel`");
   });
 });
+
+describe('hover on a point: where the model goes next (smaller, sampled)', () => {
+  it('buffer tank: the one Hankel singular value equals the closed form of a first-order lag', async () => {
+    const uri = uriOf('hover-handoff-tank.poise');
+    await s.open(uri, BUFFER);
+    const md = await hoverText(uri, 'point dry_day', 7);
+    // one state: P = ‖b‖²/(2a), Q = c²/(2a), σ = √(PQ) = |c|·‖b‖/(2a) for x' = −a·x + b·u, y = c·x (a
+    // standard result of balanced realisation, e.g. Antoulas, Approximation of Large-Scale Dynamical
+    // Systems, ch. 7; derived by hand). Here a = opening·cv/(2·√level·area) [1/s],
+    // b = [0.001/area per L/s, −cv·√level/area per unit opening], c = 100 cm/m.
+    const area = 3.2, cv = 0.0045, opening = 0.4;
+    const a = (opening * cv) / (2 * Math.sqrt(LEVEL_DRY) * area);
+    const b = Math.hypot(0.001 / area, (cv * Math.sqrt(LEVEL_DRY)) / area);
+    const sigma = (100 * b) / (2 * a);
+    expect(md).toContain(`Smaller model: Hankel singular values ${printed(sigma)};`);
+    expect(md).toContain('every state is needed');
+    expect(md).toContain('`poise sample --every T`');
+    // the time constant 1/a, by hand
+    expect(md).toContain(`the fastest time constant is ${printed(1 / a)} s`);
+  });
+  it('canal of 60 pools: the order that keeps the error within 10⁻³·σ₁', async () => {
+    const uri = uriOf('hover-handoff-canal.poise');
+    await s.open(uri, fs.readFileSync(path.join(EXAMPLES, 'canal_pools.poise'), 'utf8'));
+    const md = await hoverText(uri, 'point summer', 7);
+    expect(md).toMatch(/\*\*1[0-9] of 60\*\* states keep the error within 10⁻³·σ₁ — `poise reduce`/);
+  });
+});

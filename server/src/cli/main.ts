@@ -12,6 +12,7 @@ import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
 import { expandCommand } from './expand';
 import { reportCommand } from './report';
+import { reduceCommand, sampleCommand } from './handoff';
 import { commandHelp, commandSpec, generalHelp, nearest as nearestWord, parseCommandLine, UsageError, type Parsed } from './options';
 import { diagnosticJson, type DiagnosticJson } from './diagnosticJson';
 import type { CliHelpers, Io } from './shared';
@@ -259,7 +260,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
 }
 
 function nearestCommand(word: string): string | undefined {
-  const names = ['check', 'solve', 'linearize', 'report', 'sweep', 'expand', 'lsp', 'help'];
+  const names = ['check', 'solve', 'linearize', 'report', 'sweep', 'expand', 'sample', 'reduce', 'lsp', 'help'];
   return names.find((n) => n.startsWith(word) && word.length >= 2) ?? nearestWord(word, names);
 }
 
@@ -268,6 +269,8 @@ export const extraCommands: Record<string, (p: Parsed, io: Io, h: CliHelpers) =>
 extraCommands.sweep = sweepCommand;
 extraCommands.report = reportCommand;
 extraCommands.expand = expandCommand;
+extraCommands.sample = sampleCommand;
+extraCommands.reduce = reduceCommand;
 
 /** The version: injected into the bundle at build time (scripts/bundle.mjs), else read from package.json. */
 declare const POISE_VERSION: string | undefined;

@@ -45,6 +45,13 @@ const DIGITS: ValueKind = { kind: 'integer', placeholder: 'N', min: 1, max: 17 }
 const POINT: OptionSpec = { name: '--point', value: text('NAME'), help: 'the point to use (needed when the file has several)' };
 const HELP: OptionSpec = { name: '--help', value: flag, help: 'this command\'s help' };
 
+// the hand-off models (poise sample, poise reduce, and their sections in poise report)
+const EVERY: OptionSpec = { name: '--every', value: text('T'), help: 'the sample time, in the model\'s time unit or with a unit (30[s])' };
+const HOLD: OptionSpec = { name: '--hold', value: choice('zoh', 'foh', 'tustin'), help: 'zoh (input held between samples), foh (input ramped between samples) or tustin (bilinear map)', default: 'zoh' };
+const DELAY: OptionSpec = { name: '--delay', value: text('F'), help: 'input delay as a fraction of a sample, 0 to below 1, or a percentage (35%); zoh only', default: '0' };
+const ORDER: OptionSpec = { name: '--order', value: { kind: 'integer', placeholder: 'N', min: 0, max: 100000 }, help: 'stable states to keep (unstable ones are always kept)' };
+const WITHIN: OptionSpec = { name: '--within', value: text('REL'), help: 'keep the fewest states whose error bound is below REL·σ1 (1e-3, or 0.1%)', default: '1e-3' };
+
 export const LINEARIZE_FORMATS = ['text', 'json', 'csv', 'markdown', 'latex', 'numpy'] as const;
 
 export const COMMANDS: CommandSpec[] = [
@@ -97,6 +104,12 @@ export const COMMANDS: CommandSpec[] = [
       { name: '--tolerance', value: text('PCT'), help: 'how far the linear prediction may differ for the validity range, in percent', default: '5' },
       { name: '--quick', value: flag, help: 'leave out the validity search and cap the nonlinear simulations at a work budget; the report lists what it left out' },
       { name: '--format', value: choice('text', 'json'), help: 'text, or json (schema poise-report/1)', default: 'text' },
+      { ...EVERY, help: 'add the sampled-data model for this sample time (model time unit, or with a unit: 30[s])' },
+      HOLD,
+      DELAY,
+      { name: '--reduce', value: flag, help: 'add the smaller model by balanced truncation (order from --order or --within)' },
+      ORDER,
+      WITHIN,
       HELP,
     ],
   },
@@ -126,6 +139,37 @@ export const COMMANDS: CommandSpec[] = [
     files: [1, 1],
     summary: 'print the flat model a file with indexed families stands for (valid model text)',
     options: [HELP],
+  },
+  {
+    name: 'sample',
+    args: 'FILE',
+    files: [1, 1],
+    summary: 'the discrete-time model of the linear one for a sample time: matrices, poles in z, stability inside the unit circle',
+    options: [
+      POINT,
+      EVERY,
+      HOLD,
+      DELAY,
+      { name: '--format', value: { kind: 'choice', choices: LINEARIZE_FORMATS }, help: 'the output format (docs/exports.md)', default: 'text' },
+      { name: '--digits', value: DIGITS, help: 'significant digits, 1 to 17', default: '5; every digit in the exports' },
+      HELP,
+    ],
+    notes: ['Methods: docs/dynamics.md, "Sampled-data models".'],
+  },
+  {
+    name: 'reduce',
+    args: 'FILE',
+    files: [1, 1],
+    summary: 'a smaller model by balanced truncation: Hankel singular values, error bound, suggested order',
+    options: [
+      POINT,
+      ORDER,
+      WITHIN,
+      { name: '--format', value: { kind: 'choice', choices: LINEARIZE_FORMATS }, help: 'the output format (docs/exports.md)', default: 'text' },
+      { name: '--digits', value: DIGITS, help: 'significant digits, 1 to 17', default: '5; every digit in the exports' },
+      HELP,
+    ],
+    notes: ['Methods: docs/dynamics.md, "Smaller models".'],
   },
   {
     name: 'lsp',

@@ -1,5 +1,6 @@
 /**
- * `poise report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE]... [--format text|json] [--tolerance PCT] [--quick]`
+ * `poise report FILE [--point NAME] [--html OUT.html] [--step INPUT=SIZE]... [--format text|json] [--tolerance PCT] [--quick]
+ *   [--every T [--hold H] [--delay F]] [--reduce [--order N | --within REL]]`
  *
  * Prints the dynamics at the point (text summary or JSON) and, with --html, writes the standalone page.
  * SIZE is in the input's declared unit, a number with a unit in brackets (0.5[L/s]), or a percentage of
@@ -13,6 +14,7 @@ import { formatReportText } from '../core/present/reportText';
 import type { Parsed } from './options';
 import type { CliHelpers, Io } from './shared';
 import { sizeInDeclaredUnit } from './quantity';
+import { holdOptions, reduceOptions, sampleTimeIn } from './handoff';
 
 /** Integrator step attempts a quick report may spend on its nonlinear step responses. */
 export const QUICK_WORK = 2000;
@@ -29,6 +31,12 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   }
   const stepSpecs = h.all(p, '--step');
   const htmlOut = h.opt(p, '--html');
+  // the hand-off sections (docs/dynamics.md): --every T [--hold] [--delay]; --reduce [--order N | --within REL]
+  const every = h.opt(p, '--every');
+  const { hold, delay } = holdOptions(p, h);
+  if (every === undefined && (p.opts.has('--hold') || p.opts.has('--delay'))) throw new h.UsageError('--hold and --delay go with --every T (the sample time)');
+  const reduce = p.opts.has('--reduce') ? reduceOptions(p, h) : undefined;
+  if (!reduce && (p.opts.has('--order') || p.opts.has('--within'))) throw new h.UsageError('--order and --within go with --reduce');
   const r = h.prepare(file, h.opt(p, '--point'), io);
   if (!r) return 1;
   const lin = r.a.linear(r.point);
@@ -63,7 +71,13 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   }
   // --quick: no validity search, and each report's nonlinear simulations within QUICK_WORK integrator steps
   const quick = p.opts.has('--quick');
-  const data = buildReport(r.a, r.point, { steps, tolerance, title: path.basename(file), ...(quick ? { quick: true, workBudget: QUICK_WORK } : {}) });
+  let sample: { every: number; hold: typeof hold; delay: number } | undefined;
+  if (every !== undefined) {
+    const T = sampleTimeIn(every, lin.timeUnit);
+    if (typeof T === 'string') throw new h.UsageError(`--every: ${T}`);
+    sample = { every: T, hold, delay };
+  }
+  const data = buildReport(r.a, r.point, { steps, tolerance, title: path.basename(file), sample, reduce, ...(quick ? { quick: true, workBudget: QUICK_WORK } : {}) });
   if (!data.ok) {
     for (const m of data.problems) io.err(`${file}: ${m}`);
     return 1;

@@ -29,7 +29,7 @@ export function registerCustomRequests(connection: Connection, analyses: Analyse
     log(`${method} ${p.point ?? ''}: ${Date.now() - started} ms`);
     return r;
   };
-  const settings = (d: OpenDocument) => ({ digits: d.s.digits, activePoint: d.s.activePoint });
+  const settings = (d: OpenDocument) => ({ digits: d.s.digits, activePoint: d.s.activePoint, reportSampleTime: d.s.reportSampleTime, reportReduce: d.s.reportReduce });
 
   connection.onRequest(ReportRequest, guard(ReportRequest.method, P.pointParams, (p, token) =>
     page(ReportRequest.method, p, (d) => ({ kind: 'report', file: fileName(p.uri), point: p.point, settings: settings(d) }), token), logError));

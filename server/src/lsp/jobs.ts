@@ -9,6 +9,8 @@
  */
 import { pushAll } from '../core/arrays';
 import { buildReport } from '../core/analysis/report';
+import { parseSampleTime } from '../core/analysis/handoff/sampled';
+import { timeUnitLabel } from '../core/semantics/units';
 import { renderReportHtml } from '../core/present/reportHtml';
 import { declaredSweeps, runSweep, sweepCandidates, sweepDiagnostics, variedProblem, type SweepSpec } from '../core/analysis/sweep';
 import { catalogueText, type Diagnostic } from '../core/diagnostics';
@@ -28,6 +30,9 @@ export class JobFailure extends Error {}
 export interface JobSettings {
   digits: number;
   activePoint: string;
+  /** The report's hand-off sections (settings.ts); absent means none. */
+  reportSampleTime?: string;
+  reportReduce?: boolean;
 }
 
 export type Job =
@@ -118,7 +123,11 @@ export function pointDiagnostics(a: Analysis): Diagnostic[] {
 function report(a: Analysis, job: Extract<Job, { kind: 'report' }>): PageResult {
   const point = resolvePoint(a, job.file, job.point, job.settings.activePoint);
   // the editor refreshes the page while the model is edited: keep the validity search short there
-  const data = buildReport(a, point, { title: job.file, validityBudgetMs: 1500 });
+  // the hand-off sections when the settings ask for them (poise.reportSampleTime, poise.reportReduce)
+  const T = job.settings.reportSampleTime ? parseSampleTime(job.settings.reportSampleTime, timeUnitLabel(a.lowered.timeUnit)) : undefined;
+  const sample = typeof T === 'number' ? { every: T, hold: 'zoh' as const } : undefined;
+  const data = buildReport(a, point, { title: job.file, validityBudgetMs: 1500, sample, reduce: job.settings.reportReduce ? {} : undefined });
+  if (typeof T === 'string') data.problems.push(`poise.reportSampleTime: ${T}`);
   return { html: renderReportHtml(data), title: `Report: ${data.point}` };
 }
 

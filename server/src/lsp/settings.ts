@@ -7,9 +7,13 @@ export interface PoiseSettings {
   activePoint: string;
   /** Warn about declared names no equation uses (P203). */
   warnUnused: boolean;
+  /** Sample time of the report's sampled-data section ("15[s]", or a number in the model's time unit); '' for none. */
+  reportSampleTime: string;
+  /** Add the smaller-model section (balanced truncation) to the report. */
+  reportReduce: boolean;
 }
 
-export const DEFAULT_SETTINGS: Readonly<PoiseSettings> = { digits: 4, activePoint: '', warnUnused: true };
+export const DEFAULT_SETTINGS: Readonly<PoiseSettings> = { digits: 4, activePoint: '', warnUnused: true, reportSampleTime: '', reportReduce: false };
 
 /** Settings from whatever the client sent, with defaults for missing or unusable values. */
 export function sanitizeSettings(raw: unknown): PoiseSettings {
@@ -19,6 +23,8 @@ export function sanitizeSettings(raw: unknown): PoiseSettings {
     digits: d,
     activePoint: typeof r.activePoint === 'string' ? r.activePoint.trim() : DEFAULT_SETTINGS.activePoint,
     warnUnused: typeof r.warnUnused === 'boolean' ? r.warnUnused : DEFAULT_SETTINGS.warnUnused,
+    reportSampleTime: typeof r.reportSampleTime === 'string' ? r.reportSampleTime.trim() : DEFAULT_SETTINGS.reportSampleTime,
+    reportReduce: typeof r.reportReduce === 'boolean' ? r.reportReduce : DEFAULT_SETTINGS.reportReduce,
   };
 }
 

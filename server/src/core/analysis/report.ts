@@ -18,6 +18,10 @@ import { declaredValue, type LinearSignals } from '../solve/linearizer';
 import { linearStepResponse } from '../numeric/expm';
 import { Simulator } from './simulate';
 import { maxOf, pushAll } from '../arrays';
+import type { HoldMethod } from '../numeric/discretize';
+import { sampledModel } from './handoff/sampled';
+import { reducedModel } from './handoff/reduced';
+import { reducedPlain, sampledPlain, type ReducedPlain, type SampledPlain } from './handoff/plain';
 
 export interface ReportOptions {
   /** Step size per input (declared unit) for the step-response plots; default 10 % of the operating value (of one unit when it is 0). */
@@ -43,6 +47,10 @@ export interface ReportOptions {
   workBudget?: number;
   /** A quick report: no validity search (the `--quick` of `poise report`); listed in `skipped`. */
   quick?: boolean;
+  /** Add the sampled-data model for this sample time (model time unit), hold and input-delay fraction. */
+  sample?: { every: number; hold: HoldMethod; delay?: number };
+  /** Add the reduced model (balanced truncation): stable states to keep, or the bound relative to σ₁. */
+  reduce?: { order?: number; tolerance?: number };
 }
 
 export interface ValueRow {
@@ -153,6 +161,10 @@ export interface ReportData extends LinearSignals {
   work: number;
   /** Wall-clock milliseconds of each stage (for information; varies run to run). */
   timingsMs: Record<string, number>;
+  /** The sampled-data model when asked for (ReportOptions.sample); null when it cannot be formed. */
+  sampled?: SampledPlain | null;
+  /** The reduced model when asked for (ReportOptions.reduce); null when the truncation fails. */
+  reduced?: ReducedPlain | null;
 }
 
 export const CAUTIONS = [
@@ -220,6 +232,14 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     controllability: dyn.controllability, observability: dyn.observability, horizon: dyn.horizon,
   });
 
+  if (opts.sample) {
+    const sm = sampledModel(sys, opts.sample.every, opts.sample.hold, opts.sample.delay ?? 0);
+    data.sampled = sm ? sampledPlain(sm) : null;
+  }
+  if (opts.reduce) {
+    const rm = reducedModel(sys, opts.reduce);
+    data.reduced = rm ? reducedPlain(rm) : null;
+  }
   const t1 = now();
   data.frequency = frequencyResponse(dyn, frequencyGrid(dyn, opts.frequencies ?? 200));
   timingsMs.frequency = now() - t1;

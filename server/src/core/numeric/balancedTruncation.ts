@@ -25,6 +25,7 @@ import type { StateSpace } from './discretize';
 import { eigenvalues } from './eigen';
 import { luFactorInPlace, luSolveMatrixInPlace } from './flatlu';
 import { solveLyapunov } from './lyapunov';
+import { lyapunovFactor } from './lyapunovFactor';
 
 export interface BalancedTruncation {
   /** Hankel singular values of the stable part, descending. */
@@ -163,17 +164,23 @@ function balance(sys: StateSpace): { hankel: number[]; lc: Float64Array; lo: Flo
   const { n, m, p } = sys;
   const bbt = mulRowMajor(sys.B, transposeRowMajor(sys.B, n, m), n, m, n);
   const ctc = mulRowMajor(transposeRowMajor(sys.C, p, n), sys.C, n, p, n);
-  const a = { rows: n, cols: n, data: sys.A };
-  const at = { rows: n, cols: n, data: transposeRowMajor(sys.A, n, n) };
-  const P = solveLyapunov(a, { rows: n, cols: n, data: bbt });
-  const Q = solveLyapunov(at, { rows: n, cols: n, data: ctc });
-  if (!P || !Q) return undefined;
-  const lc = symmetricFactor(P.data, n);
-  const lo = symmetricFactor(Q.data, n);
+  const at = transposeRowMajor(sys.A, n, n);
+  // Cholesky factors computed directly (Hammarling 1982, numeric/lyapunovFactor.ts): accurate Hankel values
+  // far below √ε·σ₁; the eigendecomposition of the Bartels–Stewart Gramians is the fallback
+  let lc = lyapunovFactor(sys.A, sys.B, n, m);
+  let lo = lyapunovFactor(at, transposeRowMajor(sys.C, p, n), n, p);
+  if (!lc || !lo) {
+    const P = solveLyapunov({ rows: n, cols: n, data: sys.A }, { rows: n, cols: n, data: bbt });
+    const Q = solveLyapunov({ rows: n, cols: n, data: at }, { rows: n, cols: n, data: ctc });
+    if (!P || !Q) return undefined;
+    lc = symmetricFactor(P.data, n);
+    lo = symmetricFactor(Q.data, n);
+  }
+  const gram = (l: Float64Array) => mulRowMajor(l, transposeRowMajor(l, n, n), n, n, n);
   const mtx = mulRowMajor(transposeRowMajor(lo, n, n), lc, n, n, n);
   const svd = new SingularValueDecomposition(toMatrix(mtx, n, n));
   const hankel = Array.from(svd.diagonal, (x) => Math.abs(x));
-  return { hankel, lc, lo, u: svd.leftSingularVectors, v: svd.rightSingularVectors, resC: lyapRes(sys.A, P.data, bbt, n), resO: lyapRes(at.data, Q.data, ctc, n) };
+  return { hankel, lc, lo, u: svd.leftSingularVectors, v: svd.rightSingularVectors, resC: lyapRes(sys.A, gram(lc), bbt, n), resO: lyapRes(at, gram(lo), ctc, n) };
 }
 
 function lyapRes(a: Float64Array, x: Float64Array, q: Float64Array, n: number): number {

@@ -4,12 +4,11 @@
  */
 import type { ReducedModel } from '../analysis/handoff/reduced';
 import type { SampledModel } from '../analysis/handoff/sampled';
-import { formatEigen, formatMatrix } from './format';
+import { formatEigen, formatMatrix, LINEAR_CAUTION } from './format';
 import { formatNumber } from '../algebra/expr';
 
-const HOLD_WORDS = { zoh: 'zero-order hold', foh: 'first-order (triangle) hold', tustin: 'bilinear (Tustin) map' } as const;
+import { HOLD_NAMES as HOLD_WORDS } from '../analysis/handoff/plain';
 
-const CAUTION = 'Caution: a linear model holds near its operating point only; check any controller designed on it against the plant and local codes and licensed practice before use.';
 
 export function formatSampledText(s: SampledModel, digits = 5): string {
   const t = s.timeUnit;
@@ -29,7 +28,7 @@ export function formatSampledText(s: SampledModel, digits = 5): string {
   }
   const word = s.verdict === 'stable' ? 'stable: every pole inside the unit circle' : s.verdict === 'marginal' ? 'marginal: a pole on the unit circle' : 'unstable: a pole outside the unit circle';
   lines.push(`Verdict: ${word} (largest |z| = ${formatNumber(s.spectralRadius, digits)})`);
-  lines.push(CAUTION);
+  lines.push(LINEAR_CAUTION);
   return lines.join('\n') + '\n';
 }
 
@@ -38,15 +37,19 @@ export function formatReducedText(r: ReducedModel, digits = 5): string {
   lines.push(`Reduced model by balanced truncation: ${r.order} of ${r.fullOrder} states (${r.kept} balanced${r.unstable ? `, ${r.unstable} unstable or marginal kept exactly` : ''})`);
   lines.push(`Error bound: ‖G − Gr‖∞ ≤ 2·Σ(discarded σ) = ${formatNumber(r.bound, digits)}`);
   lines.push(`Order for a bound of ${formatNumber(r.tolerance, digits)}·σ1: ${r.suggested}`);
-  lines.push('Hankel singular values σ (kept | discarded):');
-  const shown = r.hankel.slice(0, Math.max(r.kept + 5, 10));
-  lines.push('  ' + shown.map((v, i) => `${i === r.kept ? '| ' : ''}${formatNumber(v, digits)}`).join('  ') + (r.hankel.length > shown.length ? `  … (${r.hankel.length - shown.length} more)` : ''));
+  if (!r.hankel.length) lines.push('Hankel singular values: none (no stable part: every mode is kept exactly)');
+  else {
+    lines.push('Hankel singular values σ (kept | discarded):');
+    const shown = r.hankel.slice(0, Math.max(r.kept + 5, 10));
+    lines.push('  ' + shown.map((v, i) => `${i === r.kept ? '| ' : ''}${formatNumber(v, digits)}`).join('  ') + (r.hankel.length > shown.length ? `  … (${r.hankel.length - shown.length} more)` : ''));
+  }
   lines.push('');
   lines.push(formatMatrix('Ar', r.A, r.n, r.n, r.states, r.states, digits));
   lines.push(formatMatrix('Br', r.B, r.n, r.m, r.states, r.inputs, digits));
   lines.push(formatMatrix('Cr', r.C, r.p, r.n, r.outputs, r.states, digits));
   lines.push(formatMatrix('Dr', r.D, r.p, r.m, r.outputs, r.inputs, digits));
-  lines.push(`Balanced states bal1… are combinations of the model's states; time in ${r.timeUnit}.`);
-  lines.push(CAUTION);
+  const parts = [r.kept ? 'balanced states bal1… are combinations of the model\'s states' : '', r.unstable ? 'kept1… span the unstable or marginal modes, unchanged' : ''].filter(Boolean).join('; ');
+  lines.push(`${parts ? parts[0].toUpperCase() + parts.slice(1) + '; t' : 'T'}ime in ${r.timeUnit}.`);
+  lines.push(LINEAR_CAUTION);
   return lines.join('\n') + '\n';
 }

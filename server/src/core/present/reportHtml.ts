@@ -13,6 +13,7 @@ import { chart, esc, htmlPage, legend, linRange, num, newPage, r1, type AxisSpec
 import { unitSuffix } from '../semantics/units';
 import { directionText, multiplicityText } from './format';
 import { maxOf, minOf, pushAll } from '../arrays';
+import { reducedSectionHtml, sampledSectionHtml } from './handoffReport';
 
 export interface RenderOptions {
   /** Nonce for the inline style and script (webview). */
@@ -387,9 +388,10 @@ export function renderReportHtml(data: ReportData, opts: RenderOptions = {}): st
   } else {
     sections.push(sectionPoint(data), sectionModes(page, data), sectionGains(data), sectionTransfer(data), sectionBode(page, data), sectionSteps(page, data), sectionValidity(page, data));
     if (data.skipped?.length) sections.push(`<section id="skipped"><h2>Left out or cut short</h2><ul>${data.skipped.map((x) => `<li>${esc(x)}</li>`).join('')}</ul></section>`);
+    sections.push(sampledSectionHtml(page, data.sampled), reducedSectionHtml(page, data.reduced));
   }
   const nav = data.ok
-    ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}`
+    ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}${data.sampled !== undefined ? '<a href="#sampled">Sampled model</a>' : ''}${data.reduced !== undefined ? '<a href="#reduced">Smaller model</a>' : ''}`
     : undefined;
   const meta = [`time in ${esc(data.timeUnit)}`, data.digest ? `model digest ${esc(data.digest)}` : '', data.ok ? `${data.states.length} state component(s), ${data.inputs.length} input(s), ${data.outputs.length} output(s)${data.outputsAreStates ? ' (the states)' : ''}` : '']
     .filter(Boolean)

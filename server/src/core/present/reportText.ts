@@ -2,6 +2,7 @@
 import { maxOf, pushAll } from '../arrays';
 import { formatNumber } from '../algebra/expr';
 import type { Complex, RankTest } from '../analysis/dynamics';
+import { reducedReportText, sampledReportText } from './handoffReport';
 import type { ReportData, ValidityLimit } from '../analysis/report';
 import { transferLines } from '../analysis/transferText';
 import { directionText, indexReductionLines, multiplicityText } from './format';
@@ -99,6 +100,7 @@ export function formatReportText(r: ReportData, d = 4): string {
     }
   }
   if (r.skipped?.length) pushAll(out, ['', 'Left out or cut short:', ...r.skipped.map((x) => `  - ${x}`)]);
+  pushAll(out, [...sampledReportText(r.sampled, d), ...reducedReportText(r.reduced, d)]);
   pushAll(out, ['', 'Cautions:', ...r.cautions.map((c) => `  - ${c}`)]);
   return out.join('\n');
 }

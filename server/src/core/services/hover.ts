@@ -25,6 +25,7 @@ import { pointStatus } from './solve';
 import { dimsOf } from './unitInference';
 import { unitSuffix } from '../semantics/units';
 import { maxOf, minOf, pushAll } from '../arrays';
+import { handoffHoverLines } from './handoffHover';
 
 export interface HoverOptions {
   /** Significant digits of the numbers shown. */
@@ -259,6 +260,8 @@ function pointText(a: Analysis, name: string, digits: number): string {
     const f = eigenFigures(e, false);
     out.push('', `Oscillatory mode: natural frequency ${fmt(f.naturalFrequency!, digits)} rad/${tu}, damping ratio ${fmt(f.dampingRatio!, digits)}`);
   }
+  // where the model goes next: smaller (balanced truncation) and sampled (services/handoffHover.ts)
+  for (const l of handoffHoverLines(lin, taus.length ? minOf(taus) : undefined, digits)) out.push('', l);
   return out.join('\n');
 }
 

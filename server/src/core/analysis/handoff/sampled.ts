@@ -8,6 +8,7 @@ import { discretize, type HoldMethod } from '../../numeric/discretize';
 import { eigenvalues, sortEigen } from '../../numeric/eigen';
 import type { Complex, LinearSystem, StabilityClass } from '../dynamics';
 import type { LinearSignals, StateSpace } from '../../solve/linearizer';
+import { dimsEqual, parseUnit } from '../../semantics/units';
 
 export interface SampledPole {
   /** Discrete pole z. */
@@ -74,9 +75,26 @@ export function sampledModel(sys: LinearSystem, t: number, hold: HoldMethod, del
   return {
     hold, sampleTime: t, timeUnit: sys.timeUnit, delayFraction,
     n: d.n, m: d.m, p: d.p, A: d.A, B: d.B, C: d.C, D: d.D,
-    states: [...sys.states, ...sys.inputs.map(heldInputName)],
-    stateUnits: [...sys.stateUnits, ...sys.inputUnits],
+    states: held ? [...sys.states, ...sys.inputs.map(heldInputName)] : sys.states.slice(),
+    stateUnits: held ? [...sys.stateUnits, ...sys.inputUnits] : sys.stateUnits.slice(),
     inputs: sys.inputs, inputUnits: sys.inputUnits, outputs: sys.outputs, outputUnits: sys.outputUnits,
     poles, verdict, spectralRadius: rho,
   };
+}
+
+/**
+ * A sample time written by a user: a number in the model's time unit, or with a time unit of its own in
+ * brackets ("30[s]", "0.5 [min]"). Returns the value in the model's time unit, or a one-line message.
+ */
+export function parseSampleTime(text: string, timeUnit: string): number | string {
+  const m = /^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(?:\[([^\]]*)\])?\s*$/.exec(text);
+  if (!m) return `"${text.trim()}" is not a number (optionally with a time unit in brackets, e.g. 30[s])`;
+  const value = Number(m[1]);
+  if (!(value > 0) || !Number.isFinite(value)) return `the sample time must be positive, not "${text.trim()}"`;
+  if (m[2] === undefined) return value;
+  const given = parseUnit(m[2]);
+  const model = parseUnit(timeUnit);
+  if (typeof given === 'string') return `unknown unit "${m[2]}": ${given}`;
+  if (typeof model === 'string' || !dimsEqual(given.dims, model.dims)) return `[${m[2]}] is not a time unit`;
+  return (value * given.scale) / model.scale;
 }
