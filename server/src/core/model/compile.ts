@@ -2,7 +2,7 @@
  * Compiles symbolic expressions to fast JavaScript functions. The generated source is built only from
  * our own expression tree (numbers, slot indices and a fixed set of operators), never from model text.
  */
-import type { Node } from '../algebra/expr';
+import { tableAt, type Node, type TableRef } from '../algebra/expr';
 import { nameTable } from '../names';
 
 const MATH_FN: Readonly<Record<string, string>> = nameTable({
@@ -28,8 +28,8 @@ function kids(n: Node): Node[] {
   }
 }
 
-/** JavaScript for one node from the code of its sub-expressions (in `kids` order). */
-function codeOf(n: Node, c: string[]): string {
+/** JavaScript for one node from the code of its sub-expressions (in `kids` order); `table` numbers a table node's function. */
+function codeOf(n: Node, c: string[], table: (r: TableRef) => number): string {
   switch (n.t) {
     case 'num': return lit(n.v);
     case 'sym': return `v[${n.id}]`;
@@ -48,7 +48,7 @@ function codeOf(n: Node, c: string[]): string {
       }
       return `M.pow(${b},${c[1]})`;
     }
-    case 'fn': return `${MATH_FN[n.fn]}(${c.join(',')})`;
+    case 'fn': return n.tab ? `T[${table(n.tab)}](${c[0]})` : `${MATH_FN[n.fn]}(${c.join(',')})`;
   }
 }
 
@@ -66,6 +66,21 @@ class Emitter {
   private readonly uses = new Map<Node, number>();
   private readonly done = new Map<Node, { code: string; height: number }>();
   temps = 0;
+  /** The table functions the code calls as T[k](x). */
+  readonly tables: ((x: number) => number)[] = [];
+  private readonly table = (r: TableRef): number => {
+    const k = `${r.order}`;
+    let perSource = this.sources.get(r.source);
+    if (!perSource) this.sources.set(r.source, (perSource = new Map()));
+    let i = perSource.get(k);
+    if (i === undefined) {
+      i = this.tables.length;
+      this.tables.push((x) => tableAt(r, x));
+      perSource.set(k, i);
+    }
+    return i;
+  };
+  private readonly sources = new Map<TableRef['source'], Map<string, number>>();
 
   constructor(roots: Node[]) {
     const stack: Node[] = [...roots];
@@ -101,7 +116,7 @@ class Emitter {
         cs.push(d.code);
         if (d.height + 1 > height) height = d.height + 1;
       }
-      let code = codeOf(n, cs);
+      let code = codeOf(n, cs, this.table);
       const shared = (this.uses.get(n) ?? 0) > 1 && ks.length > 0;
       if (shared || height >= INLINE_DEPTH) {
         const w = `w[${this.temps++}]`;
@@ -120,7 +135,7 @@ export function jsOf(n: Node): string {
   const e = new Emitter([n]);
   const body: string[] = [];
   const code = e.expr(n, body);
-  return body.length ? `(()=>{const w=new Float64Array(${e.temps});${body.join('')}return ${code};})()` : code;
+  return body.length ? `(()=>{const w=new Float64Array(${e.temps});${body.join('')}return ${code};})()` : code; // tables appear as T[k]
 }
 
 const sq = (x: number) => x * x;
@@ -158,8 +173,8 @@ export function compileVector(nodes: Node[]): VectorFn {
   const w = new Float64Array(em.temps);
   const parts: VectorFn[] = bodies.map((b) => {
     // eslint-disable-next-line @typescript-eslint/no-implied-eval
-    const factory = new Function('M', 'sq', 'cube', 'pick', 'w', `"use strict";return function(v,out){${b.join('\n')}};`);
-    return factory(Math, sq, cube, pick, w) as VectorFn;
+    const factory = new Function('M', 'sq', 'cube', 'pick', 'w', 'T', `"use strict";return function(v,out){${b.join('\n')}};`);
+    return factory(Math, sq, cube, pick, w, em.tables) as VectorFn;
   });
   if (parts.length === 1) return parts[0];
   return (v, out) => {

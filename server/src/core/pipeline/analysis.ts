@@ -19,6 +19,8 @@ import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 import { unitText } from '../semantics/units';
 import { memoryHost, UNTITLED, type SourceHost } from '../sources';
 import { pushAll } from '../arrays';
+import { buildTables } from '../semantics/tables';
+import type { TableSource } from '../algebra/expr';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;
@@ -45,6 +47,8 @@ export class Analysis {
   readonly families: ReadonlyMap<string, Family>;
   readonly bound: BoundModel;
   readonly units: UnitFacts;
+  /** Lookup tables by name, in SI. */
+  readonly tables: ReadonlyMap<string, TableSource>;
   readonly lowered: LoweredModel;
   readonly structure: StructureResult;
   /** Diagnostics of the static stages (syntax, names, units, structure). */
@@ -67,9 +71,11 @@ export class Analysis {
     this.parsed = elab.file === this.source.file ? this.source : { file: elab.file, diagnostics: [...this.source.diagnostics, ...elab.diagnostics] };
     this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices });
     this.units = checkUnits(this.bound);
-    this.lowered = lower(this.bound, this.units, text);
+    const tables = buildTables(this.bound, sources, uri); // rows in the model or CSV files beside it, read through the host
+    this.tables = tables.tables;
+    this.lowered = lower(this.bound, this.units, text, tables.tables);
     this.structure = checkStructure(this.lowered);
-    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics]);
+    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics]);
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
 

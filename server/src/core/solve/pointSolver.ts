@@ -283,6 +283,16 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   const currentResidual = (): number => currentRatios().reduce((a, b) => (b > a || Number.isNaN(b) ? b : a), 0);
   const x0 = new Float64Array(nU);
   const step = new Float64Array(nU);
+  // Switches (choose, min, max, clamp): a residual that jumps or kinks where a switch flips can fail the
+  // descent test on the very step that crosses to the right branch. A full Newton step that flips a switch
+  // is taken anyway (a bounded number of times), and the next step works on the new branch.
+  const switches = switchNodes(sm.equations.map((q) => q.residual));
+  const signature = (): string => {
+    let sig = '';
+    for (const n of switches) sig += E.evaluate(n.args[0], values) <= E.evaluate(n.args[1], values) ? '1' : '0';
+    return sig;
+  };
+  let switchSteps = 0;
   let it = 0;
   let lambda = 0;
   let converged = false;
@@ -310,10 +320,17 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     const phi0 = phi();
     let alpha = 1;
     let accepted = false;
+    const sig0 = switches.length ? signature() : '';
     for (let ls = 0; ls < 40; ls++) {
       for (let j = 0; j < nU; j++) values[unknowns[j]] = x0[j] + alpha * dy[j] * xs[j];
       const f = evalF();
       if (!Number.isNaN(f) && phi() <= (1 - 1e-4 * alpha) * phi0 + 1e-300) {
+        fmax = f;
+        accepted = true;
+        break;
+      }
+      if (ls === 0 && !Number.isNaN(f) && switches.length && switchSteps < 2 * switches.length + 10 && signature() !== sig0) {
+        switchSteps++;
         fmax = f;
         accepted = true;
         break;
@@ -554,6 +571,25 @@ function domainDiagnostic(lm: LoweredModel, values: Float64Array, point: string,
   return diag('P503', pointSpan, { point, detail: `${when} the equations evaluate to non-finite values${rows.length ? '' : ''}; give guesses ("~") inside the model's domain.` });
 }
 
+/** The pick nodes (switches) of the residuals, each once. */
+function switchNodes(roots: E.Node[]): E.Fn[] {
+  const out: E.Fn[] = [];
+  const seen = new Set<E.Node>();
+  const stack = [...roots];
+  while (stack.length) {
+    const n = stack.pop()!;
+    if (seen.has(n)) continue;
+    seen.add(n);
+    if (n.t === 'fn' && (n.fn === 'pick' || n.fn === 'min' || n.fn === 'max')) {
+      // min(a, b) and max(a, b) switch where a = b, as pick(a, b, …) does
+      out.push(n.fn === 'pick' ? n : { t: 'fn', fn: 'pick', args: [n.args[0], n.args[1], E.ZERO, E.ZERO] });
+    }
+    if (n.t === 'pow') stack.push(n.base, n.exp);
+    else if (n.t !== 'num' && n.t !== 'sym') for (const a of n.args) stack.push(a);
+  }
+  return out;
+}
+
 /** root with the node `target` replaced by `by` (structural rebuild through the folding constructors). */
 function replaceNode(root: E.Node, target: E.Node, by: E.Node): E.Node {
   if (root === target) return by;
@@ -564,7 +600,7 @@ function replaceNode(root: E.Node, target: E.Node, by: E.Node): E.Node {
     case 'add': return E.add(root.args.map((a) => replaceNode(a, target, by)), root.src);
     case 'mul': return E.mul(root.args.map((a) => replaceNode(a, target, by)), root.src);
     case 'pow': return E.pow(replaceNode(root.base, target, by), replaceNode(root.exp, target, by), root.src);
-    case 'fn': return E.fn(root.fn, root.args.map((a) => replaceNode(a, target, by)), root.src);
+    case 'fn': return E.withArgs(root, root.args.map((a) => replaceNode(a, target, by)));
   }
 }
 
