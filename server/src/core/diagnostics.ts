@@ -115,7 +115,7 @@ export const catalogue = {
   P502: { severity: 'error', text: 'Point "{point}" did not converge after {iterations} iterations: the largest residual is {residual} in this equation. Give better guesses ("~") or check the model.' },
   P503: { severity: 'error', text: 'Point "{point}" has no real solution from these guesses: {detail}' },
   P504: { severity: 'error', text: 'Domain error at point "{point}": {detail}.' },
-  P505: { severity: 'warning', text: 'Not differentiable at point "{point}": {detail}. The linear model takes one slope there (0 for abs and sign, one side for min and max) and does not hold for moves both ways: move the point off the kink or smooth the model.' },
+  P505: { severity: 'warning', text: 'Not differentiable at point "{point}": {detail}. The linear model {uses}, so it does not hold for moves both ways: move the point off the kink or smooth the model.' },
   P506: { severity: 'error', text: 'At point "{point}" the steady state is not isolated: {names} can move without changing any equation. Fix one of them with "=".' },
   P507: { severity: 'error', text: 'At point "{point}" {what} cannot be solved from the equations (the Jacobian with respect to {names} is singular: index above 1 or a singular algebraic loop).' },
   P508: { severity: 'error', text: 'At point "{point}" this equation has no unknown left and does not hold: residual {residual}{form}. Change a fixed value or free one with "~".' },
