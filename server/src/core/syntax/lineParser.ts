@@ -183,7 +183,8 @@ export class LineParser {
       else break;
       if (prec < minPrec) break;
       this.i++;
-      const right = op === '^' ? this.powerOperand() : this.expr(rightAssoc ? prec : prec + 1);
+      // conditions (prec < 1): the right operand binds just tighter, so `a and b < c` compares before it joins
+      const right = op === '^' ? this.powerOperand() : this.expr(rightAssoc ? prec : prec < 1 ? prec + 0.01 : prec + 1);
       left = { kind: 'binary', op: op as A.BinaryOp, left, right, span: { start: left.span.start, end: right.span.end } };
     }
     return left;
