@@ -343,6 +343,12 @@ export function withArgs(n: Fn, args: Node[], src: Span | undefined = n.src): No
 
 export function fn(name: FnName, args: Node[], src?: Span): Node {
   if (name === 'clamp') return fn('min', [fn('max', [args[0], args[1]], src), args[2]], src);
+  if (name === 'choose' && args.length >= 3 && args.length % 2 === 1) {
+    // numeric conditions (1 holds, 0 not; model.ts lowers comparisons straight to picks instead)
+    let acc = args[args.length - 1];
+    for (let k = args.length - 3; k >= 0; k -= 2) acc = fn('pick', [args[k], num(0.5), acc, args[k + 1]], src);
+    return acc;
+  }
   if (args.every((a) => a.t === 'num')) {
     const r = applyFn(name, args.map((a) => (a as Num).v));
     if (Number.isFinite(r)) return num(r, src);
@@ -462,7 +468,7 @@ export function derivative(n: Node, id: number): Node {
         case 'max': return fn('pick', [b, a, da, derivative(b, id)]); // b <= a: the max is a
         case 'pick': return fn('pick', [a, b, derivative(n.args[2], id), derivative(n.args[3], id)]);
         case 'table': return n.tab ? mul([tableFn(n.tab.source, n.tab.order + 1, a), da]) : ZERO;
-        case 'choose': case 'clamp': return ZERO; // never nodes: lowered to pick, min and max
+        case 'choose': case 'clamp': return derivative(fn(n.fn, n.args), id); // fn() writes them as pick, min and max
       }
     }
   }

@@ -269,6 +269,7 @@ function build(a: Analysis, si: Float64Array, lin: LinearModel, opts: SymbolicOp
         if (n.fn === 'sign') r = E.num(Math.sign(E.evaluate(n.args[0], si)));
         else if (n.fn === 'abs' && E.evaluate(n.args[0], si) !== 0) r = E.evaluate(n.args[0], si) > 0 ? atPoint(n.args[0]) : E.neg(atPoint(n.args[0]));
         else if (n.fn === 'pick') r = atPoint(E.evaluate(n.args[0], si) <= E.evaluate(n.args[1], si) ? n.args[2] : n.args[3]);
+        else if (n.tab) r = E.num(E.evaluate(n, si)); // a table is data, not a formula: its value (or slope) at the point
         else r = E.withArgs(n, n.args.map(atPoint), undefined);
         break;
     }
