@@ -157,7 +157,13 @@ export class Analysis {
       .filter((l) => l.mode === 'fixed')
       .map((l) => this.text.slice(l.span.start, l.span.end).replace(/#.*$/, '').replace(/\s+/g, ''))
       .sort();
+    // a table read from a file: its rows count too (a changed data sheet makes the block stale)
+    const files = [...this.bound.tables.values()].filter((t) => t.file).map((t) => {
+      const d = this.tables.get(t.name.name)?.table;
+      return d ? `${t.name.name}:${Array.from(d.x).join(',')};${Array.from(d.y).join(',')}` : t.name.name;
+    });
     s = s.replace(/\s+/g, ' ').trim() + '\u0000' + point + '\u0000' + fixed.join('\u0000');
+    if (files.length) s += '\u0000' + files.join('\u0000');
     return fnv1a(s);
   }
 
