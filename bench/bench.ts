@@ -12,7 +12,7 @@ import { runSweep } from '../server/src/core/analysis/sweep';
 import { latencyLines, lspLatency } from './lspLatency';
 import { eigenBench } from './eigen';
 import { massChain, reportBench } from './report';
-import { tankChain, tankChainSympy } from './models';
+import { tankChain, tankChainFamily, tankChainFlatElements, tankChainSympy } from './models';
 import { scaleBench, startupBench } from './scale';
 
 function ms(t0: bigint): number {
@@ -53,6 +53,22 @@ function runOnce(text: string, withEig: boolean): Row {
   return { n: lin.n, parse: tParse, check: tCheck, solve: tSolve, linearize: tLin, eig: tEig, total, a00: lin.A[0] };
 }
 
+/** Family and flat texts of one chain, side by side (median of warm runs, in-process, text to A, B, C, D). */
+function familyBench(n: number): void {
+  if (!(n > 0)) return;
+  const reps = 5;
+  const texts: [string, string][] = [['family', tankChainFamily(n)], ['flat', tankChainFlatElements(n)]];
+  const medians = texts.map(([, text]) => {
+    const rows: Row[] = [];
+    for (let r = 0; r < reps + 1; r++) rows.push(runOnce(text, false));
+    return median(rows.slice(1).map((x) => x.total)); // the first run warms up
+  });
+  console.log(`Chain of ${n} tanks written with a family and written flat (issue 11 target: family ≤ 1.2× flat), text → A,B,C,D, median of ${reps}, ms`);
+  console.log('text     text→ABCD');
+  texts.forEach(([name], k) => console.log(`${name.padEnd(8)} ${medians[k].toFixed(1).padStart(9)}`));
+  console.log(`family/flat ${(medians[0] / medians[1]).toFixed(2)}× ${medians[0] <= 1.2 * medians[1] ? '(within the target)' : '(over the 1.2× target)'}`);
+}
+
 function sympyTime(n: number): number | undefined {
   const py = ['/usr/bin/python3', 'python3'].find((p) => {
     try {
@@ -86,6 +102,9 @@ async function main() {
       `${String(n).padEnd(6)} ${String(rows[0].n).padEnd(7)} ${med('parse').toFixed(1).padStart(6)}  ${med('check').toFixed(1).padStart(17)}  ${med('solve').toFixed(1).padStart(6)}  ${med('linearize').toFixed(1).padStart(9)}  ${med('total').toFixed(1).padStart(9)}  ${Number.isNaN(eig) ? '     -' : eig.toFixed(1).padStart(7)}`,
     );
   }
+  // issue 11 target: the same chain written with a family takes no more than 1.2× the flat text, text to A, B, C, D
+  console.log('');
+  familyBench(Number(process.env.POISE_BENCH_FAMILY ?? 1000));
   // issue 12 targets, whole process (POISE_BENCH_SCALE=1000,10000 to shorten, 0 to skip)
   if (process.env.POISE_BENCH_SCALE !== '0') {
     console.log('');

@@ -8,7 +8,9 @@ import * as fs from 'fs';
 import * as path from 'path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/pipeline/analysis';
+import { analyze, analyzeDocuments } from '../server/src/core/pipeline/analysis';
+import { cliSources } from '../server/src/cli/sourceHost';
+import { makeTable } from '../server/src/core/numeric/interpolate';
 import { compileVector } from '../server/src/core/model/compile';
 import * as E from '../server/src/core/algebra/expr';
 import { compileModel } from '../server/src/core/model/jacobian';
@@ -53,6 +55,10 @@ interface Rule {
 
 // arguments built from the variables so that the chain rule is exercised too: g = x·y + 0.3
 const G = E.add([E.mul([X, Y]), E.num(0.3)]);
+const TABLE = (kind: 'linear' | 'monotone'): E.TableSource => ({
+  name: 'tab', table: makeTable([0, 0.7, 1.5, 2.4, 4], [1, 1.8, 1.2, 3.5, 3.9], kind), outside: 'hold',
+  xUnit: { text: '', scale: 1, offset: 0 }, yUnit: { text: '', scale: 1, offset: 0 }, span: { start: 0, end: 0 },
+});
 
 const rules: Rule[] = [
   { name: 'sum and product', node: E.add([E.mul([E.num(3), X, Y, Y]), E.neg(Z), E.mul([X, Z])]), at: fc.tuple(num(-5, 5), num(-5, 5), num(-5, 5)), wrt: [0, 1, 2] },
@@ -83,6 +89,16 @@ const rules: Rule[] = [
   { name: 'sign', node: E.mul([E.fn('sign', [X]), Y]), at: fc.tuple(away(-3, 3, 0, 0.05), num(-3, 3), num(0, 1)), wrt: [0, 1] },
   { name: 'min', node: E.fn('min', [E.mul([X, Y]), E.add([Z, E.num(0.5)])]), at: fc.tuple(num(-3, 3), num(-3, 3), num(-3, 3)).filter(([x, y, z]) => Math.abs(x * y - z - 0.5) > 0.05), wrt: [0, 1, 2] },
   { name: 'max', node: E.fn('max', [E.mul([X, Y]), E.add([Z, E.num(0.5)])]), at: fc.tuple(num(-3, 3), num(-3, 3), num(-3, 3)).filter(([x, y, z]) => Math.abs(x * y - z - 0.5) > 0.05), wrt: [0, 1, 2] },
+  // clamp away from its limits; choose with a numeric condition (x ≤ y as pick(x, y, 1, 0)) away from the switch
+  { name: 'clamp', node: E.fn('clamp', [E.mul([X, Y]), E.add([Z, E.num(-1)]), E.add([Z, E.num(1)])]), at: fc.tuple(num(-3, 3), num(-3, 3), num(-3, 3)).filter(([x, y, z]) => Math.abs(Math.abs(x * y - z) - 1) > 0.05), wrt: [0, 1, 2] },
+  { name: 'choose', node: E.fn('choose', [E.fn('pick', [X, Y, E.ONE, E.ZERO]), E.mul([X, Y]), E.pow(Z, E.num(2))]), at: fc.tuple(num(-3, 3), num(-3, 3), num(-3, 3)).filter(([x, y]) => Math.abs(x - y) > 0.05), wrt: [0, 1, 2] },
+  // lookup tables (invented rows): value and slope (the slope's derivative checks the second derivative), away from breakpoints
+  ...(['linear', 'monotone'] as const).flatMap((kind) => [0, 1].map((order) => ({
+    name: `table (${kind}, derivative ${order})`,
+    node: E.tableFn(TABLE(kind), order, G),
+    at: fc.tuple(num(-2, 2.5), num(0.5, 2), num(0, 1)).filter(([x, y]) => [0, 0.7, 1.5, 2.4, 4].every((b) => Math.abs(x * y + 0.3 - b) > 0.02)),
+    wrt: [0, 1],
+  }))),
 ];
 
 describe('every differentiation rule against finite differences', () => {
@@ -156,9 +172,9 @@ describe('random expressions', () => {
 
 // ---------------------------------------------------------------- whole models
 
-function modelFiles(): { name: string; text: string }[] {
-  const out: { name: string; text: string }[] = [];
-  for (const f of fs.readdirSync(EXAMPLES).filter((x) => x.endsWith('.poise')).sort()) out.push({ name: `examples/${f}`, text: fs.readFileSync(path.join(EXAMPLES, f), 'utf8') });
+function modelFiles(): { name: string; text: string; file?: string }[] {
+  const out: { name: string; text: string; file?: string }[] = [];
+  for (const f of fs.readdirSync(EXAMPLES).filter((x) => x.endsWith('.poise')).sort()) out.push({ name: `examples/${f}`, text: fs.readFileSync(path.join(EXAMPLES, f), 'utf8'), file: path.join(EXAMPLES, f) });
   const refDir = path.join(REFERENCE, 'models');
   if (fs.existsSync(refDir)) for (const f of fs.readdirSync(refDir).filter((x) => x.endsWith('.poise')).sort()) out.push({ name: `reference/${f}`, text: fs.readFileSync(path.join(refDir, f), 'utf8') });
   // a model of our own with an implicit equation, a coupled second-order pair and a pick of functions
@@ -200,7 +216,8 @@ const models = modelFiles();
 
 /** Points of every model, each solved. */
 const cases = models.flatMap((m) => {
-  const a = analyze(m.text);
+  // examples through a disk host, so files beside them (tables) are read
+  const a = m.file ? analyzeDocuments(cliSources(m.file, m.text), m.file)! : analyze(m.text);
   return a.pointNames.map((p) => ({ label: `${m.name} @ ${p}`, a, point: p }));
 });
 

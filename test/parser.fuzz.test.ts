@@ -60,6 +60,9 @@ const piece = fc.constantFrom(
   '0', '1.5', '2e3', '1e', '.5', '1e400', '[m]', '[m^3/s]', '[degC]', '[L/min]', '[', ']', '[]', '[kW',
   '=', '~', ':', '+', '-', '*', '/', '^', '(', ')', ',', ' ', '  ', '\t', '\n', '\n  ', '\r\n', '# note', '$', '😀', '\u00a0',
   'point p:\n  x = 1\n', 'state x [m]\n', "x' = -x\n", 'sweep s from p:\n  vary u = 1 to 2 steps 3\n', 'linear p digest 1234abcd:\n  at x = 1\n  Δx\' = -Δx\n',
+  // piecewise laws and tables (docs/language.md): comparisons, conditions, choose, clamp, table blocks and files
+  '<', '<=', '>', '>=', 'and', 'or', 'not', 'choose', 'clamp', 'table', 'monotone', 'strict', 'hold', '"', '"cv.csv"',
+  'choose(x > 1 [m], x, 2 [m])', 'clamp(x, 0, 1)', 'table cv [%] to [m^3/h] monotone:\n  0 0\n  50, 2\n  100 -3\n', 'table t [m] to [s] from "t.csv"\n', 'cv(x)',
 );
 const soup = fc.array(piece, { maxLength: 60 }).map((a) => a.join(''));
 

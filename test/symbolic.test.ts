@@ -14,7 +14,8 @@ import * as fs from 'fs';
 import { evaluate as mathEvaluate } from 'mathjs';
 import * as path from 'path';
 import { describe, expect, it } from 'vitest';
-import { analyze, type Analysis } from '../server/src/core/pipeline/analysis';
+import { analyze, type Analysis, analyzeDocuments } from '../server/src/core/pipeline/analysis';
+import { cliSources } from '../server/src/cli/sourceHost';
 import { main, type Io } from '../server/src/cli/main';
 import { formatSymbolic, printFormula, symbolicCoefficient, symbolicEquations, symbolicLinear, type SymbolicLinear } from '../server/src/core/analysis/symbolic';
 import { EXAMPLES } from './helpers/cli';
@@ -59,7 +60,7 @@ function each(s: SymbolicLinear, f: (m: 'A' | 'B' | 'C' | 'D', i: number, j: num
 
 describe('formulas equal the numbers', () => {
   for (const { file, ref } of models) {
-    const a = analyze(fs.readFileSync(file, 'utf8'));
+    const a = analyzeDocuments(cliSources(file, fs.readFileSync(file, 'utf8')), file)!; // files beside the model (tables) read too
     for (const point of a.pointNames) {
       it(`${path.basename(file)} at ${point}`, () => {
         const s = symbolicLinear(a, point)!;
@@ -93,7 +94,8 @@ describe('formulas equal the numbers', () => {
 });
 
 function load(name: string, dir = EXAMPLES): Analysis {
-  return analyze(fs.readFileSync(path.join(dir, name), 'utf8'));
+  const file = path.join(dir, name);
+  return analyzeDocuments(cliSources(file, fs.readFileSync(file, 'utf8')), file)!;
 }
 
 describe('shape of the formulas', () => {

@@ -48,6 +48,12 @@ export const catalogue = {
   P121: { severity: 'error', text: 'A range "first..last" belongs in a declaration (state h[1..n]) or an each header; here write one index.' },
   P122: { severity: 'error', text: 'An output family is defined element by element: write "each i in 1..n:" and under it "output {name}[i] [unit] = …".' },
   P123: { severity: 'error', text: 'Only equations, outputs and nested "each" blocks go inside an each block; move declarations and points out of it.' },
+  // piecewise laws and tables (docs/language.md, "Piecewise laws", "Lookup tables")
+  P130: { severity: 'error', text: 'The quoted text is not closed: add a double quote (") before the end of the line.' },
+  P131: { severity: 'error', text: 'Table "{name}" reads its rows from a file, so it takes no indented rows: remove them or remove the "from" part.' },
+  P132: { severity: 'error', text: 'Table "{name}" cannot be used: {detail}.' },
+  P133: { severity: 'error', text: 'The file "{file}" of table "{name}" cannot be read ({where}): put it beside the model or correct the name.' },
+  P134: { severity: 'error', text: 'Line {line} of "{file}" (table "{name}"): {detail}.' },
 
   // 2xx names
   P201: { severity: 'error', text: 'Unknown name "{name}": declare it (const, input, state, var or output) or fix the spelling.' },
@@ -74,6 +80,10 @@ export const catalogue = {
   P235: { severity: 'error', text: 'A list {…} gives the values of a family\'s elements: use it only for a family constant or a family in a point.' },
   P236: { severity: 'error', text: 'The range of "{name}" is empty ({from}..{to}): the first index must not exceed the last.' },
   P237: { severity: 'error', text: '"{name}" has {size} elements but the list has {count} values: give one value per element, or one value for all.' },
+  P240: { severity: 'error', text: 'Table "{name}" takes one argument, the breakpoint value: write {name}(x), not {got} argument(s).' },
+  P241: { severity: 'error', text: 'choose takes a condition and a value for each case and a last value for all other cases (choose(c1, v1, c2, v2, …, otherwise)), so an odd number of arguments from 3, not {got}.' },
+  P242: { severity: 'error', text: '"{name}" is a table: call it with the breakpoint value, e.g. {name}(x).' },
+  P243: { severity: 'error', text: '"{name}" is already declared as {kind}: rename the table or the other declaration.' },
 
   // 3xx units
   P301: { severity: 'error', text: 'Unknown unit "{unit}": {detail}' },
@@ -87,6 +97,10 @@ export const catalogue = {
   P309: { severity: 'error', text: 'Output "{name}" is declared in {declared} but its expression is in {actual}.' },
   P310: { severity: 'error', text: 'Time unit must be a unit of time, not {unit}.' },
   P311: { severity: 'error', text: 'The number in the unit bracket [{unit}] does not make a unit: {detail}.' },
+  P320: { severity: 'error', text: 'A condition ({what}) stands where a value is expected: a condition only selects a case, as the first argument of choose (choose(x > 1 [m], a, b)).' },
+  P321: { severity: 'error', text: 'A condition is expected here (a comparison such as x > 1 [m], combined with and, or, not), not a value.' },
+  P322: { severity: 'error', text: 'The two sides of the comparison have different units: {left} and {right}.' },
+  P323: { severity: 'error', text: 'Table "{name}" takes breakpoints in {declared}, but the argument is in {actual}.' },
 
   // 4xx structure
   P401: { severity: 'error', text: 'The model is unbalanced: {equations} equation(s) for {unknowns} unknown(s) ({detail}). {advice}' },
@@ -107,7 +121,7 @@ export const catalogue = {
   P502: { severity: 'error', text: 'Point "{point}" did not converge after {iterations} iterations: the largest residual is {residual} in this equation. Give better guesses ("~") or check the model.' },
   P503: { severity: 'error', text: 'Point "{point}" has no real solution from these guesses: {detail}' },
   P504: { severity: 'error', text: 'Domain error at point "{point}": {detail}.' },
-  P505: { severity: 'warning', text: 'Not differentiable at point "{point}": {detail}. The linear model takes one slope there (0 for abs and sign, one side for min and max) and does not hold for moves both ways: move the point off the kink or smooth the model.' },
+  P505: { severity: 'warning', text: 'Not differentiable at point "{point}": {detail}. The linear model {uses}, so it does not hold for moves both ways: move the point off the kink or smooth the model.' },
   P506: { severity: 'error', text: 'At point "{point}" the steady state is not isolated: {names} can move without changing any equation. Fix one of them with "=".' },
   P507: { severity: 'error', text: 'At point "{point}" {what} cannot be solved from the equations (the Jacobian with respect to {names} is singular: index above 1 or a singular algebraic loop).' },
   P508: { severity: 'error', text: 'At point "{point}" this equation has no unknown left and does not hold: residual {residual}{form}. Change a fixed value or free one with "~".' },
@@ -116,6 +130,8 @@ export const catalogue = {
   P511: { severity: 'error', text: 'At point "{point}" the linear model has {what} in {entry}, the row this equation gives: choose units (or a time unit) that bring the model\'s numbers nearer 1, or check the equation for a division by a tiny value.' },
   P512: { severity: 'error', text: 'The value of "{name}" in point "{point}" is not a finite number ({value}): change the expression so that it stays within about 1e-308 to 1e308 in magnitude, or write it with a larger unit.' },
   P513: { severity: 'error', text: 'At point "{point}" the dynamics overflow double precision ({what} is not finite): choose units, and a time unit near the fastest time constant, that bring the model\'s numbers nearer 1.' },
+  P520: { severity: 'warning', text: 'At point "{point}" table "{name}" is read at {value}, outside its breakpoints {from} … {to}: it holds its end value {held} there, and the linear model takes slope 0 (no change of the table\'s value). Extend the table or move the point.' },
+  P521: { severity: 'error', text: 'At point "{point}" table "{name}" is read at {value}, outside its breakpoints {from} … {to}, and the table is "strict": extend the table, move the point, or write "hold" in its header.' },
 
   // 6xx generated blocks and sweeps
   P601: { severity: 'warning', text: 'Linear block "{name}" is stale: the model or point changed since it was generated. Regenerate it.' },

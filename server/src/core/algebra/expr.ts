@@ -7,6 +7,7 @@
 import { nameTable } from '../names';
 import type { Span } from '../text';
 import { formatNumber } from '../numbers';
+import { tableDerivative, type Table1D } from '../numeric/interpolate';
 
 /** Numbers are written by the one formatter of the core (core/numbers.ts). */
 export { formatNumber };
@@ -17,20 +18,47 @@ export interface Sym { t: 'sym'; id: number; src?: Span }
 export interface Add { t: 'add'; args: Node[]; src?: Span }
 export interface Mul { t: 'mul'; args: Node[]; src?: Span }
 export interface Pow { t: 'pow'; base: Node; exp: Node; src?: Span }
-export interface Fn { t: 'fn'; fn: FnName; args: Node[]; src?: Span }
+export interface Fn { t: 'fn'; fn: FnName; args: Node[]; src?: Span; /** fn 'table' only: which table and derivative. */ tab?: TableRef }
+
+/** A lookup table as a function of one argument (SI in, SI out), shared by the nodes of its derivatives. */
+export interface TableSource {
+  name: string;
+  /** Breakpoints and values in SI. */
+  table: Table1D;
+  outside: 'hold' | 'strict';
+  /** Declared units of the breakpoints and values: value_SI = value*scale + offset. */
+  xUnit: { text: string; scale: number; offset: number };
+  yUnit: { text: string; scale: number; offset: number };
+  /** The table's declaration. */
+  span: Span;
+}
+
+/** A table node: the source and the order of derivative the node computes (0: the value). */
+export interface TableRef { source: TableSource; order: number }
+
+/** The k-th derivative of a table at q (SI). */
+export const tableAt = (r: TableRef, q: number): number => tableDerivative(r.source.table, q, r.order);
 
 export type FnName =
   | 'sqrt' | 'exp' | 'log' | 'log10' | 'sin' | 'cos' | 'tan' | 'asin' | 'acos' | 'atan' | 'atan2'
   | 'sinh' | 'cosh' | 'tanh' | 'abs' | 'sign' | 'min' | 'max' | 'hypot'
-  /** pick(a, b, p, q) = a <= b ? p : q — derivative of min/max. */
-  | 'pick';
+  /** choose(c1, v1, …, otherwise) and clamp(x, lo, hi): lowered to pick, min and max, never nodes. */
+  | 'choose' | 'clamp'
+  /** pick(a, b, p, q) = a <= b ? p : q — derivative of min/max, and the switch of choose. */
+  | 'pick'
+  /** A lookup table (the node's `tab`) of one argument. */
+  | 'table';
 
-export const BUILTIN_ARITY: Readonly<Record<Exclude<FnName, 'pick'>, number>> = nameTable({
+/** Functions a model may call by name. */
+export type BuiltinName = Exclude<FnName, 'pick' | 'table'>;
+
+/** Number of arguments; choose takes any odd number from 3 (the binder checks it). */
+export const BUILTIN_ARITY: Readonly<Record<BuiltinName, number>> = nameTable({
   sqrt: 1, exp: 1, log: 1, log10: 1, sin: 1, cos: 1, tan: 1, asin: 1, acos: 1, atan: 1, atan2: 2,
-  sinh: 1, cosh: 1, tanh: 1, abs: 1, sign: 1, min: 2, max: 2, hypot: 2,
+  sinh: 1, cosh: 1, tanh: 1, abs: 1, sign: 1, min: 2, max: 2, hypot: 2, choose: 3, clamp: 3,
 });
 
-export const BUILTIN_DOC: Readonly<Record<Exclude<FnName, 'pick'>, string>> = nameTable({
+export const BUILTIN_DOC: Readonly<Record<BuiltinName, string>> = nameTable({
   sqrt: 'square root; argument must be ≥ 0 (not differentiable at 0)',
   exp: 'exponential e^x; argument dimensionless',
   log: 'natural logarithm; argument dimensionless and > 0',
@@ -50,6 +78,8 @@ export const BUILTIN_DOC: Readonly<Record<Exclude<FnName, 'pick'>, string>> = na
   min: 'min(a, b): the smaller; a and b in the same unit (not differentiable where they tie)',
   max: 'max(a, b): the larger; a and b in the same unit (not differentiable where they tie)',
   hypot: 'hypot(a, b) = sqrt(a^2 + b^2); a and b in the same unit',
+  choose: 'choose(c1, v1, c2, v2, …, otherwise): v1 where condition c1 holds, else v2 where c2 holds, …, else the last value; values in one unit (not differentiable where a condition switches)',
+  clamp: 'clamp(x, lo, hi): x held within lo … hi; all three in one unit (not differentiable at the limits)',
 });
 
 export const num = (v: number, src?: Span): Num => (src ? { t: 'num', v, src } : { t: 'num', v });
@@ -69,10 +99,23 @@ export function key(n: Node): string {
     case 'add': k = `+(${n.args.map(key).join(',')})`; break;
     case 'mul': k = `*(${n.args.map(key).join(',')})`; break;
     case 'pow': k = `^(${key(n.base)},${key(n.exp)})`; break;
-    case 'fn': k = `${n.fn}(${n.args.map(key).join(',')})`; break;
+    case 'fn': k = `${n.tab ? `${n.fn}#${tableId(n.tab.source)}'${n.tab.order}` : n.fn}(${n.args.map(key).join(',')})`; break;
   }
   keyCache.set(n, k);
   return k;
+}
+
+/** A number per table source, for keys and hashes (a memo keyed by the immutable source). */
+const tableIds = new WeakMap<TableSource, number>();
+function tableId(s: TableSource): number {
+  let id = tableIds.get(s);
+  if (id === undefined) tableIds.set(s, (id = hashText(s.name) ^ s.table.x.length));
+  return id;
+}
+function hashText(t: string): number {
+  let h = 0x811c9dc5;
+  for (let i = 0; i < t.length; i++) h = Math.imul(h ^ t.charCodeAt(i), 0x01000193);
+  return h | 0;
 }
 
 const hashCache = new WeakMap<Node, number>();
@@ -98,6 +141,7 @@ export function hash(n: Node): number {
     case 'pow': h = mix(mix(3, hash(n.base)), hash(n.exp)); break;
     default: {
       let code = n.t === 'add' ? 4 : n.t === 'mul' ? 5 : fnCode(n.fn);
+      if (n.t === 'fn' && n.tab) code = mix(mix(code, tableId(n.tab.source)), n.tab.order);
       for (const a of n.args) code = mix(code, hash(a));
       h = code;
     }
@@ -117,6 +161,7 @@ export function same(a: Node, b: Node): boolean {
     default: {
       const bb = b as Add | Mul | Fn;
       if (a.t === 'fn' && a.fn !== (bb as Fn).fn) return false;
+      if (a.t === 'fn' && (a.tab || (bb as Fn).tab) && !(a.tab && (bb as Fn).tab && a.tab.source === (bb as Fn).tab!.source && a.tab.order === (bb as Fn).tab!.order)) return false;
       if (a.args.length !== bb.args.length) return false;
       for (let i = 0; i < a.args.length; i++) if (!same(a.args[i], bb.args[i])) return false;
       return true;
@@ -263,15 +308,47 @@ const FOLD: Readonly<Record<FnName, (...a: number[]) => number>> = nameTable({
   asin: Math.asin, acos: Math.acos, atan: Math.atan, atan2: Math.atan2, sinh: Math.sinh, cosh: Math.cosh,
   tanh: Math.tanh, abs: Math.abs, sign: Math.sign, min: Math.min, max: Math.max, hypot: Math.hypot,
   pick: (a: number, b: number, p: number, q: number) => (a <= b ? p : q),
+  clamp: (x: number, lo: number, hi: number) => Math.min(Math.max(x, lo), hi),
+  // conditions are 1 (holds) or 0 here (constantValue); the last value is for all other cases
+  choose: (...a: number[]) => {
+    for (let k = 0; k + 1 < a.length; k += 2) if (a[k] > 0.5) return a[k + 1];
+    return a[a.length - 1];
+  },
+  table: () => NaN, // a table node is evaluated with its `tab` (tableAt)
 });
 
-/** A built-in function of (at most four) numbers, without spreading them into the call. */
+/** A built-in function of numbers, without spreading up to four of them into the call. */
 export function applyFn(name: FnName, a: number[]): number {
   const f = FOLD[name];
+  if (a.length > 4) return f.apply(null, a);
   return a.length === 1 ? f(a[0]) : a.length === 2 ? f(a[0], a[1]) : f(a[0], a[1], a[2], a[3]);
 }
 
+/** A table node: the `order`-th derivative of table `source` at `arg`. */
+export function tableFn(source: TableSource, order: number, arg: Node, src?: Span): Node {
+  if (source.table.kind === 'linear' ? order > 1 : order > 3) return ZERO;
+  if (arg.t === 'num') {
+    const r = tableAt({ source, order }, arg.v);
+    if (Number.isFinite(r)) return num(r, src);
+  }
+  const n: Fn = { t: 'fn', fn: 'table', args: [arg], tab: { source, order } };
+  if (src) n.src = src;
+  return n;
+}
+
+/** The node rebuilt with other arguments (through the folding constructors; a table keeps its table). */
+export function withArgs(n: Fn, args: Node[], src: Span | undefined = n.src): Node {
+  return n.tab ? tableFn(n.tab.source, n.tab.order, args[0], src) : fn(n.fn, args, src);
+}
+
 export function fn(name: FnName, args: Node[], src?: Span): Node {
+  if (name === 'clamp') return fn('min', [fn('max', [args[0], args[1]], src), args[2]], src);
+  if (name === 'choose' && args.length >= 3 && args.length % 2 === 1) {
+    // numeric conditions (1 holds, 0 not; model.ts lowers comparisons straight to picks instead)
+    let acc = args[args.length - 1];
+    for (let k = args.length - 3; k >= 0; k -= 2) acc = fn('pick', [args[k], num(0.5), acc, args[k + 1]], src);
+    return acc;
+  }
   if (args.every((a) => a.t === 'num')) {
     const r = applyFn(name, args.map((a) => (a as Num).v));
     if (Number.isFinite(r)) return num(r, src);
@@ -300,7 +377,7 @@ export function evaluate(n: Node, v: ArrayLike<number>): number {
       return s;
     }
     case 'pow': return powValue(evaluate(n.base, v), evaluate(n.exp, v));
-    case 'fn': return applyFn(n.fn, n.args.map((a) => evaluate(a, v)));
+    case 'fn': return n.tab ? tableAt(n.tab, evaluate(n.args[0], v)) : applyFn(n.fn, n.args.map((a) => evaluate(a, v)));
   }
 }
 
@@ -390,6 +467,8 @@ export function derivative(n: Node, id: number): Node {
         case 'min': return fn('pick', [a, b, da, derivative(b, id)]);
         case 'max': return fn('pick', [b, a, da, derivative(b, id)]); // b <= a: the max is a
         case 'pick': return fn('pick', [a, b, derivative(n.args[2], id), derivative(n.args[3], id)]);
+        case 'table': return n.tab ? mul([tableFn(n.tab.source, n.tab.order + 1, a), da]) : ZERO;
+        case 'choose': case 'clamp': return derivative(fn(n.fn, n.args), id); // fn() writes them as pick, min and max
       }
     }
   }
@@ -403,7 +482,7 @@ export function substitute(n: Node, f: (id: number) => Node | undefined): Node {
     case 'add': return add(n.args.map((a) => substitute(a, f)), n.src);
     case 'mul': return mul(n.args.map((a) => substitute(a, f)), n.src);
     case 'pow': return pow(substitute(n.base, f), substitute(n.exp, f), n.src);
-    case 'fn': return fn(n.fn, n.args.map((a) => substitute(a, f)), n.src);
+    case 'fn': return withArgs(n, n.args.map((a) => substitute(a, f)));
   }
 }
 
@@ -447,7 +526,7 @@ function pr(n: Node, o: PrintOptions): [string, number] {
       return [s, n.v < 0 ? PREC.neg : PREC.atom];
     }
     case 'sym': return [o.name(n.id), PREC.atom];
-    case 'fn': return [`${n.fn === 'pick' ? 'pick' : n.fn}(${n.args.map((a) => pr(a, o)[0]).join(', ')})`, PREC.atom];
+    case 'fn': return [`${n.tab ? n.tab.source.name + "'".repeat(n.tab.order) : n.fn}(${n.args.map((a) => pr(a, o)[0]).join(', ')})`, PREC.atom];
     case 'pow': {
       if (n.exp.t === 'num' && n.exp.v < 0) return prMul([n], o);
       if (n.exp.t === 'num' && n.exp.v === 0.5) return [`sqrt(${pr(n.base, o)[0]})`, PREC.atom];

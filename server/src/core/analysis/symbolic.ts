@@ -122,7 +122,7 @@ export function factorCommon(n: E.Node): E.Node {
     case 'num':
     case 'sym': return n;
     case 'pow': return E.pow(factorCommon(n.base), factorCommon(n.exp));
-    case 'fn': return E.fn(n.fn, n.args.map(factorCommon));
+    case 'fn': return E.withArgs(n, n.args.map(factorCommon), undefined);
     case 'mul': return E.mul(n.args.map(factorCommon));
     case 'add': {
       const terms = n.args.map(factorCommon);
@@ -166,7 +166,7 @@ export function tidyNumbers(n: E.Node): E.Node {
     }
     case 'sym': return n;
     case 'pow': return E.pow(tidyNumbers(n.base), tidyNumbers(n.exp));
-    case 'fn': return E.fn(n.fn, n.args.map(tidyNumbers));
+    case 'fn': return E.withArgs(n, n.args.map(tidyNumbers), undefined);
     case 'mul': return E.mul(n.args.map(tidyNumbers));
     case 'add': return E.add(n.args.map(tidyNumbers));
   }
@@ -272,7 +272,8 @@ function build(a: Analysis, pointValues: Float64Array, lin: LinearModel, opts: S
         if (n.fn === 'sign') r = E.num(Math.sign(E.evaluate(n.args[0], si)));
         else if (n.fn === 'abs' && E.evaluate(n.args[0], si) !== 0) r = E.evaluate(n.args[0], si) > 0 ? atPoint(n.args[0]) : E.neg(atPoint(n.args[0]));
         else if (n.fn === 'pick') r = atPoint(E.evaluate(n.args[0], si) <= E.evaluate(n.args[1], si) ? n.args[2] : n.args[3]);
-        else r = E.fn(n.fn, n.args.map(atPoint));
+        else if (n.tab) r = E.num(E.evaluate(n, si)); // a table is data, not a formula: its value (or slope) at the point
+        else r = E.withArgs(n, n.args.map(atPoint), undefined);
         break;
     }
     memo.set(k, r);

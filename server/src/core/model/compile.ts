@@ -2,7 +2,7 @@
  * Compiles symbolic expressions to fast JavaScript functions. The generated source is built only from
  * our own expression tree (numbers, slot indices and a fixed set of operators), never from model text.
  */
-import type { Node } from '../algebra/expr';
+import { tableAt, type Node, type TableRef } from '../algebra/expr';
 import { nameTable } from '../names';
 
 const MATH_FN: Readonly<Record<string, string>> = nameTable({
@@ -28,8 +28,8 @@ function kids(n: Node): Node[] {
   }
 }
 
-/** JavaScript for one node from the code of its sub-expressions (in `kids` order). */
-function codeOf(n: Node, c: string[]): string {
+/** JavaScript for one node from the code of its sub-expressions (in `kids` order); `table` numbers a table node's function. */
+function codeOf(n: Node, c: string[], table: (r: TableRef) => number): string {
   switch (n.t) {
     case 'num': return lit(n.v);
     case 'sym': return `v[${n.id}]`;
@@ -48,7 +48,7 @@ function codeOf(n: Node, c: string[]): string {
       }
       return `M.pow(${b},${c[1]})`;
     }
-    case 'fn': return `${MATH_FN[n.fn]}(${c.join(',')})`;
+    case 'fn': return n.tab ? `T[${table(n.tab)}](${c[0]})` : `${MATH_FN[n.fn]}(${c.join(',')})`;
   }
 }
 
@@ -77,6 +77,21 @@ class Emitter {
   private readonly code: (string | undefined)[] = [];
   private readonly height: number[] = [];
   temps = 0;
+  /** The table functions the code calls as T[k](x). */
+  readonly tables: ((x: number) => number)[] = [];
+  private readonly table = (r: TableRef): number => {
+    const k = `${r.order}`;
+    let perSource = this.sources.get(r.source);
+    if (!perSource) this.sources.set(r.source, (perSource = new Map()));
+    let i = perSource.get(k);
+    if (i === undefined) {
+      i = this.tables.length;
+      this.tables.push((x) => tableAt(r, x));
+      perSource.set(k, i);
+    }
+    return i;
+  };
+  private readonly sources = new Map<TableRef['source'], Map<string, number>>();
 
   constructor(roots: Node[]) {
     const stack: Node[] = [...roots];
@@ -105,7 +120,7 @@ class Emitter {
 
   /** The code of `root`; statements for the temporaries it needs first are appended to `body`. */
   expr(root: Node, body: string[]): string {
-    if (root.t === 'num' || root.t === 'sym') return codeOf(root, []);
+    if (root.t === 'num' || root.t === 'sym') return codeOf(root, [], this.table);
     const { nodes, kid, kidStart, code, height, uses } = this;
     const r = this.index.get(root)!;
     if (code[r] !== undefined) return code[r]!;
@@ -142,7 +157,7 @@ class Emitter {
         for (let k = k0; k < k1; k++) {
           const j = kid[k];
           if (j < 0) {
-            cs.push(codeOf(ks[k - k0], []));
+            cs.push(codeOf(ks[k - k0], [], this.table));
             if (h < 1) h = 1;
           } else {
             cs.push(code[j]!);
@@ -150,7 +165,7 @@ class Emitter {
           }
         }
       }
-      let c = codeOf(n, cs);
+      let c = codeOf(n, cs, this.table);
       if ((uses[i] > 1 && k1 > k0) || h >= INLINE_DEPTH) {
         const w = `w[${this.temps++}]`;
         body.push(`${w}=${c};`);
@@ -169,7 +184,7 @@ export function jsOf(n: Node): string {
   const e = new Emitter([n]);
   const body: string[] = [];
   const code = e.expr(n, body);
-  return body.length ? `(()=>{const w=new Float64Array(${e.temps});${body.join('')}return ${code};})()` : code;
+  return body.length ? `(()=>{const w=new Float64Array(${e.temps});${body.join('')}return ${code};})()` : code; // tables appear as T[k]
 }
 
 const sq = (x: number) => x * x;
@@ -207,8 +222,8 @@ export function compileVector(nodes: Node[]): VectorFn {
   const w = new Float64Array(em.temps);
   const parts: VectorFn[] = bodies.map((b) => {
     // eslint-disable-next-line @typescript-eslint/no-implied-eval
-    const factory = new Function('M', 'sq', 'cube', 'pick', 'w', `"use strict";return function(v,out){${b.join('\n')}};`);
-    return factory(Math, sq, cube, pick, w) as VectorFn;
+    const factory = new Function('M', 'sq', 'cube', 'pick', 'w', 'T', `"use strict";return function(v,out){${b.join('\n')}};`);
+    return factory(Math, sq, cube, pick, w, em.tables) as VectorFn;
   });
   if (parts.length === 1) return parts[0];
   return (v, out) => {

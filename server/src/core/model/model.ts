@@ -12,6 +12,7 @@ import { hasName } from '../names';
 import { constantValue, literalSI, type UnitFacts } from '../semantics/unitChecker';
 import { ONE_UNIT, type UnitInfo } from '../semantics/units';
 import { pushAll } from '../arrays';
+import { isCondition } from '../semantics/conditions';
 
 export type SlotKind = 'const' | 'state' | 'deriv' | 'input' | 'var' | 'output';
 
@@ -64,7 +65,7 @@ export interface LoweredModel {
 
 const primeName = (n: string, k: number) => n + "'".repeat(k);
 
-export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
+export function lower(m: BoundModel, u: UnitFacts, text: string, tables: ReadonlyMap<string, E.TableSource> = new Map()): LoweredModel {
   const slots: Slot[] = [];
   const index = new Map<ModelSymbol, number[]>();
   const tscale = u.time.scale;
@@ -118,15 +119,42 @@ export function lower(m: BoundModel, u: UnitFacts, text: string): LoweredModel {
         const id = slotOf(s, e.primes);
         return id < 0 ? E.num(NaN, e.span) : E.sym(id, e.span);
       }
-      case 'unary': return e.op === '-' ? E.neg(low(e.arg), e.span) : low(e.arg);
-      case 'binary': return lowChain(e);
+      case 'unary': return e.op === '-' ? E.neg(low(e.arg), e.span) : e.op === 'not' ? E.num(NaN, e.span) : low(e.arg);
+      case 'binary': return isCondition(e) ? E.num(NaN, e.span) : lowChain(e); // a condition as a value: P320 reported
       case 'call': {
+        const table = tables.get(e.fn);
+        if (table && !hasName(E.BUILTIN_ARITY, e.fn)) return e.args.length === 1 ? E.tableFn(table, 0, low(e.args[0]), e.span) : E.num(NaN, e.span);
         if (!hasName(E.BUILTIN_ARITY, e.fn)) return E.num(NaN, e.span);
+        if (e.fn === 'choose') {
+          // choose(c1, v1, c2, v2, …, otherwise): from the last case back to the first
+          if (e.args.length < 3 || e.args.length % 2 === 0) return E.num(NaN, e.span);
+          let acc = low(e.args[e.args.length - 1]);
+          for (let k = e.args.length - 3; k >= 0; k -= 2) acc = select(e.args[k], low(e.args[k + 1]), acc);
+          return acc;
+        }
         return E.fn(e.fn as E.FnName, e.args.map(low), e.span);
       }
       case 'list':
       case 'reduce': // replaced by the elaborator; left only after an error it reported
       case 'error': return E.num(NaN, e.span);
+    }
+  };
+
+  /**
+   * `yes` where condition c holds, else `no`: one pick (a <= b ? p : q) per comparison, nested for and, or
+   * and not, so a condition never becomes a number; the pick's span is the comparison's (P505 ranges).
+   */
+  const select = (c: A.Expr, yes: E.Node, no: E.Node): E.Node => {
+    if (c.kind === 'unary' && c.op === 'not') return select(c.arg, no, yes);
+    if (c.kind !== 'binary') return E.num(NaN, c.span);
+    switch (c.op) {
+      case 'and': return select(c.left, select(c.right, yes, no), no);
+      case 'or': return select(c.left, yes, select(c.right, yes, no));
+      case '<=': return E.fn('pick', [low(c.left), low(c.right), yes, no], c.span);
+      case '<': return E.fn('pick', [low(c.right), low(c.left), no, yes], c.span);
+      case '>': return E.fn('pick', [low(c.left), low(c.right), no, yes], c.span);
+      case '>=': return E.fn('pick', [low(c.right), low(c.left), yes, no], c.span);
+      default: return E.num(NaN, c.span);
     }
   };
 

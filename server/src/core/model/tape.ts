@@ -6,7 +6,7 @@
  * large model whose Jacobian is evaluated a handful of times (a point, a linearization) is cheaper
  * interpreted; `lazyVector` compiles once it has been called often (sweeps, simulations).
  */
-import type { FnName, Node } from '../algebra/expr';
+import { tableAt, type FnName, type Node } from '../algebra/expr';
 import { compileVector, type VectorFn } from './compile';
 import { nameTable } from '../names';
 
@@ -18,6 +18,10 @@ const MATH: Readonly<Record<FnName, (...a: number[]) => number>> = nameTable({
   sqrt: Math.sqrt, exp: Math.exp, log: Math.log, log10: Math.log10, sin: Math.sin, cos: Math.cos, tan: Math.tan,
   asin: Math.asin, acos: Math.acos, atan: Math.atan, atan2: Math.atan2, sinh: Math.sinh, cosh: Math.cosh, tanh: Math.tanh,
   abs: Math.abs, sign: Math.sign, min: Math.min, max: Math.max, hypot: Math.hypot, pick,
+  // lowered before they reach a tape (choose/clamp to pick/min/max); a table node calls its own interpolant
+  clamp: (x: number, lo: number, hi: number) => Math.min(Math.max(x, lo), hi),
+  choose: () => NaN,
+  table: () => NaN,
 });
 
 const isLeaf = (n: Node) => n.t === 'num' || n.t === 'sym';
@@ -78,8 +82,13 @@ export class Tape {
         default: {
           const fn = (n as { fn: FnName }).fn;
           const args = (n as { args: Node[] }).args;
-          let k = fnIndex.get(fn);
-          if (k === undefined) {
+          const tab = n.t === 'fn' ? n.tab : undefined;
+          let k = tab ? undefined : fnIndex.get(fn);
+          if (tab) {
+            // a lookup table (or one of its derivatives): the same interpolant the generated code calls
+            k = this.fns.length;
+            this.fns.push((x: number) => tableAt(tab, x));
+          } else if (k === undefined) {
             fnIndex.set(fn, (k = this.fns.length));
             this.fns.push(MATH[fn]);
           }

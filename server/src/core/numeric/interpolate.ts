@@ -141,6 +141,25 @@ export function tableSlope(t: Table1D, q: number): number {
 }
 
 /**
+ * The k-th derivative of the table at q as the model's expressions use it: k = 0 the value, k = 1 the slope
+ * the linear model uses ({@link tableSlope}), k = 2 and 3 the second and third derivative on the interval that
+ * holds q (the one to the right at a breakpoint); 0 outside the range and beyond the interpolant's degree.
+ */
+export function tableDerivative(t: Table1D, q: number, k: number): number {
+  if (k === 0) return tableValue(t, q);
+  if (k === 1) return tableSlope(t, q);
+  const n = t.x.length;
+  if (t.kind === 'linear' || k > 3 || !(q >= t.x[0] && q <= t.x[n - 1])) return q === q ? 0 : NaN;
+  const j = q >= t.x[n - 1] ? n - 2 : interval(t.x, q);
+  const h = t.x[j + 1] - t.x[j];
+  const d = t.d!;
+  const dy = (t.y[j] - t.y[j + 1]) / h;
+  if (k === 3) return (12 * dy + 6 * d[j] + 6 * d[j + 1]) / (h * h);
+  const s = (q - t.x[j]) / h;
+  return ((12 * s - 6) * dy + (6 * s - 4) * d[j] + (6 * s - 2) * d[j + 1]) / h;
+}
+
+/**
  * Reads a table from CSV text: two numeric columns (breakpoint, value); a first line that is not numeric
  * is a header; blank lines and lines starting with `#` are skipped. Returns the columns, or the line
  * number and sentence of the first problem.

@@ -22,6 +22,8 @@ import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 import { unitText } from '../semantics/units';
 import { memoryHost, UNTITLED, type SourceHost } from '../sources';
 import { pushAll } from '../arrays';
+import { buildTables } from '../semantics/tables';
+import type { TableSource } from '../algebra/expr';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;
@@ -48,6 +50,8 @@ export class Analysis {
   readonly families: ReadonlyMap<string, Family>;
   readonly bound: BoundModel;
   readonly units: UnitFacts;
+  /** Lookup tables by name, in SI. */
+  readonly tables: ReadonlyMap<string, TableSource>;
   readonly lowered: LoweredModel;
   readonly structure: StructureResult;
   /** A constrained (index above 1) model's reduction by Pantelides' algorithm; states are chosen per point. */
@@ -72,13 +76,15 @@ export class Analysis {
     this.parsed = elab.file === this.source.file ? this.source : { file: elab.file, diagnostics: [...this.source.diagnostics, ...elab.diagnostics] };
     this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices });
     this.units = checkUnits(this.bound);
-    this.lowered = lower(this.bound, this.units, text);
+    const tables = buildTables(this.bound, sources, uri); // rows in the model or CSV files beside it, read through the host
+    this.tables = tables.tables;
+    this.lowered = lower(this.bound, this.units, text, tables.tables);
     // a constrained model (index above 1) is reduced unless naming errors already explain the structure
     const checked = checkStructure(this.lowered);
     const reduced = this.bound.diagnostics.some((d) => d.severity === 'error') ? { structure: checked, plan: undefined } : reduceStructure(this.lowered, checked);
     this.structure = reduced.structure;
     this.indexPlan = reduced.plan;
-    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics]);
+    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics]);
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
 
@@ -178,7 +184,13 @@ export class Analysis {
       .filter((l) => l.mode === 'fixed')
       .map((l) => this.text.slice(l.span.start, l.span.end).replace(/#.*$/, '').replace(/\s+/g, ''))
       .sort();
+    // a table read from a file: its rows count too (a changed data sheet makes the block stale)
+    const files = [...this.bound.tables.values()].filter((t) => t.file).map((t) => {
+      const d = this.tables.get(t.name.name)?.table;
+      return d ? `${t.name.name}:${Array.from(d.x).join(',')};${Array.from(d.y).join(',')}` : t.name.name;
+    });
     s = s.replace(/\s+/g, ' ').trim() + '\u0000' + point + '\u0000' + fixed.join('\u0000');
+    if (files.length) s += '\u0000' + files.join('\u0000');
     return fnv1a(s);
   }
 

@@ -5,8 +5,11 @@
  * out; each statement is printed on one line. Iterative, so long sums and deep expressions print safely.
  */
 import type * as A from '../syntax/ast';
+import { PREC_AND, PREC_COMPARE, PREC_OR } from '../syntax/lineParser';
 
-const PREC: Record<A.BinaryOp, number> = { '+': 1, '-': 1, '*': 2, '/': 2, '^': 4 };
+const PREC: Record<A.BinaryOp, number> = {
+  '+': 1, '-': 1, '*': 2, '/': 2, '^': 4, or: PREC_OR, and: PREC_AND, '<': PREC_COMPARE, '<=': PREC_COMPARE, '>': PREC_COMPARE, '>=': PREC_COMPARE,
+};
 
 function unitText(u: A.UnitRef | undefined): string {
   return u ? ` [${u.text}]` : '';
@@ -36,10 +39,12 @@ export function exprText(root: A.Expr): string {
         out.push('?');
         break;
       case 'unary': {
-        const wrap = ctx > 1;
+        const not = e.op === 'not';
+        const wrap = not ? ctx > PREC_COMPARE : ctx > 1;
         if (wrap) stack.push(')');
-        stack.push({ e: e.arg, ctx: 3 });
-        stack.push(wrap ? `(${e.op}` : e.op);
+        stack.push({ e: e.arg, ctx: not ? PREC_COMPARE : 3 });
+        const op = not ? 'not ' : e.op;
+        stack.push(wrap ? `(${op}` : op);
         break;
       }
       case 'binary': {
@@ -47,8 +52,10 @@ export function exprText(root: A.Expr): string {
         const wrap = p < ctx || (e.op === '^' && it.rightOfPow === false && ctx === 4);
         if (wrap) stack.push(')');
         // left-associative: the right operand of - and / (and of + and * for a faithful tree) binds tighter
-        const rightCtx = e.op === '^' ? p : p + 1;
-        const leftCtx = e.op === '^' ? p + 1 : p;
+        // conditions: and/or chain to the left, a comparison's operands are values (never conditions)
+        const logic = p < 1;
+        const rightCtx = e.op === '^' ? p : logic ? p + 0.01 : p + 1;
+        const leftCtx = e.op === '^' ? p + 1 : p === PREC_COMPARE ? p + 0.01 : p;
         stack.push({ e: e.right, ctx: rightCtx, rightOfPow: e.op === '^' ? true : undefined });
         stack.push(e.op === '^' ? '^' : ` ${e.op} `);
         stack.push({ e: e.left, ctx: leftCtx, rightOfPow: e.op === '^' ? false : undefined });
@@ -121,6 +128,10 @@ export function modelText(file: A.ModelFile): string {
       case 'sweep':
         lines.push(`sweep ${st.name.name} from ${st.point?.name ?? '?'}:`);
         if (st.vary) lines.push(`  vary ${st.vary.name.name} = ${exprText(st.vary.from)} to ${exprText(st.vary.to)} steps ${st.vary.steps}${st.vary.log ? ' log' : ''}`);
+        break;
+      case 'table':
+        lines.push(`table ${st.name.name}${unitText(st.xUnit)} to${unitText(st.yUnit)} ${st.interpolation} ${st.outside}${st.file ? ` from "${st.file.text}"` : ':'}`);
+        if (!st.file) for (const r of st.rows) lines.push(`  ${r.x}  ${r.y}`);
         break;
       case 'linear':
       case 'each':

@@ -10,6 +10,8 @@ import { RESERVED } from '../syntax/parser';
 import { leftSpine } from '../syntax/walk';
 import type { Span } from '../text';
 import { hasName, nameTable } from '../names';
+import { conditionDiagnostics } from './conditions';
+import { pushAll } from '../arrays';
 
 export type SymbolKind = 'const' | 'input' | 'state' | 'var' | 'output';
 
@@ -48,6 +50,10 @@ export interface BoundModel {
   points: A.PointBlock[];
   linears: A.LinearBlock[];
   sweeps: A.SweepBlock[];
+  /** Lookup tables by name (called as NAME(x)). */
+  tables: Map<string, A.TableDecl>;
+  /** Every call of a table: the span of its name in the call. */
+  tableRefs?: { span: Span; table: A.TableDecl }[];
   time?: A.TimeDecl;
   references: Reference[];
   /** Whether any unit bracket appears in the file (a file with none is nondimensional). */
@@ -65,7 +71,7 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInI
   const diagnostics: Diagnostic[] = [];
   const symbols = new Map<string, ModelSymbol>();
   const m: BoundModel = {
-    file, symbols, consts: [], inputs: [], states: [], vars: [], outputs: [], equations: [], points: [], linears: [], sweeps: [],
+    file, symbols, consts: [], inputs: [], states: [], vars: [], outputs: [], equations: [], points: [], linears: [], sweeps: [], tables: new Map(),
     references: [], hasUnits: false, diagnostics,
   };
   const lists: Record<SymbolKind, ModelSymbol[]> = { const: m.consts, input: m.inputs, state: m.states, var: m.vars, output: m.outputs };
@@ -73,6 +79,11 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInI
   const declare = (id: A.Ident, kind: SymbolKind, decl: ModelSymbol['decl'], unit?: A.UnitRef) => {
     if (RESERVED.has(id.name) || hasName(BUILTIN_ARITY, id.name) || hasName(BUILTIN_CONSTANTS, id.name)) {
       diagnostics.push(diag('P209', id.span, { name: id.name }));
+      return;
+    }
+    const table = m.tables.get(id.name);
+    if (table) {
+      diagnostics.push(diag('P243', id.span, { name: id.name, kind: 'a table' }, { related: [{ span: table.name.span, message: 'the table' }] }));
       return;
     }
     const prev = symbols.get(id.name);
@@ -123,10 +134,22 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInI
       case 'sweep':
         m.sweeps.push(st);
         break;
+      case 'table': {
+        const id = st.name;
+        const prev = symbols.get(id.name) ?? m.tables.get(id.name);
+        if (RESERVED.has(id.name) || hasName(BUILTIN_ARITY, id.name) || hasName(BUILTIN_CONSTANTS, id.name)) diagnostics.push(diag('P209', id.span, { name: id.name }));
+        else if (prev) diagnostics.push(diag('P243', id.span, { name: id.name, kind: 'kind' in prev && prev.kind === 'table' ? 'a table' : kindWord[(prev as ModelSymbol).kind] }, { related: [{ span: 'decl' in prev ? prev.span : prev.name.span, message: 'first declared here' }] }));
+        else m.tables.set(id.name, st);
+        if (st.xUnit || st.yUnit) m.hasUnits = true;
+        break;
+      }
     }
   });
 
   const used = new Set<ModelSymbol>();
+  /** Calls of tables (for the unused-table warning and the editor). */
+  const tableRefs: { span: Span; table: A.TableDecl }[] = [];
+  m.tableRefs = tableRefs;
   const ref = (span: Span, symbol: ModelSymbol, primes: number, where: Reference['where'], statement: number) => {
     m.references.push({ span, symbol, primes, where, statement });
     if (where === 'equation' || where === 'output' || where === 'const') used.add(symbol);
@@ -150,7 +173,13 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInI
         return;
       case 'call': {
         const arity = hasName(BUILTIN_ARITY, e.fn) ? (BUILTIN_ARITY as Record<string, number>)[e.fn] : undefined;
-        if (arity === undefined) {
+        const table = arity === undefined ? m.tables.get(e.fn) : undefined;
+        if (table) {
+          if (e.args.length !== 1) diagnostics.push(diag('P240', e.span, { name: e.fn, got: e.args.length }));
+          else tableRefs.push({ span: e.fnSpan, table });
+        } else if (e.fn === 'choose') {
+          if (e.args.length < 3 || e.args.length % 2 === 0) diagnostics.push(diag('P241', e.span, { got: e.args.length }));
+        } else if (arity === undefined) {
           const s = symbols.get(e.fn);
           diagnostics.push(
             s
@@ -174,6 +203,10 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInI
         }
         if (hasName(BUILTIN_ARITY, e.name)) {
           diagnostics.push(diag('P206', e.nameSpan, { name: e.name }));
+          return;
+        }
+        if (m.tables.has(e.name) && !symbols.has(e.name)) {
+          diagnostics.push(diag('P242', e.nameSpan, { name: e.name }));
           return;
         }
         const s = symbols.get(e.name);
@@ -276,11 +309,17 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInI
     }
   });
 
+  // conditions only where choose selects a case
+  pushAll(diagnostics, conditionDiagnostics(file));
+
   // states never differentiated; unused declarations
   for (const s of m.states) {
     if (s.order === 0) diagnostics.push(diag('P205', s.span, { name: s.name }, { data: { name: s.name } }));
   }
   if (warnUnused) {
+    for (const t of m.tables.values()) {
+      if (!tableRefs.some((r) => r.table === t)) diagnostics.push(diag('P203', t.name.span, { kind: 'Table', name: t.name.name }, { data: { name: t.name.name } }));
+    }
     for (const s of symbols.values()) {
       if (!used.has(s) && s.kind !== 'output' && !options.usedInIndices?.has(s.name)) {
         diagnostics.push(diag('P203', s.span, { kind: kindTitle[s.kind], name: s.name }, { data: { name: s.name } }));

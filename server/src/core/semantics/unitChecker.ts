@@ -48,7 +48,7 @@ export function constantValue(e: A.Expr, m: BoundModel, constant: (s: ModelSymbo
         const s = m.symbols.get(x.name);
         return s && s.kind === 'const' ? constant(s) : NaN;
       }
-      case 'unary': return x.op === '-' ? -value(x.arg) : value(x.arg);
+      case 'unary': return x.op === '-' ? -value(x.arg) : x.op === 'not' ? truth(!(value(x.arg) > 0.5), value(x.arg)) : value(x.arg);
       case 'binary':
         return foldChain(x, value, (n, a, b) => {
           switch (n.op) {
@@ -57,6 +57,13 @@ export function constantValue(e: A.Expr, m: BoundModel, constant: (s: ModelSymbo
             case '*': return a * b;
             case '/': return a / b;
             case '^': return Math.pow(a, b);
+            // a condition is 1 where it holds and 0 where not (choose reads it so)
+            case '<': return truth(a < b, a - b);
+            case '<=': return truth(a <= b, a - b);
+            case '>': return truth(a > b, a - b);
+            case '>=': return truth(a >= b, a - b);
+            case 'and': return truth(a > 0.5 && b > 0.5, a + b);
+            case 'or': return truth(a > 0.5 || b > 0.5, a + b);
           }
           return NaN;
         });
@@ -70,6 +77,9 @@ export function constantValue(e: A.Expr, m: BoundModel, constant: (s: ModelSymbo
   };
   return value(e);
 }
+
+/** 1 or 0 for a condition, NaN when what it compares is not a number. */
+const truth = (holds: boolean, operands: number): number => (Number.isNaN(operands) ? NaN : holds ? 1 : 0);
 
 /** The diagnostic for unit text parseUnit rejected: P311 for a number that cannot scale the unit, else P301. */
 export function unitProblem(ref: A.UnitRef, detail: string): Diagnostic {
@@ -121,6 +131,21 @@ export function checkUnits(m: BoundModel): UnitFacts {
     } else units.set(s, u);
   }
 
+  // tables: the units of their breakpoints and values
+  const tableDims = new Map<string, { x: Dims | null; y: Dims | null }>();
+  for (const t of m.tables.values()) {
+    const dimsOf = (ref: A.UnitRef | undefined): Dims | null => {
+      if (!ref) return DIMENSIONLESS;
+      const u = parseUnit(ref.text);
+      if (typeof u === 'string') {
+        diagnostics.push(unitProblem(ref, u));
+        return null;
+      }
+      return u.dims;
+    };
+    tableDims.set(t.name.name, { x: dimsOf(t.xUnit), y: dimsOf(t.yUnit) });
+  }
+
   const derivDims = (d: Dims, k: number): Dims => (k ? dimsDiv(d, dimsPow(time.dims, k)) : d);
 
   /** Dimension of a name reference (null: unknown). */
@@ -156,9 +181,21 @@ export function checkUnits(m: BoundModel): UnitFacts {
       case 'list':
       case 'reduce':
       case 'error': return null;
-      case 'unary': return infer(e.arg);
+      case 'unary': {
+        const a = infer(e.arg);
+        return e.op === 'not' ? null : a;
+      }
       case 'binary': return foldChain(e, infer, (e, a, b) => {
         switch (e.op) {
+          case '<':
+          case '<=':
+          case '>':
+          case '>=':
+            if (a && b && !dimsEqual(a, b)) report(diag('P322', e.span, { left: formatDims(a), right: formatDims(b) }));
+            return null; // a condition has no unit
+          case 'and':
+          case 'or':
+            return null;
           case '+':
           case '-':
             if (a && b && !dimsEqual(a, b)) {
@@ -185,6 +222,28 @@ export function checkUnits(m: BoundModel): UnitFacts {
       case 'call': {
         const args = e.args.map(infer);
         const [a, b] = args;
+        const table = tableDims.get(e.fn);
+        if (table && !hasName(BUILTIN_ARITY, e.fn)) {
+          const decl = m.tables.get(e.fn)!;
+          if (a && table.x && !dimsEqual(a, table.x) && e.args.length === 1) {
+            report(diag('P323', e.args[0].span, { name: e.fn, declared: decl.xUnit ? `[${decl.xUnit.text}] (${formatDims(table.x)})` : formatDims(table.x), actual: formatDims(a) }, { related: [{ span: decl.headerSpan, message: `table ${e.fn}` }] }));
+          }
+          return table.y;
+        }
+        if (e.fn === 'choose' || e.fn === 'clamp') {
+          // the values: every second argument and the last for choose, all three for clamp
+          const values = e.fn === 'clamp' ? args.map((d, k) => [d, k] as const) : args.map((d, k) => [d, k] as const).filter(([, k]) => k % 2 === 1 || k === args.length - 1);
+          let first: Dims | null = null;
+          for (const [d, k] of values) {
+            if (!d) continue;
+            if (first && !dimsEqual(first, d)) {
+              report(diag('P307', e.args[k].span, { fn: e.fn, left: formatDims(first), right: formatDims(d) }));
+              return null;
+            }
+            first = first ?? d;
+          }
+          return first;
+        }
         if (DIMLESS_FNS.has(e.fn)) {
           if (a && !isDimensionless(a)) report(diag('P303', e.args[0].span, { fn: e.fn, unit: formatDims(a) }));
           return DIMENSIONLESS;

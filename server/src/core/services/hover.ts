@@ -87,7 +87,7 @@ function hoverText(a: Analysis, t: Target, digits: number, activePoint: string):
       return t.symbol.kind === 'const' ? constText(a, t.symbol, digits) : variableText(a, t.symbol, t.primes, digits);
     case 'point': return pointText(a, t.name, digits);
     case 'sweep': return sweepText(a, t.block);
-    case 'builtin': return builtinText(t.name);
+    case 'builtin': return !hasName(E.BUILTIN_ARITY, t.name) && a.bound.tables.has(t.name) ? tableText(a, t.name) : builtinText(t.name);
     case 'constant': return `**pi** — built-in constant π ≈ ${Math.PI} (dimensionless)`;
     case 'keyword': return KEYWORD_DOC[t.word] ? `**${t.word}** — ${KEYWORD_DOC[t.word]}` : undefined;
     case 'unit': return unitText(t.text);
@@ -275,10 +275,25 @@ function sweepText(a: Analysis, s: A.SweepBlock): string {
   return out.join('\n');
 }
 
+/** A lookup table: its units, interpolation, range and where its rows come from. */
+function tableText(a: Analysis, name: string): string {
+  const t = a.bound.tables.get(name)!;
+  const src = a.tables.get(name);
+  const x = t.xUnit ? ` [${escapeMarkdown(t.xUnit.text)}]` : '';
+  const y = t.yUnit ? ` [${escapeMarkdown(t.yUnit.text)}]` : '';
+  const out = [`**table** ${code(name)}(x${x}) →${y} — ${t.interpolation === 'monotone' ? 'monotone cubic (Fritsch–Carlson)' : 'linear'} between the rows; outside them ${t.outside === 'strict' ? 'a point is refused' : 'the end value is held (a warning at a point)'}`];
+  if (src) {
+    const n = src.table.x.length;
+    const back = (v: number) => E.formatNumber((v - src.xUnit.offset) / src.xUnit.scale, 6);
+    out.push('', `${n} rows, breakpoints ${back(src.table.x[0])} … ${back(src.table.x[n - 1])}${x}${t.file ? `, from ${code(t.file.text)}` : ''}.`);
+  }
+  return out.join('\n');
+}
+
 function builtinText(name: string): string {
   const doc = hasName(E.BUILTIN_DOC, name) ? (E.BUILTIN_DOC as Record<string, string>)[name] : '';
   const arity = hasName(E.BUILTIN_ARITY, name) ? (E.BUILTIN_ARITY as Record<string, number>)[name] : 1;
-  const args = name === 'atan2' ? 'y, x' : arity === 2 ? 'a, b' : 'x';
+  const args = name === 'atan2' ? 'y, x' : name === 'choose' ? 'c1, v1, …, otherwise' : name === 'clamp' ? 'x, lo, hi' : arity === 2 ? 'a, b' : 'x';
   return `**${name}**(${args}) — built-in function: ${doc}`;
 }
 

@@ -110,6 +110,8 @@ export function targetAt(a: Analysis, offset: number): Target | undefined {
     let k = w.end;
     while (text[k] === ' ' || text[k] === '\t') k++;
     if (hasName(BUILTIN_ARITY, word) && text[k] === '(') return { kind: 'builtin', name: word, span: w };
+    // a table's name (its header or a call): hover shows the table as for a built-in function
+    if (!hasName(BUILTIN_ARITY, word) && m.tables.has(word) && !m.symbols.has(word)) return { kind: 'builtin', name: word, span: w };
     if (word === 'pi' && !m.symbols.has('pi')) return { kind: 'constant', name: 'pi', span: w };
     if (KEYWORDS.has(word) && !m.symbols.has(word) && text[w.start - 1] !== 'Δ') return { kind: 'keyword', word, span: w };
   }

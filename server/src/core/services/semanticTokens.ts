@@ -61,6 +61,7 @@ export function semanticTokens(a: Analysis): SemanticToken[] {
   }
   walkExpressions(a.parsed.file, (e) => {
     if (e.kind === 'call' && hasName(BUILTIN_ARITY, e.fn)) out.push({ span: e.fnSpan, type: 'function', modifiers: ['defaultLibrary'] });
+    else if (e.kind === 'call' && m.tables.has(e.fn)) out.push({ span: e.fnSpan, type: 'function', modifiers: [] });
     else if (e.kind === 'name' && e.name === 'pi' && !m.symbols.has('pi')) out.push({ span: e.nameSpan, type: 'variable', modifiers: ['readonly', 'defaultLibrary'] });
   });
   out.sort((x, y) => x.span.start - y.span.start || y.span.end - x.span.end);

@@ -46,7 +46,9 @@ export function dimsOf(a: Analysis, e: A.Expr): Dims | null {
       switch (e.fn) {
         case 'sqrt': return x ? dimsPow(x, 0.5) : null;
         case 'abs': case 'min': case 'max': case 'hypot': return x ?? (e.args[1] ? dimsOf(a, e.args[1]) : null);
-        default: return DIMENSIONLESS;
+        case 'clamp': return x ?? (e.args[1] ? dimsOf(a, e.args[1]) : null);
+        case 'choose': return e.args[1] ? dimsOf(a, e.args[1]) : null;
+        default: return a.bound.tables.has(e.fn) ? null : DIMENSIONLESS;
       }
     }
     default: return null;

@@ -18,6 +18,7 @@ import { steadyIncidence, steadyModel } from '../model/steady';
 import type { Span } from '../text';
 import { formatShort } from '../numbers';
 import { pushAll } from '../arrays';
+import { switchSlopes, tableFinding } from './kinks';
 
 export interface PointSolution {
   name: string;
@@ -283,6 +284,16 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   const currentResidual = (): number => currentRatios().reduce((a, b) => (b > a || Number.isNaN(b) ? b : a), 0);
   const x0 = new Float64Array(nU);
   const step = new Float64Array(nU);
+  // Switches (choose, min, max, clamp): a residual that jumps or kinks where a switch flips can fail the
+  // descent test on the very step that crosses to the right branch. A full Newton step that flips a switch
+  // is taken anyway (a bounded number of times), and the next step works on the new branch.
+  const switches = switchNodes(sm.equations.map((q) => q.residual));
+  const signature = (): string => {
+    let sig = '';
+    for (const n of switches) sig += E.evaluate(n.args[0], values) <= E.evaluate(n.args[1], values) ? '1' : '0';
+    return sig;
+  };
+  let switchSteps = 0;
   let it = 0;
   let lambda = 0;
   let converged = false;
@@ -310,10 +321,17 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     const phi0 = phi();
     let alpha = 1;
     let accepted = false;
+    const sig0 = switches.length ? signature() : '';
     for (let ls = 0; ls < 40; ls++) {
       for (let j = 0; j < nU; j++) values[unknowns[j]] = x0[j] + alpha * dy[j] * xs[j];
       const f = evalF();
       if (!Number.isNaN(f) && phi() <= (1 - 1e-4 * alpha) * phi0 + 1e-300) {
+        fmax = f;
+        accepted = true;
+        break;
+      }
+      if (ls === 0 && !Number.isNaN(f) && switches.length && switchSteps < 2 * switches.length + 10 && signature() !== sig0) {
+        switchSteps++;
         fmax = f;
         accepted = true;
         break;
@@ -486,13 +504,14 @@ export function pointChecks(lm: LoweredModel, values: Float64Array, point: strin
   const out: Diagnostic[] = [];
   const seen = new Set<string>();
   const rel = [{ span: pointSpan, message: `point ${point}` }];
-  const report = (code: 'P504' | 'P505', src: Span | undefined, detail: string, fallback: Span) => {
+  const report = (code: 'P504' | 'P505' | 'P520' | 'P521', src: Span | undefined, detail: string, fallback: Span, args: Record<string, string> = {}) => {
     const sp = src ?? fallback;
     const k = `${code}:${sp.start}:${sp.end}`;
     if (seen.has(k)) return;
     seen.add(k);
-    out.push(diag(code, sp, { point, detail }, { related: rel }));
+    out.push(diag(code, sp, { point, detail, ...args }, { related: rel }));
   };
+  const infinite = { uses: 'has an infinite slope there' };
   const fmt = (v: number) => formatShort(v, true);
   for (const eq of lm.equations) {
     const walk = (n: E.Node): void => {
@@ -504,7 +523,7 @@ export function pointChecks(lm: LoweredModel, values: Float64Array, point: strin
         const ex = E.evaluate(n.exp, values);
         if (b < 0 && !Number.isInteger(ex)) report('P504', n.src, `negative base ${fmt(b)} raised to the non-integer power ${fmt(ex)}`, eq.span);
         else if (b === 0 && ex < 0) report('P504', n.src, 'division by zero', eq.span);
-        else if (b === 0 && ex > 0 && ex < 1) report('P505', n.src, `power ${fmt(ex)} of zero`, eq.span);
+        else if (b === 0 && ex > 0 && ex < 1) report('P505', n.src, `power ${fmt(ex)} of zero`, eq.span, infinite);
         return;
       }
       for (const a of n.args) walk(a);
@@ -514,7 +533,7 @@ export function pointChecks(lm: LoweredModel, values: Float64Array, point: strin
       switch (n.fn) {
         case 'sqrt':
           if (a < 0) report('P504', n.src, `square root of a negative value (${fmt(a)})`, eq.span);
-          else if (a === 0) report('P505', n.src, 'square root at zero (infinite slope)', eq.span);
+          else if (a === 0) report('P505', n.src, 'square root at zero (infinite slope)', eq.span, infinite);
           break;
         case 'log':
         case 'log10':
@@ -526,12 +545,31 @@ export function pointChecks(lm: LoweredModel, values: Float64Array, point: strin
           break;
         case 'abs':
         case 'sign':
-          if (a === 0 && hasTwoSlopes(eq.residual, n, n.fn === 'abs' ? [n.args[0], E.neg(n.args[0])] : [E.ONE, E.num(-1)], values)) report('P505', n.src, `${n.fn} at zero`, eq.span);
+          if (a === 0 && hasTwoSlopes(eq.residual, n, n.fn === 'abs' ? [n.args[0], E.neg(n.args[0])] : [E.ONE, E.num(-1)], values)) {
+            report('P505', n.src, `${n.fn} at zero${n.fn === 'abs' ? ' (slope −1 below, +1 above)' : ' (a jump from −1 to 1)'}`, eq.span, { uses: 'takes slope 0 there' });
+          }
           break;
         case 'min':
         case 'max':
-          if (a === b && hasTwoSlopes(eq.residual, n, [n.args[0], n.args[1]], values)) report('P505', n.src, `${n.fn} with both arguments equal (${fmt(a)})`, eq.span);
+        case 'pick': {
+          if (a !== b) break;
+          // min(a, b) is pick(a, b, a, b), max(a, b) is pick(b, a, a, b): the first branch holds where the first argument is smaller
+          const [x, y, p, q] = n.fn === 'pick' ? n.args : n.fn === 'min' ? [n.args[0], n.args[1], n.args[0], n.args[1]] : [n.args[1], n.args[0], n.args[0], n.args[1]];
+          if (!hasTwoSlopes(eq.residual, n, [p, q], values)) break;
+          const slopes = switchSlopes(lm, x, y, p, q, values);
+          const what = n.fn === 'pick' ? 'a condition of choose is at its threshold' : `${n.fn} with both arguments equal (${fmt(a)})`;
+          report('P505', n.src, slopes ? `${what}: ${slopes}` : what, eq.span, {
+            uses: n.fn === 'pick' ? 'takes the case that holds at the threshold (≤ and ≥ hold there, < and > do not)' : 'takes the slope of the first argument there',
+          });
           break;
+        }
+        case 'table': {
+          const f = tableFinding(n, values);
+          if (!f) break;
+          if (f.kind === 'breakpoint') report('P505', n.src, f.args.detail, eq.span, { uses: f.args.uses });
+          else report(n.tab!.source.outside === 'strict' ? 'P521' : 'P520', n.src, '', eq.span, f.args);
+          break;
+        }
       }
     };
     walk(eq.residual);
@@ -554,6 +592,25 @@ function domainDiagnostic(lm: LoweredModel, values: Float64Array, point: string,
   return diag('P503', pointSpan, { point, detail: `${when} the equations evaluate to non-finite values${rows.length ? '' : ''}; give guesses ("~") inside the model's domain.` });
 }
 
+/** The pick nodes (switches) of the residuals, each once. */
+function switchNodes(roots: E.Node[]): E.Fn[] {
+  const out: E.Fn[] = [];
+  const seen = new Set<E.Node>();
+  const stack = [...roots];
+  while (stack.length) {
+    const n = stack.pop()!;
+    if (seen.has(n)) continue;
+    seen.add(n);
+    if (n.t === 'fn' && (n.fn === 'pick' || n.fn === 'min' || n.fn === 'max')) {
+      // min(a, b) and max(a, b) switch where a = b, as pick(a, b, …) does
+      out.push(n.fn === 'pick' ? n : { t: 'fn', fn: 'pick', args: [n.args[0], n.args[1], E.ZERO, E.ZERO] });
+    }
+    if (n.t === 'pow') stack.push(n.base, n.exp);
+    else if (n.t !== 'num' && n.t !== 'sym') for (const a of n.args) stack.push(a);
+  }
+  return out;
+}
+
 /** root with the node `target` replaced by `by` (structural rebuild through the folding constructors). */
 function replaceNode(root: E.Node, target: E.Node, by: E.Node): E.Node {
   if (root === target) return by;
@@ -564,7 +621,7 @@ function replaceNode(root: E.Node, target: E.Node, by: E.Node): E.Node {
     case 'add': return E.add(root.args.map((a) => replaceNode(a, target, by)), root.src);
     case 'mul': return E.mul(root.args.map((a) => replaceNode(a, target, by)), root.src);
     case 'pow': return E.pow(replaceNode(root.base, target, by), replaceNode(root.exp, target, by), root.src);
-    case 'fn': return E.fn(root.fn, root.args.map((a) => replaceNode(a, target, by)), root.src);
+    case 'fn': return E.withArgs(root, root.args.map((a) => replaceNode(a, target, by)));
   }
 }
 

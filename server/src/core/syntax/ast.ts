@@ -68,12 +68,15 @@ export interface CallExpr {
 
 export interface UnaryExpr {
   kind: 'unary';
-  op: '-' | '+';
+  /** `not` negates a condition (docs/language.md, "Piecewise laws"). */
+  op: '-' | '+' | 'not';
   arg: Expr;
   span: Span;
 }
 
-export type BinaryOp = '+' | '-' | '*' | '/' | '^';
+/** Arithmetic, comparisons (a condition from two values) and `and`/`or` (a condition from two conditions). */
+export type BinaryOp = '+' | '-' | '*' | '/' | '^' | CompareOp | 'and' | 'or';
+export type CompareOp = '<' | '<=' | '>' | '>=';
 
 export interface BinaryExpr {
   kind: 'binary';
@@ -106,7 +109,28 @@ export type Statement =
   | PointBlock
   | LinearBlock
   | SweepBlock
-  | EachBlock;
+  | EachBlock
+  | TableDecl;
+
+/**
+ * `table NAME [x unit] to [y unit] [linear|monotone] [hold|strict]:` with indented rows `x  y`, or
+ * `… from "file.csv"`: a lookup table, called as NAME(x) (docs/language.md, "Lookup tables").
+ */
+export interface TableDecl {
+  kind: 'table';
+  name: Ident;
+  xUnit?: UnitRef;
+  yUnit?: UnitRef;
+  interpolation: 'linear' | 'monotone';
+  /** Outside the breakpoints: hold the end value (a warning at a point), or refuse the point (an error). */
+  outside: 'hold' | 'strict';
+  /** Rows written in the model (breakpoint, value), in the units of the header. */
+  rows: { x: number; y: number; span: Span }[];
+  /** `from "file.csv"`: the file's name as written and the span of the quoted text. */
+  file?: { text: string; span: Span };
+  span: Span;
+  headerSpan: Span;
+}
 
 /** `each i in 1..n, j in 1..m:` with indented equations (or one equation after the colon). */
 export interface EachBlock {

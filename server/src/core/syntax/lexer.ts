@@ -9,7 +9,8 @@ export type TokenKind =
   | 'name' // identifier; `delta` set when written with a leading Δ
   | 'number'
   | 'unit' // text between [ and ]
-  | 'op' // + - * / ^ ( ) , = ~ : ' { } ..
+  | 'string' // text between double quotes on one line (a file name: `from "valve.csv"`); text without the quotes
+  | 'op' // + - * / ^ ( ) , = ~ : ' { } .. < <= > >=
   | 'newline'
   | 'eof';
 
@@ -30,7 +31,7 @@ export interface LexResult {
 }
 
 const OPS = new Set(['+', '-', '*', '/', '^', '(', ')', ',', '=', '~', ':', "'", '{', '}']);
-const CONTINUES = new Set(['+', '-', '*', '/', '^', ',', '=']);
+const CONTINUES = new Set(['+', '-', '*', '/', '^', ',', '=', '<', '<=', '>', '>=']);
 const nameStart = /[\p{L}_]/u;
 const namePart = /[\p{L}\p{N}_]/u;
 
@@ -163,6 +164,22 @@ export function lex(text: string): LexResult {
       const t: Token = { kind: 'name', text: name, span: { start, end: i } };
       if (delta) t.delta = true;
       push(t);
+      continue;
+    }
+    if (ch === '"') {
+      const start = i;
+      i++;
+      while (i < n && text[i] !== '"' && text[i] !== '\n' && text[i] !== '\r') i++;
+      const inner = text.slice(start + 1, i);
+      if (text[i] === '"') i++;
+      else diagnostics.push(diag('P130', { start, end: i }));
+      push({ kind: 'string', text: inner, span: { start, end: i } });
+      continue;
+    }
+    if (ch === '<' || ch === '>') {
+      const two = text[i + 1] === '=';
+      push({ kind: 'op', text: two ? ch + '=' : ch, span: { start: i, end: i + (two ? 2 : 1) } });
+      i += two ? 2 : 1;
       continue;
     }
     if (ch === '.' && text[i + 1] === '.') {

@@ -29,6 +29,7 @@ export function describe(t: Token | undefined): string {
   if (!t || t.kind === 'eof' || t.kind === 'newline') return 'end of line';
   if (t.kind === 'number') return `number ${t.text}`;
   if (t.kind === 'unit') return `unit [${t.text}]`;
+  if (t.kind === 'string') return `text "${t.text}"`;
   if (t.kind === 'name') return `"${t.delta ? 'Δ' : ''}${t.text}"`;
   return `"${t.text}"`;
 }
@@ -164,19 +165,26 @@ export class LineParser {
     let left = this.unary();
     for (;;) {
       const t = this.peek();
-      if (!t || t.kind !== 'op') break;
+      if (!t) break;
       const op = t.text;
       let prec: number;
       let rightAssoc = false;
-      if (op === '+' || op === '-') prec = 1;
+      // `and` and `or` are operators only here, between two operands (a name elsewhere)
+      if (t.kind === 'name') {
+        if (t.delta || (op !== 'and' && op !== 'or')) break;
+        prec = op === 'or' ? PREC_OR : PREC_AND;
+      } else if (t.kind !== 'op') break;
+      else if (op === '+' || op === '-') prec = 1;
       else if (op === '*' || op === '/') prec = 2;
       else if (op === '^') {
         prec = 4;
         rightAssoc = true;
-      } else break;
+      } else if (op === '<' || op === '<=' || op === '>' || op === '>=') prec = PREC_COMPARE;
+      else break;
       if (prec < minPrec) break;
       this.i++;
-      const right = op === '^' ? this.powerOperand() : this.expr(rightAssoc ? prec : prec + 1);
+      // conditions (prec < 1): the right operand binds just tighter, so `a and b < c` compares before it joins
+      const right = op === '^' ? this.powerOperand() : this.expr(rightAssoc ? prec : prec < 1 ? prec + 0.01 : prec + 1);
       left = { kind: 'binary', op: op as A.BinaryOp, left, right, span: { start: left.span.start, end: right.span.end } };
     }
     return left;
@@ -210,6 +218,12 @@ export class LineParser {
 
   unary(): A.Expr {
     const t = this.peek();
+    // `not` before an operand negates a condition; `not` alone (or before an operator) is a name
+    if (t && t.kind === 'name' && !t.delta && t.text === 'not' && startsOperand(this.peek(1))) {
+      this.i++;
+      const arg = this.expr(PREC_COMPARE);
+      return { kind: 'unary', op: 'not', arg, span: { start: t.span.start, end: arg.span.end } };
+    }
     if (t && t.kind === 'op' && (t.text === '-' || t.text === '+')) {
       this.i++;
       // -x^2 is -(x^2); -a*b is (-a)*b (same value)
@@ -343,6 +357,17 @@ export class LineParser {
     }
     this.fail('a value, a name or "("');
   }
+}
+
+/** Binding strength of `or`, `and` and the comparisons: below + and − (1), so `a + b < c` compares sums. */
+export const PREC_OR = 0.25;
+export const PREC_AND = 0.5;
+export const PREC_COMPARE = 0.75;
+
+function startsOperand(t: Token | undefined): boolean {
+  if (!t) return false;
+  // not a sign: with a name `not`, `not - 1` stays a difference (write `not (-x > 1)`)
+  return t.kind === 'number' || t.kind === 'name' || (t.kind === 'op' && t.text === '(');
 }
 
 /**

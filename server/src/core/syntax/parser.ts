@@ -6,6 +6,7 @@ import type * as A from './ast';
 import { diag, type Diagnostic } from '../diagnostics';
 import { lex } from './lexer';
 import { LineParser, SyntaxError_, splitLines, type Line } from './lineParser';
+import { isTableLine, parseTable } from './tableParser';
 export { MAX_NESTING } from './lineParser';
 import type { Span } from '../text';
 import { pushAll } from '../arrays';
@@ -59,6 +60,10 @@ export function parse(text: string): ParseResult {
           }
         }
         statements.push(block);
+        continue;
+      }
+      if (isTableLine(line)) {
+        statements.push(parseTable(p, line, blockLines(), diagnostics));
         continue;
       }
       if (kw === 'each') {
