@@ -19,6 +19,7 @@ import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 import { unitText } from '../semantics/units';
 import { memoryHost, UNTITLED, type SourceHost } from '../sources';
 import { pushAll } from '../arrays';
+import { checkTolerances, type ToleranceFacts } from '../semantics/tolerances';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;
@@ -47,6 +48,8 @@ export class Analysis {
   readonly units: UnitFacts;
   readonly lowered: LoweredModel;
   readonly structure: StructureResult;
+  /** Tolerance bands written on constants (`± 5 %`). */
+  readonly tolerances: ToleranceFacts;
   /** Diagnostics of the static stages (syntax, names, units, structure). */
   readonly diagnostics: Diagnostic[];
   /** Whether points can be solved (no errors that make the numbers meaningless). */
@@ -69,7 +72,8 @@ export class Analysis {
     this.units = checkUnits(this.bound);
     this.lowered = lower(this.bound, this.units, text);
     this.structure = checkStructure(this.lowered);
-    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics]);
+    this.tolerances = checkTolerances(this.bound, this.units, text);
+    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...this.structure.diagnostics, ...this.tolerances.diagnostics]);
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
 
