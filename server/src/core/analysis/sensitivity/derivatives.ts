@@ -127,16 +127,14 @@ function constColumns(sm: LoweredModel): ConstColumns {
 
 /**
  * The constants a model can be differentiated by at a point: every constant written as a value (not
- * computed from other constants) that the point does not give again.
+ * computed from other constants), at the value the point sees (a point may give a constant again).
  */
 export function modelParameters(a: Analysis, sol: PointSolution): ParameterInfo[] {
   const lm = a.lowered;
-  const givenAgain = new Set<string>();
-  for (const l of sol.block.lines) givenAgain.add(l.name.name);
   const out: ParameterInfo[] = [];
   for (const s of a.bound.consts) {
     const id = lm.slotOf(s);
-    if (id < 0 || givenAgain.has(s.name)) continue;
+    if (id < 0) continue;
     const decl = s.decl as A.ConstDecl;
     if (refersToConstant(decl.value, a)) continue;
     const sl = lm.slots[id];
