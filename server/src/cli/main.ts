@@ -11,6 +11,7 @@ import { formatLinearText, formatValues } from '../core/present/format';
 import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
 import { expandCommand } from './expand';
+import { sensitivityCommand } from './sensitivity';
 import { reportCommand } from './report';
 import { commandHelp, commandSpec, generalHelp, nearest as nearestWord, parseCommandLine, UsageError, type Parsed } from './options';
 import { diagnosticJson, type DiagnosticJson } from './diagnosticJson';
@@ -257,7 +258,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
 }
 
 function nearestCommand(word: string): string | undefined {
-  const names = ['check', 'solve', 'linearize', 'report', 'sweep', 'expand', 'lsp', 'help'];
+  const names = ['check', 'solve', 'linearize', 'report', 'sweep', 'sensitivity', 'expand', 'lsp', 'help'];
   return names.find((n) => n.startsWith(word) && word.length >= 2) ?? nearestWord(word, names);
 }
 
@@ -266,6 +267,7 @@ export const extraCommands: Record<string, (p: Parsed, io: Io, h: CliHelpers) =>
 extraCommands.sweep = sweepCommand;
 extraCommands.report = reportCommand;
 extraCommands.expand = expandCommand;
+extraCommands.sensitivity = sensitivityCommand;
 
 /** The version: injected into the bundle at build time (scripts/bundle.mjs), else read from package.json. */
 declare const POISE_VERSION: string | undefined;
