@@ -179,5 +179,5 @@ export function wilson(k: number, n: number): [number, number] {
   const den = 1 + (z * z) / n;
   const mid = (p + (z * z) / (2 * n)) / den;
   const half = (z * Math.sqrt((p * (1 - p)) / n + (z * z) / (4 * n * n))) / den;
-  return [Math.max(0, mid - half), Math.min(1, mid + half)];
+  return [k === 0 ? 0 : Math.max(0, mid - half), k === n ? 1 : Math.min(1, mid + half)];
 }

@@ -89,7 +89,8 @@ function eigenDerivative(der: PointDerivative, ev: ReturnType<typeof eigenvector
     im += vals[t] * (wr * vi + wi * vr);
   }
   const s = der.parameter.scale;
-  return { re: re * s, im: im * s };
+  // a real eigenvalue of a real matrix stays real: its derivative is real (what is left is rounding)
+  return { re: re * s, im: ev.im[k] === 0 ? 0 : im * s };
 }
 
 function gainSensitivities(sys: ReturnType<typeof linearSystem>, ders: PointDerivative[], n: number, m: number, p: number): GainSensitivity[] {
