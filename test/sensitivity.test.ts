@@ -129,6 +129,26 @@ describe('central differences of re-solved points', () => {
   }
 });
 
+describe('eigenvectors of large models by sparse inverse iteration', () => {
+  it('give the same derivatives as the dense QR route on every example', () => {
+    for (const file of EXAMPLES) {
+      const a = analyze(fs.readFileSync(file, 'utf8'));
+      const dense = sensitivities(a);
+      const sparse = sensitivities(a, undefined, undefined, { sparseEigenvectors: true });
+      expect(sparse.ok, file).toBe(true);
+      const rho = Math.max(...dense.modes.map((m) => Math.hypot(m.eigenvalue.re, m.eigenvalue.im)));
+      dense.modes.forEach((m, j) => {
+        const o = sparse.modes[j];
+        expectClose(o.eigenvalue.re, m.eigenvalue.re, 1e-9, 1e-12 * rho, `${file} λ${j + 1}`);
+        dense.parameters.forEach((p, k) => {
+          const size = (Math.max(Math.hypot(m.eigenvalue.re, m.eigenvalue.im), 1e-6 * rho) / Math.abs(p.value));
+          expect(Math.hypot(o.d[k].re - m.d[k].re, o.d[k].im - m.d[k].im) / size, `${file} mode ${j + 1} ${p.name}`).toBeLessThan(1e-7);
+        });
+      });
+    }
+  });
+});
+
 describe('against SciPy and NumPy', () => {
   if (!PYTHON_WITH_SCIPY && !SCIPY_REQUIRED) {
     it.skip('needs python3 with numpy and scipy (apt-get install -y python3-numpy python3-scipy)', () => {});

@@ -1,6 +1,6 @@
 /**
  * Tolerance samples in worker threads: the plan (core/analysis/sensitivity/sampling.ts) is cut into one
- * contiguous chunk per worker; each worker analyses the model again from its text (and the disk, for the
+ * contiguous chunk per thread (the first runs in the calling thread while the others start); each worker analyses the model again from its text (and the disk, for the
  * documents it refers to) and evaluates its chunk with the core's pure `evaluateChunk`. The results come
  * back in plan order, so a seed gives the same bands whatever the number of workers.
  *
@@ -21,7 +21,7 @@ interface ChunkJob {
   to: number;
 }
 
-/** Evaluates the plan's samples on `workers` threads (1: in this thread). */
+/** Evaluates the plan's samples on `workers` threads, this one included (1: only this thread). */
 export async function runSamples(file: string, text: string, plan: SamplePlan, workers: number): Promise<SampleResult[]> {
   const n = plan.count;
   const k = Math.max(1, Math.min(workers, n));
@@ -30,20 +30,22 @@ export async function runSamples(file: string, text: string, plan: SamplePlan, w
     return evaluateChunk(a, plan, 0, n);
   }
   const bounds = Array.from({ length: k + 1 }, (_, i) => Math.round((i * n) / k));
-  const parts = await Promise.all(
-    bounds.slice(0, k).map((from, i) => new Promise<SampleResult[]>((resolve, reject) => {
-      const job: ChunkJob = { kind: 'poise-tolerance-samples', file, text, plan, from, to: bounds[i + 1] };
-      const w = new Worker(__filename, { workerData: job });
-      w.once('message', (r: SampleResult[]) => {
-        resolve(r);
-        void w.terminate();
-      });
-      w.once('error', reject);
-      w.once('exit', (code) => {
-        if (code !== 0) reject(new Error(`a sampling worker stopped with code ${code}`));
-      });
-    })),
-  );
+  // chunks 1 … k−1 in worker threads; chunk 0 here, meanwhile (this thread has the model compiled already)
+  const others = bounds.slice(1, k).map((from, i) => new Promise<SampleResult[]>((resolve, reject) => {
+    const job: ChunkJob = { kind: 'poise-tolerance-samples', file, text, plan, from, to: bounds[i + 2] };
+    const w = new Worker(__filename, { workerData: job });
+    w.once('message', (r: SampleResult[]) => {
+      resolve(r);
+      void w.terminate();
+    });
+    w.once('error', reject);
+    w.once('exit', (code) => {
+      if (code !== 0) reject(new Error(`a sampling worker stopped with code ${code}`));
+    });
+  }));
+  const a = analyzeDocuments(cliSources(file, text), file)!;
+  const first = evaluateChunk(a, plan, 0, bounds[1]);
+  const parts = [first, ...(await Promise.all(others))];
   return parts.flat();
 }
 

@@ -5,7 +5,8 @@
  * Gains G = −C·A⁻¹·B + D: ∂G = −∂C·Y + Zᵀ·∂A·Y − Zᵀ·∂B + ∂D with Y = A⁻¹B and Zᵀ = C·A⁻¹.
  * Everything is per declared unit of the constant; `relative` figures are for a 1 % larger constant.
  */
-import { eigenvectors } from '../../numeric/eigen';
+import type { eigenvectors } from '../../numeric/eigen';
+import { eigenpairs } from './eigenpairs';
 import { luFactor } from '../../numeric/dense';
 import type { Analysis } from '../../pipeline/analysis';
 import { linearSystem, perUnit } from '../dynamics/system';
@@ -48,7 +49,8 @@ export interface Sensitivities {
 /** Conditions beyond this mark an eigenvalue as (nearly) defective: its first-order derivative means little. */
 export const ILL_CONDITIONED = 1e8;
 
-export function sensitivities(a: Analysis, pointName?: string, params?: ParameterInfo[]): Sensitivities {
+/** `sparseEigenvectors`: the sparse inverse-iteration route at any size (tests compare it with the dense one). */
+export function sensitivities(a: Analysis, pointName?: string, params?: ParameterInfo[], opts: { sparseEigenvectors?: boolean } = {}): Sensitivities {
   const pd = pointDerivatives(a, pointName, params);
   const empty = (problem: string): Sensitivities => ({ ok: false, problem, point: pd.point, timeUnit: '', parameters: [], modes: [], gains: [], axisTol: 0 });
   if (!pd.ok || !pd.lin) return empty(pd.problem ?? 'no linear model');
@@ -56,7 +58,7 @@ export function sensitivities(a: Analysis, pointName?: string, params?: Paramete
   const sys = linearSystem(lin);
   const { n, m, p } = sys;
   const parameters = pd.derivatives.map((d) => d.parameter);
-  const ev = eigenvectors({ rows: n, cols: n, data: sys.A });
+  const ev = eigenpairs(sys.A, lin.sparse.A, n, opts.sparseEigenvectors);
   if (!ev.converged) return { ...empty('the eigenvalues did not converge'), timeUnit: lin.timeUnit };
   let rho = 0;
   for (let k = 0; k < n; k++) rho = Math.max(rho, Math.hypot(ev.re[k], ev.im[k]));
