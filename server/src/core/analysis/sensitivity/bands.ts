@@ -1,6 +1,6 @@
 /**
  * Bands of the poles, the gains and the stability verdict from the constants' tolerances, two ways:
- * first order (each quantity moves by Σ |∂q/∂p|·(half-width of p): the worst case of the linearised
+ * first order (each quantity moves by Σ |∂q/∂p|·(half-width of p): the worst case of the linearized
  * effects, from sensitivity.ts) and sampled (the spread of re-solved Latin hypercube samples, sampling.ts),
  * with the share of samples that are unstable and its 95 % Wilson score interval.
  */
