@@ -13,6 +13,7 @@ import { formatReportText } from '../core/present/reportText';
 import type { Parsed } from './options';
 import type { CliHelpers, Io } from './shared';
 import { sizeInDeclaredUnit } from './quantity';
+import { reportSensitivity } from './sensitivity';
 
 export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
   const file = h.oneFile(p);
@@ -66,7 +67,7 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   if (htmlOut) {
     try {
       fs.mkdirSync(path.dirname(path.resolve(htmlOut)), { recursive: true });
-      fs.writeFileSync(htmlOut, renderReportHtml(data), 'utf8');
+      fs.writeFileSync(htmlOut, renderReportHtml(data, { sensitivity: await reportSensitivity(file, r.a, r.point) }), 'utf8');
     } catch (e) {
       io.err(`poise: cannot write ${htmlOut}: ${(e as Error).message}`);
       return 1;

@@ -8,7 +8,8 @@
 import * as fs from 'fs';
 import * as os from 'os';
 import * as path from 'path';
-import { samplePlan, sensitivityReport, withSamples } from '../core/analysis/sensitivity';
+import { samplePlan, sensitivityReport, withSamples, type SensitivityReport } from '../core/analysis/sensitivity';
+import type { Analysis } from '../core/pipeline/analysis';
 import { formatSensitivityText } from '../core/present/sensitivityText';
 import { sensitivityPage } from '../core/present/sensitivityHtml';
 import type { Parsed } from './options';
@@ -50,4 +51,13 @@ export async function sensitivityCommand(p: Parsed, io: Io, h: CliHelpers): Prom
     if (htmlOut) io.out(`\nWrote ${htmlOut}`);
   }
   return 0;
+}
+
+/** The page's sensitivity section: the table, and the bands with 500 samples when the model has tolerances. */
+export async function reportSensitivity(file: string, a: Analysis, point: string): Promise<SensitivityReport | undefined> {
+  const r = sensitivityReport(a, point);
+  if (!r.ok) return undefined;
+  if (!r.tolerances.length) return r;
+  const plan = samplePlan(a, point, 500, 1);
+  return withSamples(r, plan, await runSamples(file, a.text, plan, Math.min(8, Math.max(1, os.cpus().length))));
 }

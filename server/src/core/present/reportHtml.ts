@@ -12,12 +12,16 @@ import { factorsOf, transferLines } from '../analysis/transferText';
 import { chart, esc, htmlPage, legend, linRange, num, newPage, r1, type AxisSpec, type PageContext, type Series } from './svgCharts';
 import { unitSuffix } from '../semantics/units';
 import { maxOf, minOf, pushAll } from '../arrays';
+import type { SensitivityReport } from '../analysis/sensitivity/bands';
+import { sensitivitySection } from './sensitivityHtml';
 
 export interface RenderOptions {
   /** Nonce for the inline style and script (webview). */
   nonce?: string;
   /** The webview's cspSource (allowed for styles and images besides the nonce). */
   cspSource?: string;
+  /** Sensitivities to the constants and tolerance bands (analysis/sensitivity), shown as a section with the pole cloud. */
+  sensitivity?: SensitivityReport;
 }
 
 // ------------------------------------------------------------------------------------- text helpers
@@ -378,9 +382,10 @@ export function renderReportHtml(data: ReportData, opts: RenderOptions = {}): st
     sections.push(`<section><h2>No report</h2><p>The report could not be made for this point:</p><ul class="problems">${data.problems.map((p) => `<li>${esc(p)}</li>`).join('')}</ul></section>`);
   } else {
     sections.push(sectionPoint(data), sectionModes(page, data), sectionGains(data), sectionTransfer(data), sectionBode(page, data), sectionSteps(page, data), sectionValidity(page, data));
+    if (opts.sensitivity) sections.push(sensitivitySection(page, opts.sensitivity));
   }
   const nav = data.ok
-    ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}`
+    ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}${opts.sensitivity ? '<a href="#sensitivity">Sensitivities</a>' : ''}`
     : undefined;
   const meta = [`time in ${esc(data.timeUnit)}`, data.digest ? `model digest ${esc(data.digest)}` : '', data.ok ? `${data.states.length} state component(s), ${data.inputs.length} input(s), ${data.outputs.length} output(s)${data.outputsAreStates ? ' (the states)' : ''}` : '']
     .filter(Boolean)
