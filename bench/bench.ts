@@ -14,6 +14,7 @@ import { eigenBench } from './eigen';
 import { massChain, reportBench } from './report';
 import { tankChain, tankChainFamily, tankChainFlatElements, tankChainSympy } from './models';
 import { scaleBench, startupBench } from './scale';
+import { sensitivityBench } from './sensitivity';
 
 function ms(t0: bigint): number {
   return Number(process.hrtime.bigint() - t0) / 1e6;
@@ -119,6 +120,10 @@ async function main() {
   // report of a 50-state model including validity ranges (issue 12 target: under 1 s)
   console.log('');
   reportBench();
+
+  // sensitivities (200 states, 50 constants) and tolerance samples (1,000 of 20 states on two threads)
+  console.log('');
+  await sensitivityBench();
 
   // 200-step sweep of a 50-state model (issue target: under 5 s)
   console.log('');

@@ -43,7 +43,7 @@ describe('usage errors: exit 2, one line on stderr, nothing on stdout', () => {
     ['misspelt option, nearest suggested', ['solve', tank, '--pont', 'dry_day'], /unknown option --pont for "poise solve"; did you mean --point\?/],
     ['misspelt option with "="', ['linearize', tank, '--point=dry_day', '--fromat=json'], /unknown option --fromat .*did you mean --format\?/],
     ['unknown option, nothing near', ['check', tank, '--frobnicate'], /unknown option --frobnicate for "poise check"/],
-    ['option of another command', ['solve', tank, '--point', 'dry_day', '--html', 'x.html'], /option --html does not apply to "poise solve" \(it belongs to "poise report" or "poise sweep"\)/],
+    ['option of another command', ['solve', tank, '--point', 'dry_day', '--html', 'x.html'], /option --html does not apply to "poise solve" \(it belongs to "poise report", "poise sweep" or "poise sensitivity"\)/],
     ['option of another command (check)', ['check', tank, '--digits', '4'], /option --digits does not apply to "poise check"/],
     ['format not offered by the command', ['solve', tank, '--format', 'csv'], /--format of "poise solve" takes text or json, not "csv"/],
     ['--digits abc', ['solve', tank, '--point', 'dry_day', '--digits', 'abc'], /--digits takes a whole number from 1 to 17, not "abc"/],

@@ -11,6 +11,7 @@ import { formatLinearText, formatValues } from '../core/present/format';
 import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
 import { sweepCommand } from './sweep';
 import { expandCommand } from './expand';
+import { sensitivityCommand } from './sensitivity';
 import { reportCommand } from './report';
 import { reduceCommand, sampleCommand } from './handoff';
 import { commandHelp, commandSpec, generalHelp, nearest as nearestWord, parseCommandLine, UsageError, type Parsed } from './options';
@@ -260,7 +261,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
 }
 
 function nearestCommand(word: string): string | undefined {
-  const names = ['check', 'solve', 'linearize', 'report', 'sweep', 'expand', 'sample', 'reduce', 'lsp', 'help'];
+  const names = ['check', 'solve', 'linearize', 'report', 'sweep', 'sensitivity', 'expand', 'sample', 'reduce', 'lsp', 'help'];
   return names.find((n) => n.startsWith(word) && word.length >= 2) ?? nearestWord(word, names);
 }
 
@@ -271,6 +272,7 @@ extraCommands.report = reportCommand;
 extraCommands.expand = expandCommand;
 extraCommands.sample = sampleCommand;
 extraCommands.reduce = reduceCommand;
+extraCommands.sensitivity = sensitivityCommand;
 
 /** The version: injected into the bundle at build time (scripts/bundle.mjs), else read from package.json. */
 declare const POISE_VERSION: string | undefined;

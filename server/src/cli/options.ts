@@ -134,6 +134,23 @@ export const COMMANDS: CommandSpec[] = [
     ],
   },
   {
+    name: 'sensitivity',
+    args: 'FILE',
+    files: [1, 1],
+    summary: 'how the poles and gains move with each constant, and their bands from the tolerances written in the model',
+    options: [
+      POINT,
+      { name: '--top', value: { kind: 'integer', placeholder: 'N', min: 1, max: 1000 }, help: 'constants listed per mode and per gain', default: '5' },
+      { name: '--samples', value: { kind: 'integer', placeholder: 'N', min: 0, max: 1000000 }, help: 'Latin hypercube samples of the toleranced constants (0: first-order bands only)', default: '1000' },
+      { name: '--seed', value: { kind: 'integer', placeholder: 'N', min: 0, max: 4294967295 }, help: 'seed of the samples (the same seed gives the same samples)', default: '1' },
+      { name: '--workers', value: { kind: 'integer', placeholder: 'N', min: 1, max: 64 }, help: 'worker threads that evaluate the samples', default: 'the number of cores, at most 8' },
+      { name: '--format', value: choice('text', 'json'), help: 'text, or json (schema poise-sensitivity/1)', default: 'text' },
+      { name: '--html', value: text('OUT.html'), help: 'also write a page with the tables and the pole cloud' },
+      HELP,
+    ],
+    notes: ['Tolerances are written after a constant\'s value: const cv = 0.0045 [m^2.5/s] ± 8 % (or +/- 0.0004 [m^2.5/s]); see docs/language.md.'],
+  },
+  {
     name: 'expand',
     args: 'FILE',
     files: [1, 1],

@@ -18,6 +18,7 @@ import { holdOptions, reduceOptions, sampleTimeIn } from './handoff';
 
 /** Integrator step attempts a quick report may spend on its nonlinear step responses. */
 export const QUICK_WORK = 2000;
+import { reportSensitivity } from './sensitivity';
 
 export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {
   const file = h.oneFile(p);
@@ -85,7 +86,7 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   if (htmlOut) {
     try {
       fs.mkdirSync(path.dirname(path.resolve(htmlOut)), { recursive: true });
-      fs.writeFileSync(htmlOut, renderReportHtml(data), 'utf8');
+      fs.writeFileSync(htmlOut, renderReportHtml(data, { sensitivity: await reportSensitivity(file, r.a, r.point) }), 'utf8');
     } catch (e) {
       io.err(`poise: cannot write ${htmlOut}: ${(e as Error).message}`);
       return 1;

@@ -137,6 +137,12 @@ export const catalogue = {
   P601: { severity: 'warning', text: 'Linear block "{name}" is stale: the model or point changed since it was generated. Regenerate it.' },
   P602: { severity: 'error', text: 'Sweep "{name}": {detail}' },
 
+  // tolerance bands on constants (const NAME = VALUE ± BAND); numbered apart from the blocks above
+  P650: { severity: 'error', text: 'A tolerance belongs to a constant written as a value: "{name}" is computed from other constants. Put the tolerance on those constants instead.' },
+  P651: { severity: 'error', text: 'The tolerance of "{name}" must be a number with a unit (± 0.2 [m^2]) or a percentage (± 5 %), written without names: {detail}.' },
+  P652: { severity: 'error', text: 'The tolerance of "{name}" is {given}, which does not convert to the constant\'s unit {declared}: write it in that unit or as a percentage (± 5 %).' },
+  P653: { severity: 'error', text: 'The tolerance of "{name}" must be a finite number of at least 0, not {value}.' },
+
   // 7xx titles of editor actions (quick fixes, source actions); the severity is not shown
   P701: { severity: 'info', text: 'Regenerate linear block' },
   P702: { severity: 'info', text: 'Change to {name}' },

@@ -24,6 +24,7 @@ import { memoryHost, UNTITLED, type SourceHost } from '../sources';
 import { pushAll } from '../arrays';
 import { buildTables } from '../semantics/tables';
 import type { TableSource } from '../algebra/expr';
+import { checkTolerances, type ToleranceFacts } from '../semantics/tolerances';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;
@@ -56,6 +57,8 @@ export class Analysis {
   readonly structure: StructureResult;
   /** A constrained (index above 1) model's reduction by Pantelides' algorithm; states are chosen per point. */
   readonly indexPlan: IndexPlan | undefined;
+  /** Tolerance bands written on constants (`± 5 %`). */
+  readonly tolerances: ToleranceFacts;
   /** Diagnostics of the static stages (syntax, names, units, structure). */
   readonly diagnostics: Diagnostic[];
   /** Whether points can be solved (no errors that make the numbers meaningless). */
@@ -84,7 +87,8 @@ export class Analysis {
     const reduced = this.bound.diagnostics.some((d) => d.severity === 'error') ? { structure: checked, plan: undefined } : reduceStructure(this.lowered, checked);
     this.structure = reduced.structure;
     this.indexPlan = reduced.plan;
-    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics]);
+    this.tolerances = checkTolerances(this.bound, this.units, text);
+    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics, ...this.tolerances.diagnostics]);
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
 

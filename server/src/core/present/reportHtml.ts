@@ -14,12 +14,16 @@ import { unitSuffix } from '../semantics/units';
 import { directionText, multiplicityText } from './format';
 import { maxOf, minOf, pushAll } from '../arrays';
 import { reducedSectionHtml, sampledSectionHtml } from './handoffReport';
+import type { SensitivityReport } from '../analysis/sensitivity/bands';
+import { sensitivitySection } from './sensitivityHtml';
 
 export interface RenderOptions {
   /** Nonce for the inline style and script (webview). */
   nonce?: string;
   /** The webview's cspSource (allowed for styles and images besides the nonce). */
   cspSource?: string;
+  /** Sensitivities to the constants and tolerance bands (analysis/sensitivity), shown as a section with the pole cloud. */
+  sensitivity?: SensitivityReport;
 }
 
 // ------------------------------------------------------------------------------------- text helpers
@@ -389,9 +393,10 @@ export function renderReportHtml(data: ReportData, opts: RenderOptions = {}): st
     sections.push(sectionPoint(data), sectionModes(page, data), sectionGains(data), sectionTransfer(data), sectionBode(page, data), sectionSteps(page, data), sectionValidity(page, data));
     if (data.skipped?.length) sections.push(`<section id="skipped"><h2>Left out or cut short</h2><ul>${data.skipped.map((x) => `<li>${esc(x)}</li>`).join('')}</ul></section>`);
     sections.push(sampledSectionHtml(page, data.sampled), reducedSectionHtml(page, data.reduced));
+    if (opts.sensitivity) sections.push(sensitivitySection(page, opts.sensitivity));
   }
   const nav = data.ok
-    ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}${data.sampled !== undefined ? '<a href="#sampled">Sampled model</a>' : ''}${data.reduced !== undefined ? '<a href="#reduced">Smaller model</a>' : ''}`
+    ? `<a href="#point">Point</a><a href="#modes">Stability &amp; modes</a><a href="#gains">Gains</a><a href="#transfer">Transfer functions</a><a href="#ctrb">Controllability</a><a href="#bode">Frequency response</a><a href="#steps">Step responses</a>${data.validity ? '<a href="#validity">Validity range</a>' : ''}${data.sampled !== undefined ? '<a href="#sampled">Sampled model</a>' : ''}${data.reduced !== undefined ? '<a href="#reduced">Smaller model</a>' : ''}${opts.sensitivity ? '<a href="#sensitivity">Sensitivities</a>' : ''}`
     : undefined;
   const meta = [`time in ${esc(data.timeUnit)}`, data.digest ? `model digest ${esc(data.digest)}` : '', data.ok ? `${data.states.length} state component(s), ${data.inputs.length} input(s), ${data.outputs.length} output(s)${data.outputsAreStates ? ' (the states)' : ''}` : '']
     .filter(Boolean)

@@ -152,6 +152,16 @@ export interface ConstDecl {
   name: Ident;
   value: Expr;
   span: Span;
+  /** `± 5 %` or `± 0.2 [unit]` after the value: how far the real constant may lie from it. */
+  tolerance?: ToleranceBand;
+}
+
+/** A tolerance band: `value` is the half-width, in % of the constant when `percent`, else in the constant's unit. */
+export interface ToleranceBand {
+  value: Expr;
+  percent: boolean;
+  /** From "±" to the end of the band. */
+  span: Span;
 }
 
 export type VarKind = 'input' | 'state' | 'var';

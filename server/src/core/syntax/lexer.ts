@@ -187,6 +187,13 @@ export function lex(text: string): LexResult {
       i += 2;
       continue;
     }
+    // a tolerance band after a constant's value: "±" (or "+/-", never an expression), "%" after its number
+    if (ch === '±' || ch === '%' || (ch === '+' && text.startsWith('+/-', i))) {
+      const len = ch === '+' ? 3 : 1;
+      push({ kind: 'op', text: ch === '%' ? '%' : '±', span: { start: i, end: i + len } });
+      i += len;
+      continue;
+    }
     if (OPS.has(ch)) {
       if (ch === '(') depth++;
       else if (ch === ')') depth = Math.max(0, depth - 1);

@@ -155,8 +155,9 @@ function parseStatement(p: LineParser, line: Line, inEach = false): A.Statement 
       const name = p.declName();
       p.expectOp('=', '"=" and the value, e.g. const area = 1.2 [m^2]');
       const value = p.expr();
-      p.expectEnd('end of line after the value');
-      return { kind: 'const', name, value, span };
+      const tolerance = toleranceBand(p);
+      p.expectEnd(tolerance ? 'end of line after the tolerance' : 'end of line after the value, or a tolerance such as ± 5 %');
+      return tolerance ? { kind: 'const', name, value, span, tolerance } : { kind: 'const', name, value, span };
     }
     case 'input':
     case 'state':
@@ -356,4 +357,16 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
     });
   }
   return { kind: 'sweep', name, point, vary, span, headerSpan };
+}
+
+/** `± EXPR [%]` after a constant's value (`+/-` is the same sign); undefined when the line has none. */
+function toleranceBand(p: LineParser): A.ToleranceBand | undefined {
+  if (!p.isOp('±')) return undefined;
+  const start = p.peek()!.span.start;
+  p.i++;
+  const value = p.expr();
+  let end = value.span.end;
+  const percent = p.isOp('%');
+  if (percent) end = p.toks[p.i++].span.end;
+  return { value, percent, span: { start, end } };
 }
