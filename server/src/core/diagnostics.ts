@@ -48,6 +48,9 @@ export const catalogue = {
   P121: { severity: 'error', text: 'A range "first..last" belongs in a declaration (state h[1..n]) or an each header; here write one index.' },
   P122: { severity: 'error', text: 'An output family is defined element by element: write "each i in 1..n:" and under it "output {name}[i] [unit] = …".' },
   P123: { severity: 'error', text: 'Only equations, outputs and nested "each" blocks go inside an each block; move declarations and points out of it.' },
+  P130: { severity: 'error', text: 'The text in double quotes is not closed: add " at its end.' },
+  P131: { severity: 'error', text: '"{word}" cannot go inside a part: a part holds constants, inputs, states, vars, outputs, equations, each blocks and places of other parts; move it out of the part.' },
+  P132: { severity: 'error', text: 'An instance is named once: write "as {name}" for one instance or "as {name}[1..n]" for a family of instances.' },
 
   // 2xx names
   P201: { severity: 'error', text: 'Unknown name "{name}": declare it (const, input, state, var or output) or fix the spelling.' },
@@ -74,6 +77,18 @@ export const catalogue = {
   P235: { severity: 'error', text: 'A list {…} gives the values of a family\'s elements: use it only for a family constant or a family in a point.' },
   P236: { severity: 'error', text: 'The range of "{name}" is empty ({from}..{to}): the first index must not exceed the last.' },
   P237: { severity: 'error', text: '"{name}" has {size} elements but the list has {count} values: give one value per element, or one value for all.' },
+  P250: { severity: 'error', text: '"{name}" is not declared in part "{part}": a part sees only its own names; declare it in the part (an input to tie from outside, or a const), or fix the spelling.' },
+  P251: { severity: 'error', text: 'Unknown part "{name}": define it with "part {name}:" or bring in the file that defines it with parts from "…".' },
+  P252: { severity: 'error', text: 'Part "{name}" would contain itself ({chain}): remove the place line that closes the circle.' },
+  P253: { severity: 'error', text: '"{name}" is not a constant of part "{part}", so this use cannot change it: {advice}.' },
+  P254: { severity: 'error', text: '"{name}" is given twice in this place line: keep one.' },
+  P255: { severity: 'error', text: 'No file "{path}" (looked for {resolved}): check the path; it is relative to the folder of the file that names it.' },
+  P256: { severity: 'error', text: 'The files bring each other in, in a circle ({chain}): remove one of these parts lines.' },
+  P257: { severity: 'error', text: 'Part "{name}" is defined twice ({first} and {second}): rename one, or bring in only the parts needed (parts A, B from "…").' },
+  P258: { severity: 'error', text: '"{file}" has no part "{name}": {advice}.' },
+  P259: { severity: 'error', text: '"{path}" is a folder of parts: name the parts to take from it, e.g. parts tank, valve from "{path}" (each from its own file tank.poise, valve.poise).' },
+  P260: { severity: 'error', text: 'The instance name "{name}" is already used by {what}: choose another name.' },
+  P261: { severity: 'error', text: '"{name}" is an instance of part "{part}", not a value: name one of its members, e.g. {name}.{example}.' },
 
   // 3xx units
   P301: { severity: 'error', text: 'Unknown unit "{unit}": {detail}' },
