@@ -26,7 +26,7 @@ export function varyRequest(a: Analysis, point: string, vary: string): { spec?: 
   const header = `\nsweep ${name} from ${point}:\n  vary `;
   const text = base + header + body + '\n';
   const start = base.length + header.length;
-  const b = analyze(text);
+  const b = a.withText(text);
   const mine = (s: number) => s >= base.length;
   const prefix = `Sweep "${name}": `;
   const say = (m: string) => `--vary: ${m.startsWith(prefix) ? m.slice(prefix.length) : m}`;

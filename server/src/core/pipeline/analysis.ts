@@ -18,7 +18,7 @@ import { checkStructure, type StructureResult } from '../model/structure';
 import { LineMap } from '../text';
 import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 import { unitText } from '../semantics/units';
-import { memoryHost, UNTITLED, type SourceHost } from '../sources';
+import { layeredHost, memoryHost, UNTITLED, type SourceHost } from '../sources';
 import { pushAll } from '../arrays';
 
 export interface AnalyzeOptions {
@@ -126,6 +126,16 @@ export class Analysis {
       out.push(d);
     }
     return out;
+  }
+
+  /** The analysis of another text of the same document, read with the same host (for the files it brings in). */
+  withText(text: string, options: AnalyzeOptions = this.options): Analysis {
+    return new Analysis(text, options, this.uri, layeredHost(memoryHost({ [this.uri]: text }), this.sources));
+  }
+
+  /** The document and line/character positions of a span (of the root or of a file brought in). */
+  where(span: { start: number; end: number }) {
+    return this.documents.at(span);
   }
 
   /** The source text of a span, in whichever document it lies. */
@@ -293,7 +303,10 @@ export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
 
 /** Diagnostics with line/column positions (for the CLI and tests). */
 export function located(a: Analysis, ds: Diagnostic[]) {
-  return ds.map((d) => ({ ...d, start: a.lines.position(d.span.start), end: a.lines.position(d.span.end) }));
+  return ds.map((d) => {
+    const w = a.where(d.span);
+    return { ...d, uri: w.uri, start: w.start, end: w.end };
+  });
 }
 
 /** Diagnostics without repeats: a template line of an each block reports the same problem once. */

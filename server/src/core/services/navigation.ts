@@ -87,7 +87,7 @@ export function rename(a: Analysis, offset: number, newName: string): RenameResu
   // generated blocks that were up to date stay up to date: recompute their digests for the renamed model
   const fresh = a.bound.linears.filter((lb) => lb.name.name && lb.digest && a.pointBlock(lb.name.name) && lb.digest.text.trim() === a.digest(lb.name.name));
   if (fresh.length) {
-    const b = analyze(applyEdits(a.text, edits), a.options);
+    const b = a.withText(applyEdits(a.text, edits));
     for (const lb of fresh) {
       const point = t.kind === 'point' && lb.name.name === t.name ? newName : lb.name.name;
       edits.push({ span: lb.digest!.span, newText: b.digest(point) });
