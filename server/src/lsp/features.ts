@@ -22,7 +22,7 @@ import { quickFixes, type DiagnosticRef } from '../core/services/quickFixes';
 import { TOKEN_MODIFIERS, TOKEN_TYPES, semanticTokens } from '../core/services/semanticTokens';
 import { documentOutline } from '../core/services/symbols';
 import type { Analyses, OpenDocument } from './analyses';
-import { toCompletionItem, toDocumentSymbol, toRange, toSpan, toTextEdit, type DiagnosticData } from './convert';
+import { toCompletionItem, toDocumentSymbol, toLocation, toRange, toSpan, toTextEdit, type DiagnosticData } from './convert';
 import { ErrorCode, guard, type LogError } from './guard';
 import { fileName, type PointEdit } from './jobs';
 import * as P from './params';
@@ -74,12 +74,12 @@ export function registerFeatures(x: FeatureContext): void {
 
   c.onDefinition(on('textDocument/definition', P.positionParams, (p) => {
     const d = open(p.textDocument.uri);
-    return d ? definition(d.a, offset(d, p.position)).map((s) => ({ uri: d.doc.uri, range: toRange(d.a, s) })) : [];
+    return d ? definition(d.a, offset(d, p.position)).map((s) => toLocation(d.a, s)) : [];
   }));
 
   c.onReferences(on('textDocument/references', P.referenceParams, (p) => {
     const d = open(p.textDocument.uri);
-    return d ? references(d.a, offset(d, p.position), p.context.includeDeclaration).map((s) => ({ uri: d.doc.uri, range: toRange(d.a, s) })) : [];
+    return d ? references(d.a, offset(d, p.position), p.context.includeDeclaration).map((s) => toLocation(d.a, s)) : [];
   }));
 
   c.onPrepareRename(on('textDocument/prepareRename', P.positionParams, (p) => {

@@ -69,9 +69,16 @@ export function startServer(): void {
   const diagnostics = new DiagnosticsRun(connection, analyses, options, log, logError);
   context = { connection, documents, analysis: (uri) => analyses.open(uri)?.a, settings: (uri) => settings.for(uri), log };
 
-  documents.onDidChangeContent((e) => diagnostics.changed(e.document.uri));
+  documents.onDidChangeContent((e) => {
+    diagnostics.changed(e.document.uri);
+    // the open models that place parts from this file are analysed again
+    for (const u of analyses.usersOf(e.document.uri)) diagnostics.changed(u);
+  });
   documents.onDidClose((e) => {
+    const users = analyses.usersOf(e.document.uri);
     analyses.forget(e.document.uri);
+    // a closed parts file is read from the disk again by the models that use it
+    for (const u of users) diagnostics.changed(u);
     settings.forget(e.document.uri);
     diagnostics.closed(e.document.uri);
   });
