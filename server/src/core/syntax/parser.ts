@@ -194,6 +194,8 @@ function parseStatement(p: LineParser, line: Line, inEach = false): A.Statement 
       if (ob && (inEach || /^\s*\d+\s*$/.test(ob.text))) {
         p.i++;
         name.index = p.bracketContent(ob, false).index;
+        const m = p.member();
+        if (m) name.member = m;
       } else if (ob && /\.\./.test(ob.text)) {
         throw new SyntaxError_(diag('P122', ob.span, { name: name.name }));
       }
