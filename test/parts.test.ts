@@ -19,53 +19,7 @@ import { modelText } from '../server/src/core/present/modelText';
 import { analyze } from '../server/src/core/pipeline/analysis';
 import { dedent, solve, solveAnalysis } from './helpers/model';
 
-const ROOT = 'mem:/plant/model.poise';
-const LIB = 'mem:/plant/lib/tank.poise';
-const PIPE = 'mem:/plant/lib/pipe.poise';
-
-const tankFile = dedent(`
-  # a tank drained by gravity through a fixed outlet
-  part tank:
-    const area = 1.2 [m^2]
-    const k = 0.01 [m^2.5/s]
-    input inflow [m^3/s]
-    state level [m]
-    var outflow [m^3/s]
-    output level_cm [cm] = level
-    area*level' = inflow - outflow
-    outflow = k*sqrt(level)
-`);
-
-const pipeFile = dedent(`
-  part pipe:
-    const delay_volume = 0.05 [m^3]
-    input q_in [m^3/s]
-    state held [m^3]
-    var q_out [m^3/s]
-    held' = q_in - q_out
-    q_out = q_in*held/delay_volume
-`);
-
-const partsModel = dedent(`
-  parts from "lib/tank.poise"
-  parts pipe from "lib"
-  const n = 3
-  input feed [m^3/s]
-  place tank as first with area = 2 [m^2], k = 0.02 [m^2.5/s]
-  place pipe as link
-  place tank as cell[1..n] with k = {0.010, 0.012, 0.015} [m^2.5/s]
-  first.inflow = feed
-  link.q_in = first.outflow
-  cell[1].inflow = link.q_out
-  each i in 2..n: cell[i].inflow = cell[i-1].outflow
-  output total [m] = first.level + sum(each i in 1..n: cell[i].level)
-
-  point nominal:
-    feed = 0.006 [m^3/s]
-    first.level ~ 0.1 [m]
-    link.held ~ 0.05 [m^3]
-    cell.level ~ 0.3 [m]
-`);
+import { LIB, PIPE, ROOT, partsModel, pipeFile, tankFile } from './helpers/partsModels';
 
 /** The same plant written out by hand, element by element, in the names the parts model gets. */
 const flatModel = dedent(`
@@ -249,7 +203,7 @@ describe('diagnostics of parts: in the right file, with exact ranges', () => {
       parts tank, valve from "lib"
       parts from "lib"
     `));
-    expect(d.find((x) => x.code === 'P255')).toMatchObject({ at: 'model.poise 1:24-1:29' });
+    expect(d.find((x) => x.code === 'P255')).toMatchObject({ at: 'model.poise 1:13-1:18' });
     expect(d.find((x) => x.code === 'P259')).toMatchObject({ at: 'model.poise 2:12-2:17' });
     const e = where(one(`parts valve from "lib/tank.poise"\n`));
     expect(e.find((x) => x.code === 'P258')).toMatchObject({ at: 'model.poise 1:7-1:12' });

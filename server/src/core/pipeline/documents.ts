@@ -190,7 +190,8 @@ export function loadParts(host: SourceHost, rootUri: string, rootText: string, r
         const known = docs.some((d) => d.uri === t.uri);
         const d = open(t.uri);
         if (!d) {
-          diagnostics.push(diag('P255', st.path.span, { path: folder ? `${st.path.text}/${t.names[0].name}.poise` : st.path.text, resolved: t.uri }));
+          // a part of a folder that has no file: on the part's name; a file: on the path
+          diagnostics.push(diag('P255', folder ? t.names[0].span : st.path.span, { path: folder ? `${st.path.text}/${t.names[0].name}.poise` : st.path.text, resolved: t.uri }));
           continue;
         }
         if (!broughtBy.has(d.uri)) broughtBy.set(d.uri, line);

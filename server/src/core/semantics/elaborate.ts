@@ -137,6 +137,7 @@ function usesFamilies(file: A.ModelFile): boolean {
       case 'output': if (identHas(st.name) || exprHas(st.value)) return true; break;
       case 'equation': if (exprHas(st.lhs) || exprHas(st.rhs)) return true; break;
       case 'point': if (st.lines.some((l) => l.index || l.name.name.includes('.') || exprHas(l.value))) return true; break;
+      case 'sweep': if (st.vary?.name.index) return true; break;
       case 'linear': if (st.at.some((x) => x.name.index) || st.equations.some((q) => exprHas(q.lhs) || exprHas(q.rhs)) || st.at.some((x) => exprHas(x.value))) return true; break;
     }
   }
@@ -421,6 +422,14 @@ export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>
           case 'part':
           case 'parts':
             return; // definitions and files: the places expand them
+          case 'sweep': {
+            const v = st.vary;
+            if (v && v.name.index) {
+              const name = v.name.member ? memberName(v.name.name, v.name.index, v.name.member, v.name.span, bind) : element(v.name.name, v.name.index, v.name.span, bind);
+              sink.push({ ...st, vary: { ...v, name: { name, span: v.name.span } } });
+            } else sink.push(st);
+            return;
+          }
           case 'point':
             sink.push({ ...st, lines: pointLines(st.lines) });
             return;

@@ -351,6 +351,14 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
       if (!lp.isName('vary')) throw new SyntaxError_(diag('P113', l.span));
       lp.i++;
       const n = lp.expectName();
+      const b = lp.adjacentBracket();
+      if (b) {
+        // an element (h[3]) or a member of an element of a family of instances (v[2].opening)
+        lp.i++;
+        n.index = lp.bracketContent(b, false).index;
+        const m = lp.member();
+        if (m) n.member = m;
+      }
       lp.expectOp('=');
       const from = lp.expr();
       if (!lp.isName('to')) lp.fail('"to"');
