@@ -297,3 +297,17 @@ describe('diagnostics of parts: in the right file, with exact ranges', () => {
     expect(d.map((x) => x.code).sort()).toEqual(['P250', 'P302']);
   });
 });
+
+describe('the example of docs/language.md', () => {
+  it('solves, each tank at the level Torricelli\'s law gives for its outlet', async () => {
+    const fs = await import('fs');
+    const path = await import('path');
+    const doc = fs.readFileSync(path.join(__dirname, '..', 'docs', 'language.md'), 'utf8');
+    const at = doc.indexOf('## Parts: pieces of model used many times');
+    const start = doc.indexOf('```', at) + 4;
+    const s = solve(doc.slice(start, doc.indexOf('```', start)));
+    // h = (q/k)^2 with q = 0.01 m^3/s through every tank of the chain (common practice)
+    expect(s.value('first.level')).toBeCloseTo((0.01 / 0.004) ** 2, 10);
+    [4, 4.5, 5, 5.5].forEach((k, i) => expect(s.value(`cell[${i + 1}].level`)).toBeCloseTo((0.01 / (k * 1e-3)) ** 2, 10));
+  });
+});
