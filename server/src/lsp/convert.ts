@@ -105,6 +105,8 @@ const SYMBOL_KIND: Record<OutlineItem['kind'], SymbolKind> = {
   pointLine: SymbolKind.Field,
   linear: SymbolKind.Module,
   sweep: SymbolKind.Event,
+  part: SymbolKind.Class,
+  instance: SymbolKind.Object,
 };
 
 export function toDocumentSymbol(a: Analysis, o: OutlineItem): DocumentSymbol {
