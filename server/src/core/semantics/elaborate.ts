@@ -602,21 +602,21 @@ export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>
   };
 
   statements(file.statements, new Map(), out);
+  let flat = out;
   if (tied.size) {
     // tied inputs of instances are vars of the flat model
-    for (let k = 0; k < out.length; k++) {
-      const st = out[k];
-      if (st.kind !== 'input' || !st.names.some((id) => tied.has(id.name))) continue;
+    flat = [];
+    for (const st of out) {
+      if (st.kind !== 'input' || !st.names.some((id) => tied.has(id.name))) {
+        flat.push(st);
+        continue;
+      }
       const free = st.names.filter((id) => !tied.has(id.name));
-      const vars = st.names.filter((id) => tied.has(id.name));
-      const repl: A.Statement[] = [];
-      if (free.length) repl.push({ ...st, names: free });
-      repl.push({ ...st, kind: 'var', names: vars });
-      out.splice(k, 1, ...repl);
-      k += repl.length - 1;
+      if (free.length) flat.push({ ...st, names: free });
+      flat.push({ ...st, kind: 'var', names: st.names.filter((id) => tied.has(id.name)) });
     }
   }
-  return { file: { ...file, statements: out }, diagnostics, families, usedInIndices, instances, instanceFamilies };
+  return { file: { ...file, statements: flat }, diagnostics, families, usedInIndices, instances, instanceFamilies };
 }
 
 /** The items of a list for a family of `size` elements, each with the list's unit when it has none. */
