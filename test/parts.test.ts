@@ -311,3 +311,61 @@ describe('the example of docs/language.md', () => {
     [4, 4.5, 5, 5.5].forEach((k, i) => expect(s.value(`cell[${i + 1}].level`)).toBeCloseTo((0.01 / (k * 1e-3)) ** 2, 10));
   });
 });
+
+describe('editor services on parts', () => {
+  it('hover: a qualified name names its declaration in the parts file; a part\'s name lists its names and instances', async () => {
+    const { hover } = await import('../server/src/core/services/hover');
+    const a = plant();
+    const h = hover(a, a.text.indexOf('first.level ~') + 8)!;
+    expect(h.markdown).toContain('**state** `first.level` [m] — declared on line 6 of tank.poise');
+    const p = hover(a, a.text.indexOf('place pipe') + 7)!;
+    expect(p.markdown).toContain('**part** `pipe` — defined on line 1 of pipe.poise');
+    expect(p.markdown).toContain('Placed as `link`.');
+  });
+
+  it('outline: one item per family, instances with their part', async () => {
+    const { documentOutline } = await import('../server/src/core/services/symbols');
+    const o = documentOutline(analyze(dedent(`
+      part cellp:
+        state h
+        h' = -h
+      const n = 3
+      state x[1..n]
+      each i in 1..n: x[i]' = -x[i]
+      place cellp as c[1..n]
+    `)));
+    expect(o.find((g) => g.name === 'States')!.children!.map((c) => c.name)).toEqual(['x[1..3]']);
+    expect(o.find((g) => g.name === 'Parts')!.children!.map((c) => c.name)).toEqual(['cellp']);
+    expect(o.find((g) => g.name === 'Instances')!.children!.map((c) => [c.name, c.detail])).toEqual([['c[1..3]', 'cellp ×3']]);
+    expect(o.find((g) => g.name === 'Equations')!.children).toHaveLength(1);
+  });
+
+  it('rename of a name inside a local part renames every use, qualified ones included', async () => {
+    const { rename } = await import('../server/src/core/services/navigation');
+    const { applyEdits } = await import('../server/src/core/services/edits');
+    const text = dedent(`
+      part cellp:
+        const rate = 2 [1/s]
+        state h
+        h' = -rate*h
+      place cellp as c[1..2] with rate = {1, 3} [1/s]
+      place cellp as one
+      output total = c[1].h + c[2].h + one.h
+      point p:
+        c.h ~ 1
+    `);
+    const a = analyze(text);
+    const r = rename(a, text.indexOf('state h') + 6, 'level');
+    expect(r.ok).toBe(true);
+    const out = applyEdits(text, r.ok ? r.edits : []);
+    expect(out).toContain("level' = -rate*level");
+    expect(out).toContain('output total = c[1].level + c[2].level + one.level');
+    expect(out).toContain('  c.level ~ 1');
+    const r2 = rename(a, text.indexOf('with rate') + 6, 'k');
+    const out2 = applyEdits(text, r2.ok ? r2.edits : []);
+    expect(out2).toContain('const k = 2 [1/s]');
+    expect(out2).toContain("h' = -k*h");
+    expect(out2).toContain('with k = {1, 3} [1/s]');
+    expect(analyze(out2).allDiagnostics().filter((d) => d.severity === 'error')).toEqual([]);
+  });
+});
