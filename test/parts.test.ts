@@ -369,3 +369,29 @@ describe('editor services on parts', () => {
     expect(analyze(out2).allDiagnostics().filter((d) => d.severity === 'error')).toEqual([]);
   });
 });
+
+describe('Solve and Linearize on the parts example write valid blocks in the qualified names', () => {
+  it('examples/feed_header: the solved point and the generated block read back without problems', async () => {
+    const fs = await import('fs');
+    const path = await import('path');
+    const { linearizeEdit } = await import('../server/src/core/services/linearBlock');
+    const { solveEdits } = await import('../server/src/core/services/solve');
+    const { applyEdits } = await import('../server/src/core/services/edits');
+    const dir = path.join(__dirname, '..', 'examples', 'feed_header');
+    const host = { read: (u: string) => (u.startsWith('ex:/') ? fs.readFileSync(path.join(dir, u.slice(4)), 'utf8') : undefined) };
+    let a = analyzeDocuments(host, 'ex:/plant.poise')!;
+    const se = solveEdits(a, 'design');
+    expect(se.ok).toBe(true);
+    a = a.withText(applyEdits(a.text, se.ok ? se.edits : []));
+    expect(a.text).toContain('  t.level ~ {0.3197, 0.273, 0.229, 0.188} [m]');
+    const e = linearizeEdit(a, 'design');
+    expect(e.ok).toBe(true);
+    const b = a.withText(applyEdits(a.text, e.ok ? [e.edit] : []));
+    expect(b.text).toContain("  Δt[1].level' = -0.001929*Δt[1].level");
+    expect(b.text).toContain('  at v[4].p_down = 1841 [Pa]');
+    expect(b.allDiagnostics()).toEqual([]);
+    // the block's coefficients are the linear model's (the same numbers by the route of A itself)
+    const lin = b.linear('design')!;
+    expect(lin.A[0]).toBeCloseTo(-0.001929, 6);
+  });
+});
