@@ -395,3 +395,42 @@ describe('Solve and Linearize on the parts example write valid blocks in the qua
     expect(lin.A[0]).toBeCloseTo(-0.001929, 6);
   });
 });
+
+describe('parts inside parts', () => {
+  const text = dedent(`
+      part tank:
+        const k = 0.01 [m^2.5/s]
+        input inflow [m^3/s]
+        state level [m]
+        var outflow [m^3/s]
+        1 [m^2]*level' = inflow - outflow
+        outflow = k*sqrt(level)
+      part pair:
+        const k2 = 0.02 [m^2.5/s]
+        input feed [m^3/s]
+        var out [m^3/s]
+        place tank as c[1..2] with k = {k2, 2*k2}
+        c[1].inflow = feed
+        c[2].inflow = c[1].outflow
+        out = c[2].outflow
+      input q [m^3/s]
+      place pair as p[1..2] with k2 = {0.01, 0.02} [m^2.5/s]
+      place pair as solo
+      p[1].feed = q
+      p[2].feed = p[1].out
+      solo.feed = p[2].out
+      point x:
+        q = 0.01 [m^3/s]
+        p.c.level ~ 1 [m]
+        solo.c[2].level ~ 0.5 [m]
+  `);
+  it('a family of instances of a part that places a family of instances: names, levels (Torricelli) and the expanded text', () => {
+    const s = solve(text);
+    expect(s.lin.states).toEqual(['p[1].c[1].level', 'p[1].c[2].level', 'p[2].c[1].level', 'p[2].c[2].level', 'solo.c[1].level', 'solo.c[2].level']);
+    // h = (q/k)^2 with the k each instance gets: k2 from the outer place line, k = {k2, 2*k2} from the inner one
+    const ks = [0.01, 0.02, 0.02, 0.04, 0.02, 0.04];
+    s.lin.states.forEach((n, i) => expect(s.value(n)).toBeCloseTo((0.01 / ks[i]) ** 2, 10));
+    const back = solve(modelText(s.a.parsed.file));
+    for (const m of ['A', 'B', 'C', 'D'] as const) expect(Array.from(back.lin[m])).toEqual(Array.from(s.lin[m]));
+  });
+});
