@@ -434,3 +434,16 @@ describe('parts inside parts', () => {
     for (const m of ['A', 'B', 'C', 'D'] as const) expect(Array.from(back.lin[m])).toEqual(Array.from(s.lin[m]));
   });
 });
+
+describe('folding', () => {
+  it('a part block folds from its header to its last line', async () => {
+    const { foldingRanges } = await import('../server/src/core/services/folding');
+    const f = foldingRanges(analyze(dedent(`
+      part cellp:
+        state h
+        h' = -h
+      place cellp as one
+    `)));
+    expect(f).toEqual([{ startLine: 0, endLine: 2, kind: 'region' }]);
+  });
+});
