@@ -141,4 +141,20 @@ describe('a model with parts from a file on the disk', () => {
     expect(r.text).toContain('var t1.inflow [m^3/s]');
     expect(r.text).not.toContain('place tank');
   });
+
+  it('a large model of parts (its points solved in the worker) gets the parts file too', async () => {
+    const big = pathToFileURL(path.join(dir, 'big.poise')).href;
+    const text = 'parts from "lib/tank.poise"\ninput feed [m^3/s]\nplace tank as t[1..120]\nt[1].inflow = feed\neach i in 2..120: t[i].inflow = t[i-1].outflow\n\npoint nominal:\n  feed = 0.01 [m^3/s]\n  t.height ~ 1 [m]\n';
+    const ds = await s.open(big, text);
+    expect(ds).toEqual([]);
+    // a hover asks for the solved point: in the worker, which needs the parts file's text
+    const h = await s.hover(big, s.pos(big, 't.height ~', 3));
+    // a line for the whole family of instances: the first instance's name and its solved value
+    expect(h!.contents.value).toContain('**state** `t[1].height` [m] — declared on line 5 of tank.poise');
+    expect(h!.contents.value).toMatch(/\| nominal \| 1 m \| solved \|/);
+    const h2 = await s.hover(big, s.pos(big, 't[1].inflow', 6));
+    expect(h2!.contents.value).toContain('**var** `t[1].inflow` [m^3/s]');
+    expect(h2!.contents.value).toMatch(/\| nominal \| 0\.01 m\^3\/s \| solved \|/);
+  });
 });
+
