@@ -156,5 +156,24 @@ describe('a model with parts from a file on the disk', () => {
     expect(h2!.contents.value).toContain('**var** `t[1].inflow` [m^3/s]');
     expect(h2!.contents.value).toMatch(/\| nominal \| 0\.01 m\^3\/s \| solved \|/);
   });
+
+  it('a parts file changed on the disk (not open): the models that bring it in are analysed again', async () => {
+    const pumpFile = path.join(dir, 'lib', 'pump.poise');
+    const pump = 'part pump:\n  input speed\n  var q [m^3/s]\n  q = 0.01 [m^3/s]*speed\n';
+    fs.writeFileSync(pumpFile, pump);
+    const m2 = pathToFileURL(path.join(dir, 'm2.poise')).href;
+    expect(await s.open(m2, 'parts pump from "lib"\nplace pump as p1\noutput flow [m^3/s] = p1.q\n')).toEqual([]);
+    const n = s.published.get(m2)!.length;
+    fs.writeFileSync(pumpFile, pump.replace('*speed', '*sped'));
+    await s.conn.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: pathToFileURL(pumpFile).href, type: 2 }] });
+    const ds = await s.until(() => {
+      const list = s.published.get(m2)!;
+      return list.length > n ? list[list.length - 1].params.diagnostics : undefined;
+    }, 20000, 'm2 analysed again');
+    const d = ds.find((x) => x.code === 'P250')!;
+    expect(d.range.start.line).toBe(0);
+    expect(d.message).toMatch(/^pump\.poise:4: "sped" is not declared in part "pump"/);
+    expect(d.relatedInformation![0].location.uri).toBe(pathToFileURL(pumpFile).href);
+  });
 });
 

@@ -22,7 +22,7 @@
  * Other modules may add requests with `registerRequest` (registry.ts), before or after startServer().
  */
 import {
-  CodeActionKind, DidChangeConfigurationNotification, ProposedFeatures, TextDocumentSyncKind, TextDocuments, createConnection,
+  CodeActionKind, DidChangeConfigurationNotification, DidChangeWatchedFilesNotification, ProposedFeatures, TextDocumentSyncKind, TextDocuments, createConnection,
   type ClientCapabilities, type InitializeResult,
 } from 'vscode-languageserver/node';
 import { TextDocument } from 'vscode-languageserver-textdocument';
@@ -97,8 +97,16 @@ export function startServer(): void {
     if (settings.pull && caps.workspace?.didChangeConfiguration?.dynamicRegistration) {
       await connection.client.register(DidChangeConfigurationNotification.type, { section: 'poise' });
     }
+    if (caps.workspace?.didChangeWatchedFiles?.dynamicRegistration) {
+      // parts files changed on the disk (not open in the editor): the open models that bring them in
+      await connection.client.register(DidChangeWatchedFilesNotification.type, { watchers: [{ globPattern: '**/*.poise' }] });
+    }
     await settings.changed();
     diagnostics.all();
+  }, logError));
+
+  connection.onDidChangeWatchedFiles(guardNotification('workspace/didChangeWatchedFiles', (p: { changes?: { uri: string }[] }) => {
+    for (const c of p?.changes ?? []) if (typeof c?.uri === 'string') for (const u of analyses.usersOf(c.uri)) diagnostics.changed(u);
   }, logError));
 
   connection.onDidChangeConfiguration(guardNotification('workspace/didChangeConfiguration', async (change: { settings?: unknown }) => {

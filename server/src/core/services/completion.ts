@@ -10,6 +10,7 @@ import { inComment, statementAt, unitBracketAt } from './locate';
 import { KEYWORD_DOC } from './hover';
 import type * as A from '../syntax/ast';
 import type { PartDef } from '../semantics/elaborate';
+import { writtenStart } from './partMembers';
 
 export type CompletionKind = 'const' | 'input' | 'state' | 'var' | 'output' | 'function' | 'constant' | 'keyword' | 'unit' | 'point';
 
@@ -139,18 +140,7 @@ function continuation(a: Analysis, line: number): boolean {
 
 /** The names of the part of the instance written before the dot at `dot` (`t1.`, `cell[i].`, `cell.`). */
 function memberCompletions(a: Analysis, dot: number, replace: Span): CompletionCandidate[] | undefined {
-  const text = a.text;
-  let s = dot;
-  let depth = 0;
-  while (s > 0) {
-    const c = text[s - 1];
-    if (c === ']') depth++;
-    else if (c === '[') depth--;
-    else if (depth === 0 && !IDENT.test(c) && c !== '.') break;
-    if (depth < 0) break;
-    s--;
-  }
-  const written = text.slice(s, dot);
+  const written = a.text.slice(writtenStart(a.text, dot), dot);
   if (!written) return undefined;
   const bare = written.replace(/\[[^\]]*\]/g, '');
   let part: PartDef | undefined = a.instances.get(written)?.part ?? a.instanceFamilies.get(bare)?.part;

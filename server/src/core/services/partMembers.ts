@@ -65,12 +65,26 @@ export function memberAt(a: Analysis, offset: number): MemberTarget | undefined 
   }
   // after an instance's name and a dot: t1.level, cell[i].level, cell.level
   if (a.text[w.start - 1] !== '.') return undefined;
-  let s = w.start - 1;
-  while (s > 0 && /[\p{L}\p{N}_.\]\[+\-*/ ]/u.test(a.text[s - 1]) && a.text[s - 1] !== ' ') s--;
-  const written = a.text.slice(s, w.start - 1);
+  const written = a.text.slice(writtenStart(a.text, w.start - 1), w.start - 1);
   const inst = instanceOfWritten(a, written);
   if (!inst || !partNames(inst.block).has(word)) return undefined;
   return { part: inst, name: word, span: w };
+}
+
+/** Where the instance's name written before the dot at `dot` starts (brackets may hold index arithmetic). */
+export function writtenStart(text: string, dot: number): number {
+  let s = dot;
+  let depth = 0;
+  while (s > 0) {
+    const c = text[s - 1];
+    if (c === ']') depth++;
+    else if (c === '[') {
+      if (depth === 0) break;
+      depth--;
+    } else if (depth === 0 && !/[\p{L}\p{N}_.]/u.test(c)) break;
+    s--;
+  }
+  return s;
 }
 
 /** The part of the instance written before a dot (`t1`, `cell[i]`, `cell`, `plant.t1`). */
