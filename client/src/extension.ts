@@ -12,7 +12,7 @@ import {
   TransportKind,
 } from 'vscode-languageclient/node';
 import {
-  ExportRequest, LINEARIZE_COMMAND, PointAtRequest, ReportRequest, SOLVE_COMMAND, SweepCandidatesRequest, SweepRequest,
+  ExpandedRequest, ExportRequest, LINEARIZE_COMMAND, PointAtRequest, ReportRequest, SOLVE_COMMAND, SweepCandidatesRequest, SweepRequest,
   type ExportFormatName, type SweepCandidate, type SweepSpecArg,
 } from '../../server/src/lsp/requests';
 import { PanelManager } from './panels';
@@ -236,6 +236,24 @@ const FORMATS: { format: ExportFormatName; label: string; description: string; e
   { format: 'numpy', label: 'NumPy', description: 'Python source defining arrays', extension: 'py', language: 'python' },
 ];
 
+/** Read-only documents of the expanded view (`poise-expanded:` URIs), filled from `poise/expanded`. */
+const EXPANDED_SCHEME = 'poise-expanded';
+const expandedTexts = new Map<string, string>();
+
+/** Shows the flat model the active file stands for (families and parts expanded) in a read-only editor. */
+async function showExpanded(): Promise<void> {
+  const editor = vscode.window.activeTextEditor;
+  if (!editor || editor.document.languageId !== LANGUAGE) throw new Error('open a model file first');
+  const c = await runningClient();
+  const result = await c.sendRequest(ExpandedRequest, { uri: c.code2ProtocolConverter.asUri(editor.document.uri) });
+  const name = path.basename(editor.document.uri.path, '.poise');
+  const uri = vscode.Uri.from({ scheme: EXPANDED_SCHEME, path: `/${name} (expanded).poise` });
+  expandedTexts.set(uri.toString(), result.text);
+  const doc = await vscode.workspace.openTextDocument(uri);
+  await vscode.languages.setTextDocumentLanguage(doc, LANGUAGE);
+  await vscode.window.showTextDocument(doc, { preview: true, viewColumn: vscode.ViewColumn.Beside });
+}
+
 async function exportLinear(args: unknown[]): Promise<void> {
   const { uri, point } = await target(args);
   const choice = await vscode.window.showQuickPick(FORMATS, {
@@ -305,6 +323,8 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
     vscode.commands.registerCommand('poise.openReport', guarded('poise.openReport', (...args: unknown[]) => openReport(panels, args))),
     vscode.commands.registerCommand('poise.sweep', guarded('poise.sweep', (...args: unknown[]) => sweep(panels, args))),
     vscode.commands.registerCommand('poise.exportLinear', guarded('poise.exportLinear', (...args: unknown[]) => exportLinear(args))),
+    vscode.commands.registerCommand('poise.showExpanded', guarded('poise.showExpanded', () => showExpanded())),
+    vscode.workspace.registerTextDocumentContentProvider(EXPANDED_SCHEME, { provideTextDocumentContent: (uri) => expandedTexts.get(uri.toString()) ?? '' }),
   );
   starting = c.start().catch((e: unknown) => {
     void vscode.window.showErrorMessage(`Poise: the language server did not start: ${errorMessage(e)}`);

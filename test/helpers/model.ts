@@ -45,7 +45,11 @@ function entry(lin: LinearModel, m: 'A' | 'B' | 'C' | 'D', row: string, col: str
 
 /** Analyses, solves and linearises; fails the test with the diagnostics when any step reports an error. */
 export function solve(text: string, point?: string): Solved {
-  const a = analyze(text);
+  return solveAnalysis(analyze(text), point);
+}
+
+/** `solve` of an analysis made otherwise (a model with parts in other files, read through a host). */
+export function solveAnalysis(a: Analysis, point?: string): Solved {
   const errors = a.allDiagnostics().filter((d) => d.severity === 'error');
   if (errors.length) throw new Error(`model has errors:\n${describeDiagnostics(a, errors)}`);
   const sol = a.point(point);

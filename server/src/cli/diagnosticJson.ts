@@ -13,7 +13,8 @@ export interface DiagnosticJson {
 }
 
 export function diagnosticJson(a: Analysis, file: string, d: Diagnostic): DiagnosticJson {
-  const s = a.lines.position(d.span.start);
-  const e = a.lines.position(Math.max(d.span.start, d.span.end));
-  return { file, line: s.line + 1, column: s.character + 1, end: { line: e.line + 1, column: e.character + 1 }, code: d.code, severity: d.severity, message: d.message };
+  const w = a.where(d.span);
+  const s = w.start;
+  const e = w.end;
+  return { file: w.uri === a.uri ? file : w.uri, line: s.line + 1, column: s.character + 1, end: { line: e.line + 1, column: e.character + 1 }, code: d.code, severity: d.severity, message: d.message };
 }

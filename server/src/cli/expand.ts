@@ -5,6 +5,7 @@
  */
 import { analyzeDocuments } from '../core/pipeline/analysis';
 import { cliSources } from './sourceHost';
+import { formatDiagnostic } from './where';
 import { modelText } from '../core/present/modelText';
 import type { Parsed } from './options';
 import type { CliHelpers, Io } from './shared';
@@ -14,13 +15,10 @@ export async function expandCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   const a = analyzeDocuments(cliSources(file, h.readModel(file)), file)!;
   const errors = a.diagnostics.filter((d) => d.severity === 'error');
   if (errors.length) {
-    for (const d of errors) {
-      const pos = a.lines.position(d.span.start);
-      io.err(`${file}:${pos.line + 1}:${pos.character + 1}: error ${d.code}: ${d.message}`);
-    }
+    for (const d of errors) io.err(formatDiagnostic(a, file, d));
     return 1;
   }
-  io.out(`# ${file} expanded by poise expand: every family written element by element`);
+  io.out(`# ${file} expanded by poise expand: every family written element by element${a.instances.size ? ', every part under its instance\'s name' : ''}`);
   io.out(modelText(a.parsed.file).trimEnd());
   return 0;
 }

@@ -18,6 +18,8 @@ import { commandHelp, commandSpec, generalHelp, nearest as nearestWord, parseCom
 import { diagnosticJson, type DiagnosticJson } from './diagnosticJson';
 import type { CliHelpers, Io } from './shared';
 import { cliSources } from './sourceHost';
+import { formatDiagnostic } from './where';
+export { formatDiagnostic } from './where';
 
 export type { CliHelpers, Io } from './shared';
 
@@ -44,11 +46,6 @@ function readModel(file: string): string {
     const code = (e as NodeJS.ErrnoException).code;
     throw new UsageError(code === 'ENOENT' ? `cannot read ${file}: no such file` : code === 'EISDIR' ? `${file} is a folder, not a model file` : `cannot read ${file}: ${(e as Error).message}`);
   }
-}
-
-export function formatDiagnostic(a: Analysis, file: string, d: Diagnostic): string {
-  const p = a.lines.position(d.span.start);
-  return `${file}:${p.line + 1}:${p.character + 1}: ${d.severity} ${d.code}: ${d.message}`;
 }
 
 function sortDiags(ds: Diagnostic[]): Diagnostic[] {

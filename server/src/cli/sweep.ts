@@ -24,8 +24,8 @@ import type { Parsed } from './options';
 import type { CliHelpers, Io } from './shared';
 
 function where(a: Analysis, file: string, d: Diagnostic): string {
-  const p = a.lines.position(d.span.start);
-  return `${file}:${p.line + 1}:${p.character + 1}: ${d.severity} ${d.code}: ${d.message}`;
+  const w = a.where(d.span);
+  return `${w.uri === a.uri ? file : w.uri}:${w.start.line + 1}:${w.start.character + 1}: ${d.severity} ${d.code}: ${d.message}`;
 }
 
 export async function sweepCommand(p: Parsed, io: Io, h: CliHelpers): Promise<number> {

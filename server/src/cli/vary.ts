@@ -4,8 +4,7 @@
  * `sweep` block: it is appended to the model as one, and the core's declaredSweeps() gives the range or
  * the problems (P113 syntax, P201 unknown name, P308 units, P602 range), reported here as one line.
  */
-import { analyzeDocuments, type Analysis } from '../core/pipeline/analysis';
-import { layeredHost, memoryHost } from '../core/sources';
+import type { Analysis } from '../core/pipeline/analysis';
 import { declaredSweeps, type SweepSpec } from '../core/analysis/sweep';
 import { nearest } from './options';
 
@@ -27,8 +26,8 @@ export function varyRequest(a: Analysis, point: string, vary: string): { spec?: 
   const header = `\nsweep ${name} from ${point}:\n  vary `;
   const text = base + header + body + '\n';
   const start = base.length + header.length;
-  // the model with the sweep appended, read through the model's host (tables and files beside it)
-  const b = analyzeDocuments(layeredHost(memoryHost({ [a.uri]: text }), a.sources), a.uri)!;
+  // the model with the sweep appended, read through the model's host (tables and part files beside it)
+  const b = a.withText(text);
   const mine = (s: number) => s >= base.length;
   const prefix = `Sweep "${name}": `;
   const say = (m: string) => `--vary: ${m.startsWith(prefix) ? m.slice(prefix.length) : m}`;

@@ -54,6 +54,9 @@ export const catalogue = {
   P132: { severity: 'error', text: 'Table "{name}" cannot be used: {detail}.' },
   P133: { severity: 'error', text: 'The file "{file}" of table "{name}" cannot be read ({where}): put it beside the model or correct the name.' },
   P134: { severity: 'error', text: 'Line {line} of "{file}" (table "{name}"): {detail}.' },
+  // parts (docs/language.md, "Parts")
+  P135: { severity: 'error', text: '"{word}" cannot go inside a part: a part holds constants, inputs, states, vars, outputs, equations, each blocks and places of other parts; move it out of the part.' },
+  P136: { severity: 'error', text: 'An instance is named once: write "as {name}" for one instance or "as {name}[1..n]" for a family of instances.' },
 
   // 2xx names
   P201: { severity: 'error', text: 'Unknown name "{name}": declare it (const, input, state, var or output) or fix the spelling.' },
@@ -84,6 +87,18 @@ export const catalogue = {
   P241: { severity: 'error', text: 'choose takes a condition and a value for each case and a last value for all other cases (choose(c1, v1, c2, v2, …, otherwise)), so an odd number of arguments from 3, not {got}.' },
   P242: { severity: 'error', text: '"{name}" is a table: call it with the breakpoint value, e.g. {name}(x).' },
   P243: { severity: 'error', text: '"{name}" is already declared as {kind}: rename the table or the other declaration.' },
+  P250: { severity: 'error', text: '"{name}" is not declared in part "{part}": a part sees only its own names; declare it in the part (an input to tie from outside, or a const), or fix the spelling.' },
+  P251: { severity: 'error', text: 'Unknown part "{name}": define it with "part {name}:" or bring in the file that defines it with parts from "…".' },
+  P252: { severity: 'error', text: 'Part "{name}" would contain itself ({chain}): remove the place line that closes the circle.' },
+  P253: { severity: 'error', text: '"{name}" is not a constant of part "{part}", so this use cannot change it: {advice}.' },
+  P254: { severity: 'error', text: '"{name}" is given twice in this place line: keep one.' },
+  P255: { severity: 'error', text: 'No file "{path}" (looked for {resolved}): check the path; it is relative to the folder of the file that names it.' },
+  P256: { severity: 'error', text: 'The files bring each other in, in a circle ({chain}): remove one of these parts lines.' },
+  P257: { severity: 'error', text: 'Part "{name}" is defined twice ({first} and {second}): rename one, or bring in only the parts needed (parts A, B from "…").' },
+  P258: { severity: 'error', text: '"{file}" has no part "{name}": {advice}.' },
+  P259: { severity: 'error', text: '"{path}" is a folder of parts: name the parts to take from it, e.g. parts tank, valve from "{path}" (each from its own file tank.poise, valve.poise).' },
+  P260: { severity: 'error', text: 'The instance name "{name}" is already used by {what}: choose another name.' },
+  P261: { severity: 'error', text: '"{name}" is an instance of part "{part}", not a value: name one of its members, e.g. {name}.{example}.' },
 
   // 3xx units
   P301: { severity: 'error', text: 'Unknown unit "{unit}": {detail}' },

@@ -7,7 +7,9 @@
  */
 import type { CancellationToken, TextDocuments } from 'vscode-languageserver/node';
 import type { TextDocument } from 'vscode-languageserver-textdocument';
-import { analyze, type Analysis } from '../core/pipeline/analysis';
+import { analyzeDocuments, type Analysis } from '../core/pipeline/analysis';
+import { memoryHost, type SourceHost } from '../core/sources';
+import { serverSources } from './sourceHost';
 import { runJob, type Job, type JobResult } from './jobs';
 import { Offload } from './offload';
 import type { PoiseSettings, SettingsStore } from './settings';
@@ -26,6 +28,8 @@ export interface OpenDocument {
 
 export class Analyses {
   private readonly cache = new Map<string, { version: number; warnUnused: boolean; analysis: Analysis }>();
+  /** Open documents first, then the disk: where the files that models bring in are read. */
+  readonly sources: SourceHost;
   /** Time of the last point pass of each document (ms). */
   private readonly pointMs = new Map<string, number>();
   /** Points, lenses, hovers and edits of slow models. */
@@ -34,6 +38,7 @@ export class Analyses {
   readonly pages: Offload;
 
   constructor(readonly documents: TextDocuments<TextDocument>, readonly settings: SettingsStore, log: (m: string) => void) {
+    this.sources = serverSources(documents);
     this.models = new Offload('points', log);
     this.pages = new Offload('pages', log);
   }
@@ -41,10 +46,26 @@ export class Analyses {
   /** The analysis of the document's current version with the given settings (cached). */
   analysisOf(doc: TextDocument, s: PoiseSettings): Analysis {
     const hit = this.cache.get(doc.uri);
-    if (hit && hit.version === doc.version && hit.warnUnused === s.warnUnused) return hit.analysis;
-    const analysis = analyze(doc.getText(), { warnUnused: s.warnUnused });
+    if (hit && hit.version === doc.version && hit.warnUnused === s.warnUnused && this.current(hit.analysis)) return hit.analysis;
+    const text = doc.getText();
+    const analysis = analyzeDocuments(layered(doc.uri, text, this.sources), doc.uri, { warnUnused: s.warnUnused })!;
     this.cache.set(doc.uri, { version: doc.version, warnUnused: s.warnUnused, analysis });
     return analysis;
+  }
+
+  /** Whether the files an analysis brought in still read the same (an edit of a part's file makes it stale). */
+  private current(a: Analysis): boolean {
+    for (const d of a.documents.list.slice(1)) if (this.sources.read(d.uri) !== d.text) return false;
+    // a file that was missing may have appeared
+    for (const d of a.diagnostics) if (d.code === 'P255') return false;
+    return true;
+  }
+
+  /** The open models whose analysis reads `uri` (a parts file they bring in). */
+  usersOf(uri: string): string[] {
+    const out: string[] = [];
+    for (const [u, hit] of this.cache) if (u !== uri && hit.analysis.documents.list.some((d) => d.uri === uri)) out.push(u);
+    return out;
   }
 
   /** The open document, its analysis and settings; undefined when it is not open. */
@@ -56,7 +77,9 @@ export class Analyses {
   }
 
   snapshot(d: OpenDocument): DocumentSnapshot {
-    return { uri: d.doc.uri, version: d.doc.version, text: d.doc.getText(), warnUnused: d.s.warnUnused };
+    const files: Record<string, string> = {};
+    for (const x of d.a.documents.list.slice(1)) files[x.uri] = x.text;
+    return { uri: d.doc.uri, version: d.doc.version, text: d.doc.getText(), warnUnused: d.s.warnUnused, files };
   }
 
   /** Whether the document's point work belongs in the worker. */
@@ -89,3 +112,9 @@ export class Analyses {
 }
 
 export const diagnosticsTag = (uri: string) => `diagnostics ${uri}`;
+
+/** The document's current text before the other sources (the editor's text is the one analysed). */
+function layered(uri: string, text: string, rest: SourceHost): SourceHost {
+  const own = memoryHost({ [uri]: text });
+  return { read: (u) => (u === uri ? own.read(u) : rest.read(u)) };
+}

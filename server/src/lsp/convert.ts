@@ -4,7 +4,7 @@
  */
 import {
   CompletionItemKind, DiagnosticSeverity, DiagnosticTag, InsertTextFormat, SymbolKind,
-  type CompletionItem, type Diagnostic as LspDiagnostic, type DocumentSymbol, type Range, type TextEdit as LspTextEdit,
+  type CompletionItem, type Diagnostic as LspDiagnostic, type DiagnosticRelatedInformation, type Location, type DocumentSymbol, type Range, type TextEdit as LspTextEdit,
 } from 'vscode-languageserver/node';
 import type { Analysis } from '../core/pipeline/analysis';
 import type { Diagnostic } from '../core/diagnostics';
@@ -28,17 +28,39 @@ export interface DiagnosticData {
   core?: Record<string, unknown>;
 }
 
+/** The document and range of a span: the model itself or a file it brings in. */
+export function toLocation(a: Analysis, span: Span): Location {
+  const w = a.where(span);
+  return { uri: w.uri, range: { start: w.start, end: w.end } };
+}
+
+const baseName = (uri: string) => decodeURIComponent(uri.slice(uri.lastIndexOf('/') + 1));
+
+/**
+ * A diagnostic of the model. One that lies in a parts file the model brings in is shown on the model's
+ * `parts from` line that brought the file in, naming the file and line, with the exact place as related
+ * information (the editor opens it from there).
+ */
 export function toDiagnostic(a: Analysis, uri: string, d: Diagnostic): LspDiagnostic {
+  let range = toRange(a, d.span);
+  let message = d.message;
+  const related: DiagnosticRelatedInformation[] = [];
+  if (a.documents.foreign(d.span)) {
+    const at = toLocation(a, d.span);
+    range = toRange(a, a.broughtBy.get(at.uri) ?? { start: 0, end: 0 });
+    message = `${baseName(at.uri)}:${at.range.start.line + 1}: ${d.message}`;
+    related.push({ location: at, message: d.message });
+  }
   const out: LspDiagnostic = {
-    range: toRange(a, d.span),
+    range,
     severity: SEVERITY[d.severity],
     code: d.code,
     source: 'poise',
-    message: d.message,
+    message,
   };
-  if (d.related && d.related.length) {
-    out.relatedInformation = d.related.map((r) => ({ location: { uri, range: toRange(a, r.span) }, message: r.message }));
-  }
+  for (const r of d.related ?? []) related.push({ location: toLocation(a, r.span), message: r.message });
+  if (related.length) out.relatedInformation = related;
+  void uri;
   if (d.code === 'P203') out.tags = [DiagnosticTag.Unnecessary];
   if (d.data) out.data = { core: d.data } satisfies DiagnosticData;
   return out;
@@ -83,6 +105,8 @@ const SYMBOL_KIND: Record<OutlineItem['kind'], SymbolKind> = {
   pointLine: SymbolKind.Field,
   linear: SymbolKind.Module,
   sweep: SymbolKind.Event,
+  part: SymbolKind.Class,
+  instance: SymbolKind.Object,
 };
 
 export function toDocumentSymbol(a: Analysis, o: OutlineItem): DocumentSymbol {

@@ -10,7 +10,8 @@ import type { Analyses, OpenDocument } from './analyses';
 import { guard, type LogError } from './guard';
 import { fileName, JobFailure, type Job, type JobResult } from './jobs';
 import * as P from './params';
-import { ExportRequest, PointAtRequest, ReportRequest, SweepCandidatesRequest, SweepRequest, type PointParams } from './requests';
+import { modelText } from '../core/present/modelText';
+import { ExpandedRequest, ExportRequest, PointAtRequest, ReportRequest, SweepCandidatesRequest, SweepRequest, type PointParams } from './requests';
 
 export function registerCustomRequests(connection: Connection, analyses: Analyses, log: (m: string) => void, logError: LogError): void {
   /** The open document (settings pulled) a request names, or a refusal saying it is not open. */
@@ -42,6 +43,12 @@ export function registerCustomRequests(connection: Connection, analyses: Analyse
 
   connection.onRequest(ExportRequest, guard(ExportRequest.method, P.exportParams, (p, token) =>
     page(ExportRequest.method, p, (d) => ({ kind: 'export', file: fileName(p.uri), params: p, settings: settings(d) }), token), logError));
+
+  connection.onRequest(ExpandedRequest, guard(ExpandedRequest.method, P.expandedParams, async (p) => {
+    const d = await document(p.uri);
+    const head = `# ${fileName(p.uri)} expanded by Poise (read-only): every family written element by element, every part under its instance's name`;
+    return { text: `${head}\n${modelText(d.a.parsed.file).trimEnd()}\n` };
+  }, logError));
 
   connection.onRequest(PointAtRequest, guard(PointAtRequest.method, P.pointAtParams, (p) => {
     const d = analyses.open(p.uri);

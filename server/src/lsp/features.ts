@@ -18,11 +18,12 @@ import { foldingRanges } from '../core/services/folding';
 import { sweepLenses } from '../core/services/lenses';
 import { pointAt } from '../core/services/locate';
 import { definition, prepareRename, references, rename } from '../core/services/navigation';
+import { memberAt, memberOccurrences } from '../core/services/partMembers';
 import { quickFixes, type DiagnosticRef } from '../core/services/quickFixes';
 import { TOKEN_MODIFIERS, TOKEN_TYPES, semanticTokens } from '../core/services/semanticTokens';
 import { documentOutline } from '../core/services/symbols';
 import type { Analyses, OpenDocument } from './analyses';
-import { toCompletionItem, toDocumentSymbol, toRange, toSpan, toTextEdit, type DiagnosticData } from './convert';
+import { toCompletionItem, toDocumentSymbol, toLocation, toRange, toSpan, toTextEdit, type DiagnosticData } from './convert';
 import { ErrorCode, guard, type LogError } from './guard';
 import { fileName, type PointEdit } from './jobs';
 import * as P from './params';
@@ -74,12 +75,33 @@ export function registerFeatures(x: FeatureContext): void {
 
   c.onDefinition(on('textDocument/definition', P.positionParams, (p) => {
     const d = open(p.textDocument.uri);
-    return d ? definition(d.a, offset(d, p.position)).map((s) => ({ uri: d.doc.uri, range: toRange(d.a, s) })) : [];
+    return d ? definition(d.a, offset(d, p.position)).map((s) => toLocation(d.a, s)) : [];
   }));
 
   c.onReferences(on('textDocument/references', P.referenceParams, (p) => {
     const d = open(p.textDocument.uri);
-    return d ? references(d.a, offset(d, p.position), p.context.includeDeclaration).map((s) => ({ uri: d.doc.uri, range: toRange(d.a, s) })) : [];
+    if (!d) return [];
+    const at = offset(d, p.position);
+    const out = references(d.a, at, p.context.includeDeclaration).map((s) => toLocation(d.a, s));
+    const member = memberAt(d.a, at);
+    if (member) {
+      // the other open models that place the part
+      const seen = new Set(out.map((l) => JSON.stringify(l)));
+      for (const u of analyses.usersOf(member.part.uri)) {
+        const other = open(u);
+        const part = other?.a.parts.get(member.part.block.name.name);
+        if (!other || !part || part.uri !== member.part.uri) continue;
+        for (const span of memberOccurrences(other.a, { part, name: member.name }, p.context.includeDeclaration)) {
+          const loc = toLocation(other.a, span);
+          const key = JSON.stringify(loc);
+          if (!seen.has(key)) {
+            seen.add(key);
+            out.push(loc);
+          }
+        }
+      }
+    }
+    return out;
   }));
 
   c.onPrepareRename(on('textDocument/prepareRename', P.positionParams, (p) => {
@@ -91,9 +113,35 @@ export function registerFeatures(x: FeatureContext): void {
   c.onRenameRequest(on('textDocument/rename', P.renameParams, (p) => {
     const d = open(p.textDocument.uri);
     if (!d) return null;
-    const r = rename(d.a, offset(d, p.position), p.newName);
+    const at = offset(d, p.position);
+    const r = rename(d.a, at, p.newName);
     if (!r.ok) throw new ResponseError(ErrorCode.InvalidParams, r.message);
-    return workspaceEdit(d.doc, d.a, r.edits);
+    const member = memberAt(d.a, at);
+    if (!member && !r.edits.some((e) => d.a.documents.foreign(e.span))) return workspaceEdit(d.doc, d.a, r.edits);
+    // a name of a part: every document it is written in, and the other open models that place the part
+    const byUri = new Map<string, Map<string, LspTextEdit>>();
+    const put = (loc: { uri: string; range: P.Range }, newText: string) => {
+      const m = byUri.get(loc.uri) ?? new Map<string, LspTextEdit>();
+      m.set(JSON.stringify(loc.range), { range: loc.range, newText });
+      byUri.set(loc.uri, m);
+    };
+    for (const e of r.edits) put(toLocation(d.a, e.span), e.newText);
+    if (member) {
+      const partUri = member.part.uri;
+      for (const u of analyses.usersOf(partUri)) {
+        const other = open(u);
+        const part = other?.a.parts.get(member.part.block.name.name);
+        if (!other || !part || part.uri !== partUri) continue;
+        for (const span of memberOccurrences(other.a, { part, name: member.name })) {
+          const loc = toLocation(other.a, span);
+          if (loc.uri !== partUri || !byUri.has(partUri)) put(loc, p.newName);
+        }
+      }
+    }
+    if (x.caps().workspace?.workspaceEdit?.documentChanges) {
+      return { documentChanges: [...byUri].map(([uri, m]) => ({ textDocument: { uri, version: analyses.documents.get(uri)?.version ?? null }, edits: [...m.values()] })) };
+    }
+    return { changes: Object.fromEntries([...byUri].map(([uri, m]) => [uri, [...m.values()]])) };
   }));
 
   c.onDocumentSymbol(on('textDocument/documentSymbol', P.documentParams, (p) => {

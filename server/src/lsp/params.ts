@@ -130,6 +130,11 @@ export const pointAtParams: Check<PointAtParams> = (raw) => {
   return { uri: string(o.uri, 'uri'), position: position(o.position) };
 };
 
+export const expandedParams: Check<{ uri: string }> = (raw) => {
+  const o = object(raw, 'params (it needs {uri})');
+  return { uri: string(o.uri, 'uri') };
+};
+
 export const exportParams: Check<ExportParams> = (raw) => {
   const p = pointParams(raw);
   const o = raw as Obj;

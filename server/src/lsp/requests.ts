@@ -79,6 +79,15 @@ export interface PointAtResult {
 }
 export const PointAtRequest = new RequestType<PointAtParams, PointAtResult, void>('poise/pointAt');
 
+/** `poise/expanded` {uri} → {text}: the flat model the document stands for (families and parts expanded; read-only view). */
+export interface ExpandedParams {
+  uri: string;
+}
+export interface ExpandedResult {
+  text: string;
+}
+export const ExpandedRequest = new RequestType<ExpandedParams, ExpandedResult, void>('poise/expanded');
+
 /** Commands the server executes (workspace/executeCommand) with arguments [uri, point]. */
 export const SOLVE_COMMAND = 'poise.server.solvePoint';
 export const LINEARIZE_COMMAND = 'poise.server.linearizePoint';

@@ -22,7 +22,7 @@
  * Other modules may add requests with `registerRequest` (registry.ts), before or after startServer().
  */
 import {
-  CodeActionKind, DidChangeConfigurationNotification, ProposedFeatures, TextDocumentSyncKind, TextDocuments, createConnection,
+  CodeActionKind, DidChangeConfigurationNotification, DidChangeWatchedFilesNotification, ProposedFeatures, TextDocumentSyncKind, TextDocuments, createConnection,
   type ClientCapabilities, type InitializeResult,
 } from 'vscode-languageserver/node';
 import { TextDocument } from 'vscode-languageserver-textdocument';
@@ -69,9 +69,16 @@ export function startServer(): void {
   const diagnostics = new DiagnosticsRun(connection, analyses, options, log, logError);
   context = { connection, documents, analysis: (uri) => analyses.open(uri)?.a, settings: (uri) => settings.for(uri), log };
 
-  documents.onDidChangeContent((e) => diagnostics.changed(e.document.uri));
+  documents.onDidChangeContent((e) => {
+    diagnostics.changed(e.document.uri);
+    // the open models that place parts from this file are analysed again
+    for (const u of analyses.usersOf(e.document.uri)) diagnostics.changed(u);
+  });
   documents.onDidClose((e) => {
+    const users = analyses.usersOf(e.document.uri);
     analyses.forget(e.document.uri);
+    // a closed parts file is read from the disk again by the models that use it
+    for (const u of users) diagnostics.changed(u);
     settings.forget(e.document.uri);
     diagnostics.closed(e.document.uri);
   });
@@ -90,8 +97,16 @@ export function startServer(): void {
     if (settings.pull && caps.workspace?.didChangeConfiguration?.dynamicRegistration) {
       await connection.client.register(DidChangeConfigurationNotification.type, { section: 'poise' });
     }
+    if (caps.workspace?.didChangeWatchedFiles?.dynamicRegistration) {
+      // parts files changed on the disk (not open in the editor): the open models that bring them in
+      await connection.client.register(DidChangeWatchedFilesNotification.type, { watchers: [{ globPattern: '**/*.poise' }] });
+    }
     await settings.changed();
     diagnostics.all();
+  }, logError));
+
+  connection.onDidChangeWatchedFiles(guardNotification('workspace/didChangeWatchedFiles', (p: { changes?: { uri: string }[] }) => {
+    for (const c of p?.changes ?? []) if (typeof c?.uri === 'string') for (const u of analyses.usersOf(c.uri)) diagnostics.changed(u);
   }, logError));
 
   connection.onDidChangeConfiguration(guardNotification('workspace/didChangeConfiguration', async (change: { settings?: unknown }) => {

@@ -5,7 +5,8 @@
  * runs this when it is not the main thread).
  */
 import { parentPort } from 'worker_threads';
-import { analyze, type Analysis } from '../core/pipeline/analysis';
+import { analyzeDocuments, type Analysis } from '../core/pipeline/analysis';
+import { memoryHost } from '../core/sources';
 import { JobFailure, runJob, type Job } from './jobs';
 
 export interface DocumentSnapshot {
@@ -13,6 +14,8 @@ export interface DocumentSnapshot {
   version: number;
   text: string;
   warnUnused: boolean;
+  /** The texts of the files the model brings in (parts files), by address. */
+  files?: Record<string, string>;
 }
 
 export interface WorkerRequest {
@@ -26,13 +29,15 @@ export type WorkerReply = { id: number; ok: true; result: unknown } | { id: numb
 export function runWorker(): void {
   const port = parentPort;
   if (!port) return;
-  const cache = new Map<string, { version: number; warnUnused: boolean; text: string; analysis: Analysis }>();
+  const cache = new Map<string, { version: number; warnUnused: boolean; text: string; files: string; analysis: Analysis }>();
   port.on('message', (m: WorkerRequest) => {
     let reply: WorkerReply;
     try {
       let hit = cache.get(m.doc.uri);
-      if (!hit || hit.version !== m.doc.version || hit.warnUnused !== m.doc.warnUnused || hit.text !== m.doc.text) {
-        hit = { version: m.doc.version, warnUnused: m.doc.warnUnused, text: m.doc.text, analysis: analyze(m.doc.text, { warnUnused: m.doc.warnUnused }) };
+      const files = JSON.stringify(m.doc.files ?? {});
+      if (!hit || hit.version !== m.doc.version || hit.warnUnused !== m.doc.warnUnused || hit.text !== m.doc.text || hit.files !== files) {
+        const host = memoryHost({ ...(m.doc.files ?? {}), [m.doc.uri]: m.doc.text });
+        hit = { version: m.doc.version, warnUnused: m.doc.warnUnused, text: m.doc.text, files, analysis: analyzeDocuments(host, m.doc.uri, { warnUnused: m.doc.warnUnused })! };
         cache.set(m.doc.uri, hit);
       }
       reply = { id: m.id, ok: true, result: runJob(hit.analysis, m.job) };

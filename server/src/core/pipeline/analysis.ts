@@ -10,7 +10,8 @@ import { diag } from '../diagnostics';
 import { declaredValue, deviationEquations, linearize, type DeviationEquation, type LinearModel } from '../solve/linearizer';
 import { lower, type LoweredModel } from '../model/model';
 import { parse, type ParseResult } from '../syntax/parser';
-import { elaborate, type Family } from '../semantics/elaborate';
+import { elaborate, type ElaborationResult, type Family, type PartDef } from '../semantics/elaborate';
+import { loadParts, SourceDocuments } from './documents';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
 import { sweepDiagnostics } from './sweepChecks';
 import { checkStructure, type StructureResult } from '../model/structure';
@@ -20,7 +21,7 @@ import { listNames } from '../model/structure';
 import { LineMap } from '../text';
 import { checkUnits, type UnitFacts } from '../semantics/unitChecker';
 import { unitText } from '../semantics/units';
-import { memoryHost, UNTITLED, type SourceHost } from '../sources';
+import { layeredHost, memoryHost, UNTITLED, type SourceHost } from '../sources';
 import { pushAll } from '../arrays';
 import { buildTables } from '../semantics/tables';
 import type { TableSource } from '../algebra/expr';
@@ -49,6 +50,15 @@ export class Analysis {
   readonly parsed: ParseResult;
   /** Indexed families by name (empty for a flat model). */
   readonly families: ReadonlyMap<string, Family>;
+  /** The root document and the files its `parts from` lines bring in (spans of each in one offset space). */
+  readonly documents: SourceDocuments;
+  /** The parts the model may place (its own and those brought in). */
+  readonly parts: ReadonlyMap<string, PartDef>;
+  /** Placed instances and families of instances. */
+  readonly instances: ElaborationResult['instances'];
+  readonly instanceFamilies: ElaborationResult['instanceFamilies'];
+  /** For each other document: the parts line of the root that brought it in. */
+  readonly broughtBy: ReadonlyMap<string, { start: number; end: number }>;
   readonly bound: BoundModel;
   readonly units: UnitFacts;
   /** Lookup tables by name, in SI. */
@@ -74,22 +84,84 @@ export class Analysis {
     this.lines = new LineMap(text);
     // parse, then expand indexed families into the flat scalar model every later stage works on
     this.source = parse(text);
-    const elab = elaborate(this.source.file);
+    // the files that `parts from` lines bring in, then families and parts expanded into the flat scalar model
+    const loaded = loadParts(sources, uri, text, this.source);
+    this.documents = loaded.documents;
+    this.parts = loaded.parts;
+    this.broughtBy = loaded.broughtBy;
+    const elab = elaborate(this.source.file, loaded.parts);
     this.families = elab.families;
-    this.parsed = elab.file === this.source.file ? this.source : { file: elab.file, diagnostics: [...this.source.diagnostics, ...elab.diagnostics] };
+    this.instances = elab.instances;
+    this.instanceFamilies = elab.instanceFamilies;
+    const before = [...this.source.diagnostics, ...loaded.diagnostics, ...elab.diagnostics, ...checkUnplacedParts(this.source.file, loaded.parts, elab, options)];
+    this.parsed = elab.file === this.source.file && before.length === this.source.diagnostics.length ? this.source : { file: elab.file, diagnostics: before };
     this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices });
     this.units = checkUnits(this.bound);
+    // spans of every document in one offset space: the texts of the files brought in follow the root's
+    const allText = this.documents.list.length > 1 ? this.documents.list.map((d) => d.text).join('\n') : text;
     const tables = buildTables(this.bound, sources, uri); // rows in the model or CSV files beside it, read through the host
     this.tables = tables.tables;
-    this.lowered = lower(this.bound, this.units, text, tables.tables);
+    this.lowered = lower(this.bound, this.units, allText, tables.tables);
     // a constrained model (index above 1) is reduced unless naming errors already explain the structure
     const checked = checkStructure(this.lowered);
     const reduced = this.bound.diagnostics.some((d) => d.severity === 'error') ? { structure: checked, plan: undefined } : reduceStructure(this.lowered, checked);
     this.structure = reduced.structure;
     this.indexPlan = reduced.plan;
-    this.tolerances = checkTolerances(this.bound, this.units, text);
-    this.diagnostics = unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics, ...this.tolerances.diagnostics]);
+    this.tolerances = checkTolerances(this.bound, this.units, allText);
+    this.diagnostics = this.attribute(unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics, ...this.tolerances.diagnostics]));
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
+  }
+
+  /**
+   * Diagnostics of a part's lines are said once (every instance made from a line shares its span); one that
+   * names an instance (`t1.inflow` has no equation) is a problem of that use: it moves to the place line,
+   * with the part's line as related information.
+   */
+  attribute(ds: Diagnostic[]): Diagnostic[] {
+    if (!this.instances.size) return ds;
+    const blocks = [...this.parts.values()].map((p) => p.block.span);
+    const inPart = (sp: { start: number; end: number }) => blocks.some((b) => sp.start >= b.start && sp.end <= b.end);
+    const top = [...this.instances.values()].filter((i) => !inPart(i.span));
+    const out: Diagnostic[] = [];
+    const seen = new Set<string>();
+    for (const d of ds) {
+      if (!inPart(d.span)) {
+        out.push(d);
+        continue;
+      }
+      let use: (typeof top)[number] | undefined;
+      if (/^P[456]/.test(d.code)) {
+        for (const i of top) {
+          const k = d.message.indexOf(`${i.name}.`);
+          if (k >= 0 && (k === 0 || !/[\p{L}\p{N}_.\]]/u.test(d.message[k - 1])) && (!use || i.name.length > use.name.length)) use = i;
+        }
+      }
+      if (use) {
+        const part = use.part.block.name.name;
+        out.push({ ...d, span: use.place.name.span, related: [{ span: d.span, message: `in part ${part}` }, ...(d.related ?? [])] });
+        continue;
+      }
+      const key = `${d.code}\u0000${d.span.start}\u0000${d.span.end}`;
+      if (seen.has(key)) continue;
+      seen.add(key);
+      out.push(d);
+    }
+    return out;
+  }
+
+  /** The analysis of another text of the same document, read with the same host (for the files it brings in). */
+  withText(text: string, options: AnalyzeOptions = this.options): Analysis {
+    return new Analysis(text, options, this.uri, layeredHost(memoryHost({ [this.uri]: text }), this.sources));
+  }
+
+  /** The document and line/character positions of a span (of the root or of a file brought in). */
+  where(span: { start: number; end: number }) {
+    return this.documents.at(span);
+  }
+
+  /** The source text of a span, in whichever document it lies. */
+  sourceText(span: { start: number; end: number }): string {
+    return this.documents.slice(span);
   }
 
   get pointNames(): string[] {
@@ -193,6 +265,8 @@ export class Analysis {
       const d = this.tables.get(t.name.name)?.table;
       return d ? `${t.name.name}:${Array.from(d.x).join(',')};${Array.from(d.y).join(',')}` : t.name.name;
     });
+    // the files of the parts it places are part of the model
+    for (const d of this.documents.list.slice(1)) s += '\u0000' + d.text;
     s = s.replace(/\s+/g, ' ').trim() + '\u0000' + point + '\u0000' + fixed.join('\u0000');
     if (files.length) s += '\u0000' + files.join('\u0000');
     return fnv1a(s);
@@ -208,9 +282,9 @@ export class Analysis {
       for (const p of this.bound.points) {
         if (!p.name.name) continue;
         const s = this.point(p.name.name);
-        if (s) pushAll(out, s.diagnostics);
+        if (s) pushAll(out, this.attribute(s.diagnostics));
         const l = s && s.ok ? this.linear(p.name.name) : undefined;
-        if (l) pushAll(out, l.diagnostics);
+        if (l) pushAll(out, this.attribute(l.diagnostics));
       }
     }
     if (this.canSolve) pushAll(out, sweepDiagnostics(this));
@@ -222,6 +296,27 @@ export class Analysis {
     }
     return out;
   }
+}
+
+/**
+ * A part that nothing places (a library file opened on its own, a part just written) is still checked: its
+ * lines as a model of their own, for names and units (not for balance: its inputs are tied where it is used).
+ */
+function checkUnplacedParts(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>, elab: ElaborationResult, options: AnalyzeOptions): Diagnostic[] {
+  const out: Diagnostic[] = [];
+  const placed = new Set([...elab.instances.values()].map((i) => i.part.block));
+  for (const st of file.statements) {
+    if (st.kind !== 'part' || !st.name.name || placed.has(st) || parts.get(st.name.name)?.block !== st) continue;
+    const place: A.PlaceStmt = { kind: 'place', part: st.name, name: { name: '', span: st.name.span }, overrides: [], span: st.headerSpan };
+    const e = elaborate({ statements: [place], comments: [], length: file.length }, parts);
+    const b = bind(e.file, { warnUnused: options.warnUnused, usedInIndices: e.usedInIndices });
+    const u = checkUnits(b);
+    for (const d of [...e.diagnostics, ...b.diagnostics, ...u.diagnostics]) {
+      if (d.code === 'P205' || d.code === 'P405' || d.span.start < st.span.start || d.span.end > st.span.end) continue;
+      out.push(d);
+    }
+  }
+  return out;
 }
 
 function failed(block: A.PointBlock, e: unknown): PointSolution {
@@ -253,7 +348,10 @@ export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
 
 /** Diagnostics with line/column positions (for the CLI and tests). */
 export function located(a: Analysis, ds: Diagnostic[]) {
-  return ds.map((d) => ({ ...d, start: a.lines.position(d.span.start), end: a.lines.position(d.span.end) }));
+  return ds.map((d) => {
+    const w = a.where(d.span);
+    return { ...d, uri: w.uri, start: w.start, end: w.end };
+  });
 }
 
 /** Diagnostics without repeats: a template line of an each block reports the same problem once. */

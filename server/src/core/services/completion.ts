@@ -8,6 +8,9 @@ import { BUILTIN_ARITY, BUILTIN_DOC } from '../algebra/expr';
 import type { Span } from '../text';
 import { inComment, statementAt, unitBracketAt } from './locate';
 import { KEYWORD_DOC } from './hover';
+import type * as A from '../syntax/ast';
+import type { PartDef } from '../semantics/elaborate';
+import { writtenStart } from './partMembers';
 
 export type CompletionKind = 'const' | 'input' | 'state' | 'var' | 'output' | 'function' | 'constant' | 'keyword' | 'unit' | 'point';
 
@@ -59,6 +62,11 @@ export function completions(a: Analysis, offset: number): CompletionCandidate[] 
   let s = offset;
   while (s > 0 && IDENT.test(text[s - 1])) s--;
   const replace = { start: s, end: offset };
+  // after an instance's name and a dot: the names of its part
+  if (text[s - 1] === '.') {
+    const members = memberCompletions(a, s - 1, replace);
+    if (members) return members;
+  }
   const lineNo = a.lines.position(offset).line;
   const lineStart = a.lines.lineStarts[lineNo];
   const before = text.slice(lineStart, s);
@@ -128,4 +136,34 @@ function continuation(a: Analysis, line: number): boolean {
   if (si < 0) return false;
   const st = a.parsed.file.statements[si];
   return a.lines.position(st.span.end).line >= line;
+}
+
+/** The names of the part of the instance written before the dot at `dot` (`t1.`, `cell[i].`, `cell.`). */
+function memberCompletions(a: Analysis, dot: number, replace: Span): CompletionCandidate[] | undefined {
+  const written = a.text.slice(writtenStart(a.text, dot), dot);
+  if (!written) return undefined;
+  const bare = written.replace(/\[[^\]]*\]/g, '');
+  let part: PartDef | undefined = a.instances.get(written)?.part ?? a.instanceFamilies.get(bare)?.part;
+  if (!part) for (const [name, i] of a.instances) if (name.replace(/\[[^\]]*\]/g, '') === bare) part = i.part;
+  if (!part) return undefined;
+  const out: CompletionCandidate[] = [];
+  const seen = new Set<string>();
+  const add = (name: string, kind: CompletionKind, detail: string) => {
+    if (seen.has(name)) return;
+    seen.add(name);
+    out.push({ label: name, kind, detail: `${detail} of part ${part!.block.name.name}`, sortText: '0' + name, replace });
+  };
+  const walk = (sts: A.Statement[]) => {
+    for (const st of sts) {
+      switch (st.kind) {
+        case 'const': add(st.name.name, 'const', 'constant'); break;
+        case 'input': case 'state': case 'var': for (const id of st.names) add(id.name, st.kind, KIND_DETAIL[st.kind] + (st.unit ? ` [${st.unit.text}]` : '')); break;
+        case 'output': add(st.name.name, 'output', 'output' + (st.unit ? ` [${st.unit.text}]` : '')); break;
+        case 'place': add(st.name.name, 'var', `instance of ${st.part.name}`); break;
+        case 'each': walk(st.body); break;
+      }
+    }
+  };
+  walk(part.block.body);
+  return out;
 }

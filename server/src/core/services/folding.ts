@@ -1,4 +1,4 @@
-/** Folding ranges: point, linear and sweep blocks, and runs of two or more comment lines. Pure. */
+/** Folding ranges: point, linear, sweep and part blocks, and runs of two or more comment lines. Pure. */
 import type { Analysis } from '../pipeline/analysis';
 
 export interface Fold {
@@ -11,6 +11,12 @@ export function foldingRanges(a: Analysis): Fold[] {
   const out: Fold[] = [];
   for (const st of a.parsed.file.statements) {
     if (st.kind !== 'point' && st.kind !== 'linear' && st.kind !== 'sweep') continue;
+    const s = a.lines.position(st.span.start).line;
+    const e = a.lines.position(st.span.end).line;
+    if (e > s) out.push({ startLine: s, endLine: e, kind: 'region' });
+  }
+  for (const st of a.source.file.statements) {
+    if (st.kind !== 'part') continue;
     const s = a.lines.position(st.span.start).line;
     const e = a.lines.position(st.span.end).line;
     if (e > s) out.push({ startLine: s, endLine: e, kind: 'region' });

@@ -26,6 +26,8 @@ import { dimsOf } from './unitInference';
 import { unitSuffix } from '../semantics/units';
 import { maxOf, minOf, pushAll } from '../arrays';
 import { handoffHoverLines } from './handoffHover';
+import { memberAt } from './partMembers';
+import type { PartDef } from '../semantics/elaborate';
 
 export interface HoverOptions {
   /** Significant digits of the numbers shown. */
@@ -45,6 +47,11 @@ const DYNAMICS_MAX_STATES = 40;
 const KIND_WORD: Record<ModelSymbol['kind'], string> = { const: 'constant', input: 'input', state: 'state', var: 'var', output: 'output' };
 
 export const KEYWORD_DOC: Readonly<Record<string, string>> = nameTable({
+  part: 'Defines a part: a named piece of model (constants, inputs, states, vars, outputs, equations) placed many times with `place`.',
+  place: 'Places a part under an instance name: `place tank as t1 with area = 2 [m^2]`; `as cell[1..n]` places a family of instances.',
+  parts: 'Brings in parts from another file or a folder: `parts from "lib/tank.poise"`, `parts tank, valve from "lib"`.',
+  as: 'The instance name of a place line.',
+  with: 'Constants of the part given other values for this use.',
   time: '`time [unit]` sets the unit of time for derivatives and results (default seconds); `time` alone makes time dimensionless.',
   const: '`const name = value [unit]` declares a constant; it may use constants declared before it. A point may give it another value with `=`.',
   input: '`input name [unit]` declares an exogenous quantity: a manipulated variable or a disturbance.',
@@ -75,9 +82,57 @@ export function hover(a: Analysis, offset: number, opts: HoverOptions = {}): Hov
       return { markdown: onName ? `${md}\n\n---\n\n${onName}` : md, span: onName && t ? t.span : c.span };
     }
   }
+  // a part's header, the part named on a place line, or a name in a part's own lines
+  const p = partHover(a, offset);
+  if (p) {
+    // on a part's own line of a placed part: also what the first instance's name holds at the point
+    const more = t && t.kind === 'symbol' ? hoverText(a, t, digits, opts.activePoint ?? '') : undefined;
+    return more ? { markdown: `${p.markdown}\n\n---\n\n${more}`, span: p.span } : p;
+  }
   if (!t) return undefined;
   const md = hoverText(a, t, digits, opts.activePoint ?? '');
   return md ? { markdown: md, span: t.span } : undefined;
+}
+
+/** The instances of a part, as the model names them. */
+function instancesOf(a: Analysis, part: string): string[] {
+  const out: string[] = [];
+  for (const [name, f] of a.instanceFamilies) if (f.part.block.name.name === part) out.push(`${name}[${f.from}..${f.to}]`);
+  for (const [name, i] of a.instances) if (i.part.block.name.name === part && !a.instanceFamilies.has(name.replace(/\[-?\d+\]$/, ''))) out.push(name);
+  return out;
+}
+
+function partHover(a: Analysis, offset: number): HoverResult | undefined {
+  if (!a.parts.size) return undefined;
+  const within = (sp: Span) => sp.start <= offset && offset <= sp.end;
+  const summary = (def: PartDef): string => {
+    const lines: string[] = [`**part** ${code(def.block.name.name)} — defined on line ${lineOf(a, def.block.name.span.start)}`];
+    for (const st of def.block.body) {
+      if (st.kind === 'const') lines.push(`- constant ${code(st.name.name)} = ${code(oneLine(a.sourceText(st.value.span)))}`);
+      else if (st.kind === 'input' || st.kind === 'state' || st.kind === 'var') lines.push(`- ${st.kind} ${st.names.map((n) => code(n.name)).join(', ')}${st.unit ? ` [${st.unit.text}]` : ''}`);
+      else if (st.kind === 'output') lines.push(`- output ${code(st.name.name)}${st.unit ? ` [${st.unit.text}]` : ''}`);
+      else if (st.kind === 'place') lines.push(`- instance ${code(st.name.name)} of ${code(st.part.name)}`);
+    }
+    const inst = instancesOf(a, def.block.name.name);
+    lines.push('', inst.length ? `Placed as ${inst.map(code).join(', ')}.` : 'Not placed in this model.');
+    return lines.join('\n');
+  };
+  for (const st of a.source.file.statements) {
+    if (st.kind === 'place' && within(st.part.span)) {
+      const def = a.parts.get(st.part.name);
+      return def ? { markdown: summary(def), span: st.part.span } : undefined;
+    }
+    if (st.kind === 'part' && within(st.name.span)) {
+      const def = a.parts.get(st.name.name);
+      return def ? { markdown: summary(def), span: st.name.span } : undefined;
+    }
+  }
+  const m = memberAt(a, offset);
+  if (!m || !within(m.part.block.span) || a.text[m.span.start - 1] === '.') return undefined;
+  // a name on a part's own lines: the same name in every instance
+  const inst = instancesOf(a, m.part.block.name.name);
+  const md = [`${code(m.name)} of part ${code(m.part.block.name.name)}`, '', inst.length ? `In the model: ${inst.map((i) => code(`${i}.${m.name}`)).join(', ')}.` : 'The part is not placed in this model.'];
+  return { markdown: md.join('\n'), span: m.span };
 }
 
 function hoverText(a: Analysis, t: Target, digits: number, activePoint: string): string | undefined {
@@ -105,7 +160,11 @@ export function activePointName(a: Analysis, setting: string): string | undefine
 const unitOf = (text: string) => (text && text !== '1' ? escapeMarkdown(text) : '');
 const bracket = (text: string) => (unitOf(text) ? ` [${unitOf(text)}]` : '');
 const fmt = (v: number, digits: number) => E.formatNumber(v, digits);
-const lineOf = (a: Analysis, off: number) => a.lines.position(off).line + 1;
+/** "12", or "4 of tank.poise" for a line of a parts file the model brings in. */
+const lineOf = (a: Analysis, off: number): string => {
+  const w = a.where({ start: off, end: off });
+  return w.uri === a.uri ? String(w.start.line + 1) : `${w.start.line + 1} of ${w.uri.slice(w.uri.lastIndexOf('/') + 1)}`;
+};
 const oneLine = (s: string) => {
   const t = s.replace(/\s+/g, ' ').trim();
   return t.length > 70 ? t.slice(0, 67) + '…' : t;
@@ -164,7 +223,7 @@ function constText(a: Analysis, s: ModelSymbol, digits: number): string {
     if (r.symbol !== s || (r.where !== 'equation' && r.where !== 'output' && r.where !== 'const') || seen.has(r.statement)) continue;
     seen.add(r.statement);
     const st = a.parsed.file.statements[r.statement];
-    uses.push(`- line ${lineOf(a, st.span.start)}: ${code(oneLine(a.text.slice(st.span.start, st.span.end)))}`);
+    uses.push(`- line ${lineOf(a, st.span.start)}: ${code(oneLine(a.sourceText(st.span)))}`);
   }
   pushAll(out, ['', uses.length ? 'Used in:' : 'Not used in any equation.', ...uses.slice(0, 20)]);
   if (uses.length > 20) out.push(`- … and ${uses.length - 20} more`);

@@ -5,13 +5,15 @@
  * was up to date gets its digest recomputed for the renamed model. Pure.
  */
 import { hasName } from '../names';
-import { analyze, type Analysis } from '../pipeline/analysis';
+import type { Analysis } from '../pipeline/analysis';
+import { partNames as partNamesOf } from '../semantics/elaborate';
 import { BUILTIN_CONSTANTS } from '../semantics/binder';
 import { BUILTIN_ARITY } from '../algebra/expr';
 import { KEYWORDS, RESERVED } from '../syntax/parser';
 import type { Span } from '../text';
 import { applyEdits, type TextEdit } from './edits';
 import { targetAt, type Target } from './locate';
+import { memberAt, memberOccurrences } from './partMembers';
 
 /** Where the name at `offset` is declared (a point: its header name). */
 export function definition(a: Analysis, offset: number): Span[] {
@@ -25,6 +27,9 @@ export function definition(a: Analysis, offset: number): Span[] {
 
 /** Every occurrence of the name at `offset` (declaration first when asked for). */
 export function references(a: Analysis, offset: number, includeDeclaration = true): Span[] {
+  // a name of a part: through every instance, in every document
+  const member = memberAt(a, offset);
+  if (member) return memberOccurrences(a, member, includeDeclaration);
   const t = targetAt(a, offset);
   if (!t) return [];
   return occurrences(a, t, includeDeclaration);
@@ -53,6 +58,8 @@ export interface RenameTarget {
 
 /** What a rename at `offset` would rename, or undefined when the cursor is not on a renamable name. */
 export function prepareRename(a: Analysis, offset: number): RenameTarget | undefined {
+  const member = memberAt(a, offset);
+  if (member) return { span: member.span, placeholder: member.name };
   const t = targetAt(a, offset);
   if (!t) return undefined;
   if (t.kind === 'symbol') return { span: t.span, placeholder: t.symbol.name };
@@ -74,6 +81,15 @@ export function invalidName(name: string): string | undefined {
 }
 
 export function rename(a: Analysis, offset: number, newName: string): RenameResult {
+  const member = memberAt(a, offset);
+  if (member) {
+    // a name of a part: its declaration, its uses in the part and through every instance (any document)
+    if (newName === member.name) return { ok: true, edits: [] };
+    const bad = invalidName(newName);
+    if (bad) return { ok: false, message: bad };
+    if (partNamesOf(member.part.block).has(newName)) return { ok: false, message: `"${newName}" is already declared in part ${member.part.block.name.name}: choose another name.` };
+    return { ok: true, edits: memberOccurrences(a, member, true).map((span) => ({ span, newText: newName })) };
+  }
   const t = targetAt(a, offset);
   const prep = prepareRename(a, offset);
   if (!t || !prep) return { ok: false, message: 'Put the cursor on a declared name, a point name or a sweep name to rename it.' };
@@ -87,7 +103,7 @@ export function rename(a: Analysis, offset: number, newName: string): RenameResu
   // generated blocks that were up to date stay up to date: recompute their digests for the renamed model
   const fresh = a.bound.linears.filter((lb) => lb.name.name && lb.digest && a.pointBlock(lb.name.name) && lb.digest.text.trim() === a.digest(lb.name.name));
   if (fresh.length) {
-    const b = analyze(applyEdits(a.text, edits), a.options);
+    const b = a.withText(applyEdits(a.text, edits));
     for (const lb of fresh) {
       const point = t.kind === 'point' && lb.name.name === t.name ? newName : lb.name.name;
       edits.push({ span: lb.digest!.span, newText: b.digest(point) });

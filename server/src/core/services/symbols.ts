@@ -5,8 +5,34 @@
 import type { Analysis } from '../pipeline/analysis';
 import type { Span } from '../text';
 import { maxOf, minOf } from '../arrays';
+import type * as A from '../syntax/ast';
+import type { ModelSymbol } from '../semantics/binder';
+import { headOf, partNames } from '../semantics/elaborate';
 
-export type OutlineKind = 'group' | 'const' | 'input' | 'state' | 'var' | 'output' | 'equation' | 'point' | 'pointLine' | 'linear' | 'sweep';
+/** The instance a flat name belongs to (`cell[2]` of `cell[2].level`; the name itself when it has no dot). */
+function headOfFlat(name: string): string {
+  const k = name.lastIndexOf('.');
+  return k < 0 ? headOf(name) : name.slice(0, k);
+}
+
+/** A part's declarations as outline items. */
+function partItems(sts: A.Statement[]): OutlineItem[] {
+  const out: OutlineItem[] = [];
+  for (const st of sts) {
+    switch (st.kind) {
+      case 'const': out.push({ name: st.name.name, kind: 'const', span: st.span, selection: st.name.span }); break;
+      case 'input': case 'state': case 'var':
+        for (const id of st.names) out.push({ name: id.range ? `${id.name}[…]` : id.name, kind: st.kind, detail: st.unit ? `[${st.unit.text}]` : '', span: st.span, selection: id.span });
+        break;
+      case 'output': out.push({ name: st.name.name, kind: 'output', detail: st.unit ? `[${st.unit.text}]` : '', span: st.span, selection: st.name.span }); break;
+      case 'place': out.push({ name: st.name.name, kind: 'instance', detail: st.part.name, span: st.span, selection: st.name.span }); break;
+      case 'each': for (const x of partItems(st.body)) out.push(x); break;
+    }
+  }
+  return out;
+}
+
+export type OutlineKind = 'group' | 'const' | 'input' | 'state' | 'var' | 'output' | 'equation' | 'point' | 'pointLine' | 'linear' | 'sweep' | 'part' | 'instance';
 
 export interface OutlineItem {
   name: string;
@@ -26,6 +52,26 @@ const oneLine = (s: string) => {
 
 export function documentOutline(a: Analysis): OutlineItem[] {
   const m = a.bound;
+  // names of the model itself, in this document: an instance's names are under its instance, a
+  // family's elements under one item for the family
+  const partSpans = a.source.file.statements.filter((st): st is A.PartBlock => st.kind === 'part').map((st) => st.span);
+  const inPart = (sp: Span) => partSpans.some((p) => sp.start >= p.start && sp.end <= p.end);
+  const shownFamilies = new Set<string>();
+  const own = <T extends ModelSymbol>(list: T[]): T[] =>
+    list.filter((sym) => {
+      if (a.documents.foreign(sym.span) || inPart(sym.span) || a.instances.has(headOfFlat(sym.name))) return false;
+      const fam = /^(.*)\[(-?\d+)\]$/.exec(sym.name);
+      if (fam && a.families.has(fam[1])) {
+        if (shownFamilies.has(fam[1])) return false;
+        shownFamilies.add(fam[1]);
+      }
+      return true;
+    });
+  const label = (name: string) => {
+    const fam = /^(.*)\[(-?\d+)\]$/.exec(name);
+    const f = fam ? a.families.get(fam[1]) : undefined;
+    return f ? `${f.name}[${f.from}..${f.to}]` : name;
+  };
   const groups: OutlineItem[] = [];
   const group = (name: string, items: OutlineItem[]) => {
     if (!items.length) return;
@@ -33,12 +79,22 @@ export function documentOutline(a: Analysis): OutlineItem[] {
     groups.push({ name, kind: 'group', span, selection: items[0].selection, detail: `${items.length}`, children: items });
   };
   const unit = (u?: { text: string }) => (u ? `[${u.text}]` : '');
-  group('Constants', m.consts.map((s) => ({ name: s.name, kind: 'const', detail: oneLine(a.text.slice((s.decl as { value: { span: Span } }).value.span.start, s.decl.span.end)), span: s.decl.span, selection: s.span })));
-  group('Inputs', m.inputs.map((s) => ({ name: s.name, kind: 'input', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
-  group('States', m.states.map((s) => ({ name: s.name, kind: 'state', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
-  group('Vars', m.vars.map((s) => ({ name: s.name, kind: 'var', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
-  group('Outputs', m.outputs.map((s) => ({ name: s.name, kind: 'output', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
-  group('Equations', m.equations.map((e) => ({ name: oneLine(a.text.slice(e.span.start, e.span.end)), kind: 'equation', span: e.span, selection: e.eqSpan })));
+  group('Constants', own(m.consts).map((s) => ({ name: label(s.name), kind: 'const', detail: oneLine(a.text.slice((s.decl as { value: { span: Span } }).value.span.start, s.decl.span.end)), span: s.decl.span, selection: s.span })));
+  group('Inputs', own(m.inputs).map((s) => ({ name: label(s.name), kind: 'input', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
+  group('States', own(m.states).map((s) => ({ name: label(s.name), kind: 'state', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
+  group('Vars', own(m.vars).map((s) => ({ name: label(s.name), kind: 'var', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
+  group('Outputs', own(m.outputs).map((s) => ({ name: label(s.name), kind: 'output', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
+  // parts defined here, with their names; instances placed here, with their part and the values changed
+  group('Parts', a.source.file.statements.filter((st): st is A.PartBlock => st.kind === 'part' && !!st.name.name).map((st) => ({
+    name: st.name.name, kind: 'part' as const, span: st.span, selection: st.name.span, detail: `${partNames(st).size} name(s)`, children: partItems(st.body),
+  })));
+  group('Instances', a.source.file.statements.filter((st): st is A.PlaceStmt => st.kind === 'place').map((st) => {
+    const f = a.instanceFamilies.get(st.name.name);
+    const name = f ? `${st.name.name}[${f.from}..${f.to}]` : st.name.name;
+    const withs = st.overrides.map((o) => o.name.name).join(', ');
+    return { name, kind: 'instance' as const, span: st.span, selection: st.name.span, detail: `${st.part.name}${f ? ` ×${f.to - f.from + 1}` : ''}${withs ? ` with ${withs}` : ''}` };
+  }));
+  group('Equations', m.equations.filter((e) => !a.documents.foreign(e.span) && !inPart(e.span)).filter((e, k, all) => all.indexOf(e) === k && all.findIndex((x) => x.span.start === e.span.start) === k).map((e) => ({ name: oneLine(a.text.slice(e.span.start, e.span.end)), kind: 'equation', span: e.span, selection: e.eqSpan })));
   group('Points', m.points.filter((p) => p.name.name).map((p) => ({
     name: p.name.name, kind: 'point', span: p.span, selection: p.name.span, detail: `${p.lines.length} line(s)`,
     children: p.lines.map((l) => ({ name: l.name.name, kind: 'pointLine' as const, detail: `${l.mode === 'fixed' ? '=' : '~'} ${oneLine(a.text.slice(l.value.span.start, l.value.span.end))}`, span: l.span, selection: l.name.span })),

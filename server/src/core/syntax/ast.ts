@@ -29,6 +29,17 @@ export interface NameExpr {
   nameSpan: Span;
   /** An element of a family, `h[i+1]`: the index expression (integer arithmetic on index names and constants). */
   index?: Expr;
+  /** A name inside an element of a family of instances: `.level` in `cell[i].level`. */
+  member?: Member;
+}
+
+/** `.NAME` or `.NAME[index]` after an element of a family of instances (`cell[i].level`, `cell[i].h[j]`). */
+export interface Member {
+  /** The name after the dot (itself possibly qualified: `pump.speed`). */
+  name: string;
+  span: Span;
+  index?: Expr;
+  member?: Member;
 }
 
 /** `{a, b, c}`: the values of a family's elements, in order (constants and point lines only). */
@@ -98,6 +109,8 @@ export interface Ident {
   range?: IndexRange;
   /** An element named with an index expression (`output lvl[i]` inside an each block). */
   index?: Expr;
+  /** A member of an element of a family of instances (`state cell[3].level` in an expanded model). */
+  member?: Member;
 }
 
 export type Statement =
@@ -110,7 +123,10 @@ export type Statement =
   | LinearBlock
   | SweepBlock
   | EachBlock
-  | TableDecl;
+  | TableDecl
+  | PartBlock
+  | PlaceStmt
+  | PartsFrom;
 
 /**
  * `table NAME [x unit] to [y unit] [linear|monotone] [hold|strict]:` with indented rows `x  y`, or
@@ -130,6 +146,42 @@ export interface TableDecl {
   file?: { text: string; span: Span };
   span: Span;
   headerSpan: Span;
+}
+
+/** `part NAME:` and its indented lines: a named piece of model placed under instance names. */
+export interface PartBlock {
+  kind: 'part';
+  name: Ident;
+  /** Declarations, equations, outputs, each blocks and places of other parts. */
+  body: Statement[];
+  span: Span;
+  headerSpan: Span;
+}
+
+/** One `NAME = VALUE` after `with` in a place line: a constant of the part given another value for this use. */
+export interface Override {
+  name: Ident;
+  value: Expr;
+  span: Span;
+}
+
+/** `place PART as NAME [with NAME = VALUE, …]`; `as NAME[1..n]` places a family of instances. */
+export interface PlaceStmt {
+  kind: 'place';
+  part: Ident;
+  /** The instance's name; with a range for a family of instances. */
+  name: Ident;
+  overrides: Override[];
+  span: Span;
+}
+
+/** `parts from "FILE"` or `parts A, B from "FILE or FOLDER"`: parts defined in other files. */
+export interface PartsFrom {
+  kind: 'parts';
+  /** The parts named (empty: every part of the file). */
+  names: Ident[];
+  path: { text: string; span: Span };
+  span: Span;
 }
 
 /** `each i in 1..n, j in 1..m:` with indented equations (or one equation after the colon). */

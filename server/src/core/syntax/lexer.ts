@@ -9,8 +9,8 @@ export type TokenKind =
   | 'name' // identifier; `delta` set when written with a leading Δ
   | 'number'
   | 'unit' // text between [ and ]
-  | 'string' // text between double quotes on one line (a file name: `from "valve.csv"`); text without the quotes
-  | 'op' // + - * / ^ ( ) , = ~ : ' { } .. < <= > >=
+  | 'string' // text between double quotes on one line (a file name: `from "valve.csv"`, a path in `parts from "…"`); text without the quotes
+  | 'op' // + - * / ^ ( ) , = ~ : ' { } .. < <= > >= and . (between an element's index and a member: cell[3].level)
   | 'newline'
   | 'eof';
 
@@ -96,6 +96,16 @@ export function lex(text: string): LexResult {
       comments.push({ start, end: i });
       continue;
     }
+    if (ch === '"') {
+      const start = i;
+      i++;
+      while (i < n && text[i] !== '"' && text[i] !== '\n' && text[i] !== '\r') i++;
+      const inner = text.slice(start + 1, i);
+      if (text[i] === '"') i++;
+      else diagnostics.push(diag('P130', { start, end: i }));
+      push({ kind: 'string', text: inner, span: { start, end: i } });
+      continue;
+    }
     if (ch === '[') {
       const start = i;
       i++;
@@ -151,6 +161,11 @@ export function lex(text: string): LexResult {
           i++;
           continue;
         }
+        // a qualified name: an instance's name, a dot and a name inside it (tank1.level) is one name
+        if (code === 46 && i > nameStartAt && startsName(text, i + 1)) {
+          i++;
+          continue;
+        }
         if (code < 128) break;
         const c = String.fromCodePoint(text.codePointAt(i)!);
         if (c === 'Δ' || !namePart.test(c)) break;
@@ -166,20 +181,16 @@ export function lex(text: string): LexResult {
       push(t);
       continue;
     }
-    if (ch === '"') {
-      const start = i;
-      i++;
-      while (i < n && text[i] !== '"' && text[i] !== '\n' && text[i] !== '\r') i++;
-      const inner = text.slice(start + 1, i);
-      if (text[i] === '"') i++;
-      else diagnostics.push(diag('P130', { start, end: i }));
-      push({ kind: 'string', text: inner, span: { start, end: i } });
-      continue;
-    }
     if (ch === '<' || ch === '>') {
       const two = text[i + 1] === '=';
       push({ kind: 'op', text: two ? ch + '=' : ch, span: { start: i, end: i + (two ? 2 : 1) } });
       i += two ? 2 : 1;
+      continue;
+    }
+    if (ch === '.' && text[i - 1] === ']' && startsName(text, i + 1)) {
+      // cell[3].level: the member of an element of a family of instances
+      push({ kind: 'op', text: '.', span: { start: i, end: i + 1 } });
+      i++;
       continue;
     }
     if (ch === '.' && text[i + 1] === '.') {
@@ -208,4 +219,13 @@ export function lex(text: string): LexResult {
   if (!atLineStart) tokens.push({ kind: 'newline', text: '\n', span: { start: n, end: n } });
   tokens.push({ kind: 'eof', text: '', span: { start: n, end: n }, indent: 0 });
   return { tokens, comments, diagnostics };
+}
+
+/** Whether a name starts at `i` (a letter or underscore; Δ never starts a member). */
+function startsName(text: string, i: number): boolean {
+  const c0 = text.charCodeAt(i);
+  if ((c0 >= 97 && c0 <= 122) || (c0 >= 65 && c0 <= 90) || c0 === 95) return true;
+  if (!(c0 >= 128)) return false;
+  const c = String.fromCodePoint(text.codePointAt(i)!);
+  return c !== 'Δ' && nameStart.test(c);
 }

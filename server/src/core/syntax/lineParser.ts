@@ -146,9 +146,33 @@ export class LineParser {
       this.i++;
       const c = this.bracketContent(b, true);
       if (c.range) id.range = c.range;
-      else id.index = c.index;
+      else {
+        id.index = c.index;
+        const m = this.member();
+        if (m) id.member = m;
+      }
     }
     return id;
+  }
+
+  /** `.level` (or `.h[2]`, `.h[2].x`) right after an element's index: a member of an element of a family of instances. */
+  member(): A.Member | undefined {
+    const dot = this.peek();
+    const prev = this.toks[this.i - 1];
+    const t = this.peek(1);
+    if (!dot || dot.kind !== 'op' || dot.text !== '.' || !prev || dot.span.start !== prev.span.end) return undefined;
+    if (!t || t.kind !== 'name' || t.delta || t.span.start !== dot.span.end) return undefined;
+    this.i += 2;
+    const m: A.Member = { name: t.text, span: t.span };
+    const b = this.adjacentBracket();
+    if (b) {
+      this.i++;
+      m.index = this.bracketContent(b, false).index;
+      m.span = { start: t.span.start, end: b.span.end };
+      const next = this.member();
+      if (next) m.member = next;
+    }
+    return m;
   }
 
   // ---- expressions (Pratt) ----
@@ -297,12 +321,15 @@ export class LineParser {
         return { kind: 'call', fn: t.text, fnSpan: t.span, args, span: { start: t.span.start, end: close.span.end } };
       }
       let index: A.Expr | undefined;
+      let member: A.Member | undefined;
       let end = t.span.end;
       const b = this.adjacentBracket();
       if (b) {
         this.i++;
         index = this.bracketContent(b, false).index;
         end = b.span.end;
+        member = this.member();
+        if (member) end = lastMember(member).span.end;
       }
       const nameEnd = end;
       let primes = 0;
@@ -315,6 +342,7 @@ export class LineParser {
       const nameSpan = { start: t.delta ? t.span.start + 1 : t.span.start, end: nameEnd };
       const ne: A.NameExpr = { kind: 'name', name: t.text, primes, delta: !!t.delta, span: { start: t.span.start, end }, nameSpan };
       if (index) ne.index = index;
+      if (member) ne.member = member;
       return ne;
     }
     if (t.kind === 'op' && t.text === '{') {
@@ -384,4 +412,11 @@ export function signed(op: '-' | '+', arg: A.Expr, start: number): A.Expr {
     return { ...arg, value: neg ? -arg.value : arg.value, text, span };
   }
   return { kind: 'unary', op, arg, span };
+}
+
+/** The innermost member of a chain (`.x` in `cell[3].h[2].x`). */
+export function lastMember(m: A.Member): A.Member {
+  let x = m;
+  while (x.member) x = x.member;
+  return x;
 }

@@ -18,6 +18,7 @@ export interface ParseResult {
 
 export const KEYWORDS = new Set([
   'time', 'const', 'input', 'state', 'var', 'output', 'point', 'linear', 'digest', 'at', 'sweep', 'from', 'vary', 'to', 'steps', 'log', 'each', 'in',
+  'part', 'place', 'as', 'with', 'parts',
 ]);
 /** Words that start a statement; they cannot be used as names. `log` stays a function name. */
 export const RESERVED = new Set(['time', 'const', 'input', 'state', 'var', 'output', 'point', 'linear', 'sweep', 'each']);
@@ -68,6 +69,19 @@ export function parse(text: string): ParseResult {
       }
       if (kw === 'each') {
         statements.push(parseEach(p, line, blockLines(), diagnostics, text));
+        continue;
+      }
+      // `part`, `place` and `parts` are words of a statement only when a name follows them
+      if (kw === 'part' && p.isName(undefined, 1)) {
+        statements.push(parsePart(p, line, blockLines(), diagnostics, text));
+        continue;
+      }
+      if (kw === 'place' && p.isName(undefined, 1)) {
+        statements.push(parsePlace(p, line));
+        continue;
+      }
+      if (kw === 'parts' && (p.isName(undefined, 1) || p.peek(1)?.kind === 'string')) {
+        statements.push(parsePartsFrom(p, line));
         continue;
       }
       statements.push(parseStatement(p, line));
@@ -186,6 +200,8 @@ function parseStatement(p: LineParser, line: Line, inEach = false): A.Statement 
       if (ob && (inEach || /^\s*\d+\s*$/.test(ob.text))) {
         p.i++;
         name.index = p.bracketContent(ob, false).index;
+        const m = p.member();
+        if (m) name.member = m;
       } else if (ob && /\.\./.test(ob.text)) {
         throw new SyntaxError_(diag('P122', ob.span, { name: name.name }));
       }
@@ -246,10 +262,12 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
         if (t.kind !== 'name') throw new SyntaxError_(diag('P107', l.span));
         lp.i++;
         let index: A.Expr | undefined;
+        let member: A.Member | undefined;
         const b = lp.adjacentBracket();
         if (b) {
           lp.i++;
           index = lp.bracketContent(b, false).index;
+          member = lp.member();
         }
         let primes = 0;
         while (lp.isOp("'")) {
@@ -263,6 +281,7 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
         lp.expectEnd('end of line after the value');
         const pl: A.PointLine = { name: { name: t.text, span: t.span }, mode: m.text === '=' ? 'fixed' : 'guess', value, primes, span: l.span };
         if (index) pl.index = index;
+        if (member) pl.name.member = member;
         return pl;
       });
       if (r) lines.push(r);
@@ -300,6 +319,8 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
             if (b) {
               lp.i++;
               n.index = lp.bracketContent(b, false).index;
+              const m = lp.member();
+              if (m) n.member = m;
             }
             lp.expectOp('=');
             const value = lp.expr();
@@ -336,6 +357,14 @@ function parseBlock(kw: 'point' | 'linear' | 'sweep', p: LineParser, header: Lin
       if (!lp.isName('vary')) throw new SyntaxError_(diag('P113', l.span));
       lp.i++;
       const n = lp.expectName();
+      const b = lp.adjacentBracket();
+      if (b) {
+        // an element (h[3]) or a member of an element of a family of instances (v[2].opening)
+        lp.i++;
+        n.index = lp.bracketContent(b, false).index;
+        const m = lp.member();
+        if (m) n.member = m;
+      }
       lp.expectOp('=');
       const from = lp.expr();
       if (!lp.isName('to')) lp.fail('"to"');
@@ -369,4 +398,95 @@ function toleranceBand(p: LineParser): A.ToleranceBand | undefined {
   const percent = p.isOp('%');
   if (percent) end = p.toks[p.i++].span.end;
   return { value, percent, span: { start, end } };
+}
+
+/**
+ * `part NAME:` and its indented lines: declarations, equations, outputs, each blocks (with their deeper
+ * lines) and places of other parts.
+ */
+function parsePart(p: LineParser, header: Line, body: Line[], diagnostics: Diagnostic[], src: string): A.PartBlock {
+  p.i++;
+  const name = p.expectName('the name of the part, e.g. part tank:');
+  const end = body.length ? body[body.length - 1].span.end : header.span.end;
+  const block: A.PartBlock = { kind: 'part', name, body: [], span: { start: header.span.start, end }, headerSpan: header.span };
+  try {
+    p.expectOp(':', '":" at the end of the part header');
+    p.expectEnd('end of line after ":"');
+  } catch (e) {
+    if (e instanceof SyntaxError_) diagnostics.push(e.d);
+  }
+  if (!body.length) diagnostics.push(diag('P112', header.span, { name: name.name }));
+  for (let k = 0; k < body.length; k++) {
+    const l = body[k];
+    const lp = new LineParser(l.tokens, l.span.end, src);
+    const first = l.tokens[0];
+    const word = first.kind === 'name' && !first.delta ? first.text : '';
+    try {
+      if (word === 'each') {
+        const inner: Line[] = [];
+        while (k + 1 < body.length && body[k + 1].indent > l.indent) inner.push(body[++k]);
+        block.body.push(parseEach(lp, l, inner, diagnostics, src));
+        continue;
+      }
+      if (word === 'place' && lp.isName(undefined, 1)) {
+        block.body.push(parsePlace(lp, l));
+        continue;
+      }
+      if (['point', 'linear', 'sweep', 'time'].includes(word) || ((word === 'part' || word === 'parts') && (lp.isName(undefined, 1) || lp.peek(1)?.kind === 'string'))) {
+        throw new SyntaxError_(diag('P135', l.span, { word }));
+      }
+      block.body.push(parseStatement(lp, l));
+    } catch (e) {
+      if (e instanceof SyntaxError_) diagnostics.push(e.d);
+      else diagnostics.push(diag('P101', l.span, { found: 'text', expected: 'a declaration or an equation' }));
+    }
+  }
+  return block;
+}
+
+/** `place PART as NAME[range] [with NAME = VALUE, NAME = VALUE …]`. */
+function parsePlace(p: LineParser, line: Line): A.PlaceStmt {
+  p.i++;
+  const part = p.expectName('the name of a part');
+  if (!p.isName('as')) p.fail('"as" and the instance\'s name, e.g. place tank as t1');
+  p.i++;
+  const name = p.declName('the instance\'s name, e.g. place tank as t1');
+  if (name.index) throw new SyntaxError_(diag('P136', name.span, { name: name.name }));
+  const overrides: A.Override[] = [];
+  if (p.isName('with')) {
+    p.i++;
+    for (;;) {
+      const n = p.expectName('the name of one of the part\'s constants');
+      p.expectOp('=', '"=" and the constant\'s value for this instance');
+      const value = p.expr();
+      overrides.push({ name: n, value, span: { start: n.span.start, end: value.span.end } });
+      if (p.isOp(',')) {
+        p.i++;
+        continue;
+      }
+      break;
+    }
+  }
+  p.expectEnd(overrides.length ? '"," and another constant, or end of line' : '"with" and the constants to change, or end of line');
+  return { kind: 'place', part, name, overrides, span: line.span };
+}
+
+/** `parts from "FILE"` or `parts A, B from "FILE or FOLDER"`. */
+function parsePartsFrom(p: LineParser, line: Line): A.PartsFrom {
+  p.i++;
+  const names: A.Ident[] = [];
+  if (p.isName() && !p.isName('from')) {
+    names.push(p.expectName());
+    while (p.isOp(',')) {
+      p.i++;
+      names.push(p.expectName('the name of a part'));
+    }
+  }
+  if (!p.isName('from')) p.fail('"from" and the file in double quotes, e.g. parts from "library/tank.poise"');
+  p.i++;
+  const t = p.peek();
+  if (!t || t.kind !== 'string') p.fail('the file or folder in double quotes, e.g. "library/tank.poise"');
+  p.i++;
+  p.expectEnd('end of line after the file');
+  return { kind: 'parts', names, path: { text: t.text, span: t.span }, span: line.span };
 }
