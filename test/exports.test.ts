@@ -14,7 +14,8 @@ import { spawnSync } from 'child_process';
 import * as fs from 'fs';
 import * as path from 'path';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/pipeline/analysis';
+import { analyze, analyzeDocuments } from '../server/src/core/pipeline/analysis';
+import { cliSources } from '../server/src/cli/sourceHost';
 import { main, type Io } from '../server/src/cli/main';
 import { EXPORT_FORMATS, exportLinear, LINEAR_SCHEMA } from '../server/src/core/present/exports';
 import type { LinearModel } from '../server/src/core/solve/linearizer';
@@ -27,7 +28,8 @@ const files = [
 ];
 
 const cases = files.flatMap((file) => {
-  const a = analyze(fs.readFileSync(file, 'utf8'));
+  // through the command line's disk host, so files beside a model (a table's CSV) are read
+  const a = analyzeDocuments(cliSources(file, fs.readFileSync(file, 'utf8')), file)!;
   return a.pointNames.map((point) => ({ name: `${path.basename(file)} at ${point}`, a, point, lin: a.linear(point)! }));
 });
 

@@ -8,14 +8,15 @@ import * as fs from 'fs';
 import * as path from 'path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../server/src/core/pipeline/analysis';
+import { analyze, analyzeDocuments } from '../server/src/core/pipeline/analysis';
+import { cliSources } from '../server/src/cli/sourceHost';
 import type { Diagnostic } from '../server/src/core/diagnostics';
 import * as E from '../server/src/core/algebra/expr';
 import { parse } from '../server/src/core/syntax/parser';
 import { EXAMPLES, REFERENCE } from './helpers/cli';
 
-const sources: { name: string; text: string }[] = [];
-for (const f of fs.readdirSync(EXAMPLES).filter((x) => x.endsWith('.poise')).sort()) sources.push({ name: f, text: fs.readFileSync(path.join(EXAMPLES, f), 'utf8') });
+const sources: { name: string; text: string; file?: string }[] = [];
+for (const f of fs.readdirSync(EXAMPLES).filter((x) => x.endsWith('.poise')).sort()) sources.push({ name: f, text: fs.readFileSync(path.join(EXAMPLES, f), 'utf8'), file: path.join(EXAMPLES, f) });
 const refDir = path.join(REFERENCE, 'models');
 if (fs.existsSync(refDir)) for (const f of fs.readdirSync(refDir).filter((x) => x.endsWith('.poise')).sort()) sources.push({ name: `reference/${f}`, text: fs.readFileSync(path.join(refDir, f), 'utf8') });
 
@@ -118,7 +119,9 @@ describe('truncations of every example at every line', () => {
 
   it('the full examples have no errors at all (so the truncations above start from a clean model)', () => {
     for (const s of sources) {
-      const errors = analyze(s.text).allDiagnostics().filter((d) => d.severity === 'error');
+      // examples through the disk host: a table's CSV file beside the model is read
+      const a = s.file ? analyzeDocuments(cliSources(s.file, s.text), s.file)! : analyze(s.text);
+      const errors = a.allDiagnostics().filter((d) => d.severity === 'error');
       expect(errors, s.name).toEqual([]);
     }
   });

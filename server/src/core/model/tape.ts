@@ -213,9 +213,8 @@ export class Tape {
         case FN2: x = fns[fnOf[i]](val[arg[a0]], val[arg[a0 + 1]]); break;
         case PICK: x = val[arg[a0]] <= val[arg[a0 + 1]] ? val[arg[a0 + 2]] : val[arg[a0 + 3]]; break;
         default: {
-          const xs: number[] = [];
-          for (let a = a0; a < a1; a++) xs.push(val[arg[a]]);
-          x = fns[fnOf[i]](...xs);
+          // no built-in reaches here (they take 1, 2 or 4 arguments); three arguments written out, never a spread
+          x = fns[fnOf[i]](val[arg[a0]], val[arg[a0 + 1]], val[arg[a0 + 2]]);
         }
       }
       val[i] = x;
