@@ -243,7 +243,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         throw new UsageError('the language server is started by the poise command itself: run "poise lsp --stdio"');
       default: {
         const ext = extraCommands[p.cmd];
-        if (ext) return await ext(p, io, { readModel, prepare, opt, all, digitsOf, oneFile, UsageError });
+        if (ext) return await ext(p, io, { readModel, prepare, opt, all, digitsOf, oneFile, formatDiagnostic, UsageError });
         throw new UsageError(`unknown command "${p.cmd}"; run "poise --help"`);
       }
     }
