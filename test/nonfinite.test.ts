@@ -101,6 +101,8 @@ describe('linear models with entries the analyses cannot take (P511)', () => {
       expect(r.stdout + r.stderr).not.toMatch(/NaN|Infinity/);
       expect(r.stdout).not.toMatch(/1e300/); // the message names the entry; nothing else prints it
       expect(r.stderr).toContain('too large for the analyses');
+      // located: file:line:col of the equation (line 5 is "x1' = (u - x1)/c"), as check prints them
+      expect(r.stderr, cmd.join(' ')).toContain(`${f}:5:1: error P511:`);
     }
     fs.rmSync(dir, { recursive: true, force: true });
   }, 300_000);

@@ -119,7 +119,7 @@ describe('belt drive sweep', () => {
     expect(p.modes.length).toBe(1); // one complex pair listed once
     const m = p.modes[0];
     // ζ = c/(2*sqrt(k*m)) for a mass–spring–damper (common practice); τ = 1/|Re λ| = 2m/c
-    expectClose(m.damping!, cEff(3) / (2 * Math.sqrt(stiff * mass)), 1e-7, 0, 'damping ratio');
+    expectClose(m.dampingRatio!, cEff(3) / (2 * Math.sqrt(stiff * mass)), 1e-7, 0, 'damping ratio');
     expectClose(m.timeConstant!, (2 * mass) / cEff(3), 1e-7, 0, 'time constant');
     // static deflection per belt speed: stiff*Δx = ∂fric/∂belt*Δbelt; ∂fric/∂slip = −press*(mus−muk)/vref*exp(−slip/vref); x in mm
     const gain = (1000 * (-(press * (mus - muk)) / vref) * Math.exp(-3 / vref)) / stiff;
@@ -142,9 +142,15 @@ describe('belt drive sweep', () => {
       expect(Number(cells[iRe])).toBe(r.points[k].eigenvalues[0].re);
     });
     const j = JSON.parse(JSON.stringify(sweepJson(r))) as SweepResult & { schema: string };
-    expect(j.schema).toBe('poise-sweep/1');
+    expect(j.schema).toBe('poise-sweep/2');
     expect(j.crossings[0].at).toBe(r.crossings[0].at);
     expect(j.points[10].values).toEqual(r.points[10].values);
+    // one concept, one name: the damping ratio is `dampingRatio` as in the report's modes (schema /2)
+    const pair = (j.points[10].modes as unknown as Record<string, unknown>[]).find((m) => (m.im as number) > 0)!;
+    expect(pair).toHaveProperty('dampingRatio');
+    expect(pair).not.toHaveProperty('damping');
+    const ev = j.points[10].eigenvalues.find((e) => e.im > 0)!;
+    expect(pair.dampingRatio).toBeCloseTo(-ev.re / Math.hypot(ev.re, ev.im), 12); // ζ = −Re λ/|λ| (common practice)
   });
 });
 

@@ -5,7 +5,7 @@
 import * as fs from 'fs';
 import * as path from 'path';
 import { analyzeDocuments, located, type Analysis } from '../core/pipeline/analysis';
-import type { Diagnostic } from '../core/diagnostics';
+import { catalogueText, type Diagnostic } from '../core/diagnostics';
 import { exportChunks, SPARSE_FORMATS, type ExportFormat } from '../core/present/exports';
 import { formatLinearText, formatValues } from '../core/present/format';
 import { formatSymbolic, symbolicLinear } from '../core/analysis/symbolic';
@@ -66,7 +66,7 @@ function preparePoint(a: Analysis, file: string, pointName: string | undefined, 
   }
   const names = a.pointNames;
   if (!names.length) {
-    io.err(`${file}: no point to solve: add a "point NAME:" block`);
+    io.err(`${file}: ${catalogueText('P509')}`);
     return undefined;
   }
   if (pointName !== undefined && !names.includes(pointName)) {
@@ -244,7 +244,7 @@ export async function main(argv: string[], io: Io = stdio): Promise<number> {
         throw new UsageError('the language server is started by the poise command itself: run "poise lsp --stdio"');
       default: {
         const ext = extraCommands[p.cmd];
-        if (ext) return await ext(p, io, { readModel, prepare, opt, all, digitsOf, oneFile, UsageError });
+        if (ext) return await ext(p, io, { readModel, prepare, opt, all, digitsOf, oneFile, formatDiagnostic, UsageError });
         throw new UsageError(`unknown command "${p.cmd}"; run "poise --help"`);
       }
     }

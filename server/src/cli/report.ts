@@ -42,7 +42,7 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   if (!r) return 1;
   const lin = r.a.linear(r.point);
   if (!lin || !lin.ok) {
-    for (const d of lin?.diagnostics ?? []) io.err(`${file}: ${d.message}`);
+    for (const d of lin?.diagnostics ?? []) io.err(h.formatDiagnostic(r.a, file, d));
     if (!lin?.diagnostics.length) io.err(`${file}: the model cannot be linearized at point "${r.point}"`);
     return 1;
   }
@@ -80,7 +80,9 @@ export async function reportCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
   }
   const data = buildReport(r.a, r.point, { steps, tolerance, title: path.basename(file), sample, reduce, ...(quick ? { quick: true, workBudget: QUICK_WORK } : {}) });
   if (!data.ok) {
-    for (const m of data.problems) io.err(`${file}: ${m}`);
+    // problems of the point's dynamics: located at the point's header
+    const at = r.a.lines.position(r.a.pointBlock(r.point)!.name.span.start);
+    for (const m of data.problems) io.err(`${file}:${at.line + 1}:${at.character + 1}: error: ${m}`);
     return 1;
   }
   if (htmlOut) {

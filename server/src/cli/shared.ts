@@ -4,6 +4,7 @@
  * not import main.ts, which imports them.
  */
 import type { Analysis } from '../core/pipeline/analysis';
+import type { Diagnostic } from '../core/diagnostics';
 import type { Parsed, UsageError } from './options';
 
 export interface Io {
@@ -24,5 +25,7 @@ export interface CliHelpers {
   digitsOf(p: Parsed, fallback: number): number;
   /** The one model file of the command; a UsageError otherwise. */
   oneFile(p: Parsed): string;
+  /** "file:line:col: severity CODE: message", the one form of a located message. */
+  formatDiagnostic(a: Analysis, file: string, d: Diagnostic): string;
   UsageError: typeof UsageError;
 }

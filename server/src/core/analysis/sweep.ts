@@ -43,10 +43,10 @@ export interface SweepOptions {
 
 /**
  * One eigenvalue (a complex pair appears once, with im > 0) and its figures, computed by
- * analysis/dynamics/modes.ts (`eigenFigures`). `damping` is the mode's damping ratio ζ (`dampingRatio` of
- * a dynamics Mode), under the name the sweep schema poise-sweep/1 gives it.
+ * analysis/dynamics/modes.ts (`eigenFigures`), under the names a dynamics Mode gives them (schema
+ * poise-sweep/2: the damping ratio is `dampingRatio`, as everywhere; poise-sweep/1 called it `damping`).
  */
-export type SweepMode = Pick<Mode, 're' | 'im' | 'timeConstant' | 'naturalFrequency'> & { damping: Mode['dampingRatio'] };
+export type SweepMode = Pick<Mode, 're' | 'im' | 'timeConstant' | 'naturalFrequency' | 'dampingRatio'>;
 
 export interface SweepPoint {
   /** Swept value, declared unit. */
@@ -136,7 +136,7 @@ export function runDeclaredSweep(a: Analysis, name: string, opts: SweepOptions =
 function modesOf(eig: { re: number; im: number }[]): SweepMode[] {
   return eig.filter((e) => e.im >= 0).map((e) => {
     const f = eigenFigures(e, e.re === 0);
-    return { re: e.re, im: e.im, timeConstant: f.timeConstant, damping: f.dampingRatio, naturalFrequency: f.naturalFrequency };
+    return { re: e.re, im: e.im, timeConstant: f.timeConstant, dampingRatio: f.dampingRatio, naturalFrequency: f.naturalFrequency };
   });
 }
 

@@ -1,7 +1,8 @@
 /**
- * Eigenvalues of a symmetric tridiagonal matrix by the root-free implicit QL iteration of Pal, Walker
- * and Kahan (the squared off-diagonals are iterated, no square root per rotation; the variant used by
- * LAPACK's dsterf), with several sweeps in flight at once.
+ * Eigenvalues of a symmetric tridiagonal matrix by the root-free QL iteration with implicit shifts of Pal,
+ * Walker and Kahan (the squared off-diagonals are iterated, so no square root is taken per rotation;
+ * published in B. N. Parlett, "The Symmetric Eigenvalue Problem", SIAM 1998, ch. 8, the section on
+ * root-free variants — section from memory), with several sweeps in flight at once.
  *
  * Each QL sweep is a recurrence whose steps wait on two divisions, so a single sweep is bound by the
  * latency of division. Sweep B with another shift only needs sweep A to be two positions ahead, so

@@ -168,9 +168,9 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
       charts.push(`<figure class="chart card">${svg}${legend(series.map((s) => ({ cls: s.cls, kind: s.kind, label: s.label! })))}</figure>`);
     }
     // damping of the least-damped pair
-    if (pts.some((p) => p.modes.some((m) => m.damping !== null))) {
+    if (pts.some((p) => p.modes.some((m) => m.dampingRatio !== null))) {
       const z = pts.map((p) => {
-        const ds = p.modes.map((m) => m.damping).filter((v): v is number => v !== null);
+        const ds = p.modes.map((m) => m.dampingRatio).filter((v): v is number => v !== null);
         return ds.length ? minOf(ds) : null;
       });
       charts.push(
@@ -202,7 +202,7 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
     const body = pts
       .map((p, k) => {
         const taus = p.modes.map((m) => m.timeConstant).filter((v): v is number => v !== null);
-        const zs = p.modes.map((m) => m.damping).filter((v): v is number => v !== null);
+        const zs = p.modes.map((m) => m.dampingRatio).filter((v): v is number => v !== null);
         return `<tr><td class="num">${num(p.value, 6)}</td><td><span class="dot ${p.stability}"></span>${p.stability}</td><td class="num">${num(maxRe[k], d)}</td><td class="num">${taus.length ? num(maxOf(taus), d) : '—'}</td><td class="num">${zs.length ? num(minOf(zs), d) : '—'}</td>${cols.map(({ k: c }) => `<td class="num">${num(p.values[c], d)}</td>`).join('')}</tr>`;
       })
       .join('');

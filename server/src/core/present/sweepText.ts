@@ -24,8 +24,8 @@ export function formatSweepText(r: SweepResult, digits = 5): string {
   const rows: string[][] = r.points.map((p) => {
     const timed = p.modes.filter((m) => m.timeConstant !== null);
     const slow = timed.length ? maxOf(timed.map((m) => m.timeConstant!)) : NaN;
-    const pairs = p.modes.filter((m) => m.im > 0 && m.damping !== null);
-    const zmin = pairs.length ? minOf(pairs.map((m) => m.damping!)) : NaN;
+    const pairs = p.modes.filter((m) => m.im > 0 && m.dampingRatio !== null);
+    const zmin = pairs.length ? minOf(pairs.map((m) => m.dampingRatio!)) : NaN;
     return [
       formatNumber(p.value, 6), p.stability, eigText(p.eigenvalues, digits), Number.isNaN(slow) ? '-' : formatNumber(slow, digits), Number.isNaN(zmin) ? '-' : formatNumber(zmin, digits),
       ...shownCols.map(({ i }) => formatNumber(p.values[i], digits)),

@@ -1,0 +1,132 @@
+/**
+ * The pure editor services (server/src/core/services: hover, definition, references, rename, completion)
+ * driven by a table of cases, without the server: each snippet marks the cursor with `$0` and the ranges
+ * an answer must point at with ⟦…⟧; the expected answer stands beside it. The expected facts are worked
+ * out by hand in the comments (the tank's level at the point from its steady state, its eigenvalue from
+ * the derivative of the outflow); a few protocol tests in test/lsp keep the wire honest.
+ */
+import { describe, expect, it } from 'vitest';
+import { analyze } from '../server/src/core/pipeline/analysis';
+import { hover } from '../server/src/core/services/hover';
+import { definition, references, rename } from '../server/src/core/services/navigation';
+import { completions } from '../server/src/core/services/completion';
+import { applyEdits } from '../server/src/core/services/edits';
+import type { Span } from '../server/src/core/text';
+
+/** The text without markers, the cursor offset ($0) and the marked ranges (⟦…⟧), in order. */
+export function markers(marked: string): { text: string; cursor: number; ranges: Span[] } {
+  let text = '';
+  let cursor = -1;
+  const ranges: Span[] = [];
+  const open: number[] = [];
+  for (let i = 0; i < marked.length; i++) {
+    if (marked.startsWith('$0', i)) {
+      cursor = text.length;
+      i++;
+    } else if (marked[i] === '⟦') open.push(text.length);
+    else if (marked[i] === '⟧') ranges.push({ start: open.pop()!, end: text.length });
+    else text += marked[i];
+  }
+  if (cursor < 0) throw new Error('no $0 cursor in the snippet');
+  return { text, cursor, ranges: ranges.sort((a, b) => a.start - b.start) };
+}
+
+// our own draining tank, time in minutes: level at the point (feed/k)² = (1/0.5)² = 4 m; A = −k/(2·area·√h)
+// = −0.5/(2·2·2) = −0.0625 1/min
+const model = (body: string) => `time [min]
+const area = 2 [m^2]
+const k = 0.5 [m^2.5/min]
+${body}`;
+
+type Case =
+  | { name: string; service: 'hover'; snippet: string; contains: string[]; absent?: string[] }
+  | { name: string; service: 'definition' | 'references'; snippet: string }
+  | { name: string; service: 'rename'; snippet: string; to: string; expect: string }
+  | { name: string; service: 'completion'; snippet: string; labels: [string, string][]; absent?: string[] };
+
+const TANK = (cur: (name: string) => string) => model(`input feed [m^3/min]
+state level [m]
+var out [m^3/min]
+output cm [cm] = level
+area*level' = feed - out
+out = k*sqrt(${cur('level')})
+point base:
+  feed = 1 [m^3/min]
+  level ~ 1 [m]
+`);
+
+const CASES: Case[] = [
+  { name: 'a state: kind, unit and value at the point', service: 'hover',
+    snippet: model(`input feed [m^3/min]\nstate level [m]\nvar out [m^3/min]\narea*level' = feed - out\nout = k*sqrt(lev$0el)\npoint base:\n  feed = 1 [m^3/min]\n  level ~ 1 [m]\n`),
+    contains: ['**state** `level` [m]', '| base | 4 m | solved |'] },
+  { name: 'a point header: its eigenvalue and time constant', service: 'hover',
+    snippet: TANK((n) => n).replace('point base', 'point ba$0se'),
+    contains: ['-0.0625', '16'] }, // τ = 1/0.0625 = 16 min
+  { name: 'a built-in function', service: 'hover',
+    snippet: TANK((n) => n).replace('sqrt(', 'sq$0rt('), contains: ['sqrt'] },
+  { name: 'a constant: its value and unit', service: 'hover',
+    snippet: TANK((n) => n).replace('area*level', 'ar$0ea*level'), contains: ['area', '2', 'm^2'], absent: ['native code'] },
+  { name: 'definition of a var used in an equation: its declaration', service: 'definition',
+    snippet: model(`input feed [m^3/min]\nstate level [m]\nvar ⟦out⟧ [m^3/min]\narea*level' = feed - o$0ut\nout = k*sqrt(level)\n`) },
+  { name: 'definition of a constant', service: 'definition',
+    snippet: `const ⟦area⟧ = 2 [m^2]\ninput q [m^3/s]\nstate h [m]\nar$0ea*h' = q - 0.1 [m^2.5/s]*sqrt(h)\n` },
+  { name: 'references of a state: declaration, equations, output, point line', service: 'references',
+    snippet: model(`input feed [m^3/min]\nstate ⟦level⟧ [m]\nvar out [m^3/min]\noutput cm [cm] = ⟦level⟧\narea*⟦level⟧' = feed - out\nout = k*sqrt(⟦le$0vel⟧)\npoint base:\n  feed = 1 [m^3/min]\n  ⟦level⟧ ~ 1 [m]\n`) },
+  { name: 'references of an input', service: 'references',
+    snippet: `input ⟦q⟧ [m^3/s]\nstate h [m]\n2 [m^2]*h' = ⟦$0q⟧ - 0.1 [m^2.5/s]*sqrt(h)\npoint p:\n  ⟦q⟧ = 0.1 [m^3/s]\n` },
+  { name: 'rename an input everywhere, point lines included', service: 'rename', to: 'inflow',
+    snippet: TANK((n) => n).replace('= feed - out', '= fe$0ed - out'),
+    expect: TANK((n) => n).replace(/\bfeed\b/g, 'inflow') },
+  { name: 'rename a point', service: 'rename', to: 'nominal',
+    snippet: TANK((n) => n).replace('point base', 'point b$0ase'),
+    expect: TANK((n) => n).replace('point base', 'point nominal') },
+  { name: 'names in an equation: the declared ones with their kind', service: 'completion',
+    snippet: model(`input feed [m^3/min]\nstate level [m]\nvar out [m^3/min]\narea*level' = feed - ou$0\n`),
+    labels: [['out', 'var'], ['level', 'state'], ['feed', 'input'], ['area', 'const'], ['sqrt', 'function']] },
+  { name: 'units inside a bracket', service: 'completion',
+    snippet: model(`input feed [m^3/$0\n`), labels: [['m^3/s', 'unit'], ['L/min', 'unit']], absent: ['level'] },
+  { name: 'nothing in a comment', service: 'completion',
+    snippet: model(`input feed [m^3/min]  # the fe$0\n`), labels: [], absent: ['feed'] },
+];
+
+describe('pure services at a cursor (table of cases)', () => {
+  for (const c of CASES) {
+    it(`${c.service}: ${c.name}`, () => {
+      const { text, cursor, ranges } = markers(c.snippet);
+      const a = analyze(text);
+      switch (c.service) {
+        case 'hover': {
+          const md = hover(a, cursor)?.markdown ?? '';
+          for (const s of c.contains) expect(md).toContain(s);
+          for (const s of c.absent ?? []) expect(md).not.toContain(s);
+          break;
+        }
+        case 'definition':
+          expect(definition(a, cursor)).toEqual(ranges);
+          break;
+        case 'references':
+          expect([...references(a, cursor)].sort((x, y) => x.start - y.start)).toEqual(ranges);
+          break;
+        case 'rename': {
+          const r = rename(a, cursor, c.to);
+          expect(r.ok).toBe(true);
+          expect(applyEdits(text, r.ok ? r.edits : [])).toBe(c.expect);
+          break;
+        }
+        case 'completion': {
+          const got = completions(a, cursor);
+          for (const [label, kind] of c.labels) expect(got.find((x) => x.label === label), label).toMatchObject({ kind });
+          for (const label of c.absent ?? []) expect(got.some((x) => x.label === label)).toBe(false);
+          if (!c.labels.length) expect(got).toEqual([]);
+          break;
+        }
+      }
+    });
+  }
+});
+
+describe('the marker parser', () => {
+  it('finds the cursor and the ranges with offsets in the stripped text', () => {
+    expect(markers('ab ⟦cd⟧ e$0f ⟦g⟧')).toEqual({ text: 'ab cd ef g', cursor: 7, ranges: [{ start: 3, end: 5 }, { start: 9, end: 10 }] });
+  });
+});
