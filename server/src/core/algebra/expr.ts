@@ -130,6 +130,8 @@ const i32 = new Int32Array(f64.buffer);
 const mix = (a: number, b: number) => (Math.imul(a ^ b, 0x9e3779b1) + 0x7f4a7c15) | 0;
 /** A 32-bit structural hash (cheap, no strings): equal expressions hash equally; confirm with `same`. */
 export function hash(n: Node): number {
+  // leaves are hashed directly (no cache entry: most nodes are leaves)
+  if (n.t === 'sym') return mix(2, n.id);
   let h = hashCache.get(n);
   if (h !== undefined) return h;
   switch (n.t) {
@@ -137,7 +139,6 @@ export function hash(n: Node): number {
       f64[0] = n.v === 0 ? 0 : n.v; // -0 and 0 alike
       h = mix(mix(1, i32[0]), i32[1]);
       break;
-    case 'sym': h = mix(2, n.id); break;
     case 'pow': h = mix(mix(3, hash(n.base)), hash(n.exp)); break;
     default: {
       let code = n.t === 'add' ? 4 : n.t === 'mul' ? 5 : fnCode(n.fn);
@@ -153,10 +154,13 @@ export function hash(n: Node): number {
 /** Structural equality. */
 export function same(a: Node, b: Node): boolean {
   if (a === b) return true;
-  if (a.t !== b.t || hash(a) !== hash(b)) return false;
+  if (a.t !== b.t) return false;
+  // leaves without hashing (the same answers as below)
+  if (a.t === 'sym') return a.id === (b as Sym).id;
+  if (a.t === 'num' && (a.v === (b as Num).v || !(Number.isNaN(a.v) && Number.isNaN((b as Num).v)))) return a.v === (b as Num).v;
+  if (hash(a) !== hash(b)) return false;
   switch (a.t) {
     case 'num': return a.v === (b as Num).v || (Number.isNaN(a.v) && Number.isNaN((b as Num).v));
-    case 'sym': return a.id === (b as Sym).id;
     case 'pow': return same(a.base, (b as Pow).base) && same(a.exp, (b as Pow).exp);
     default: {
       const bb = b as Add | Mul | Fn;
@@ -171,21 +175,36 @@ export function same(a: Node, b: Node): boolean {
 
 /** Items grouped by structural equality of their node (hash buckets, no strings), in insertion order. */
 class NodeTable<T extends { node: Node }> {
-  private readonly buckets = new Map<number, T[]>();
+  /** Hash buckets, built once the table is larger than SMALL (a few items are compared one by one). */
+  private buckets: Map<number, T[]> | undefined;
   readonly order: T[] = [];
   find(n: Node): T | undefined {
+    if (!this.buckets) {
+      for (const e of this.order) if (same(e.node, n)) return e;
+      return undefined;
+    }
     const b = this.buckets.get(hash(n));
     if (b) for (const e of b) if (same(e.node, n)) return e;
     return undefined;
   }
   add(e: T): void {
-    const h = hash(e.node);
-    const b = this.buckets.get(h);
-    if (b) b.push(e);
-    else this.buckets.set(h, [e]);
     this.order.push(e);
+    if (!this.buckets) {
+      if (this.order.length <= SMALL) return;
+      this.buckets = new Map();
+      for (const x of this.order) this.bucket(x);
+      return;
+    }
+    this.bucket(e);
+  }
+  private bucket(e: T): void {
+    const h = hash(e.node);
+    const b = this.buckets!.get(h);
+    if (b) b.push(e);
+    else this.buckets!.set(h, [e]);
   }
 }
+const SMALL = 8;
 
 /** Split a product into numeric coefficient and the rest. */
 function coeffOf(n: Node): [number, Node] {

@@ -225,6 +225,17 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   };
   const activeIdx = new Int32Array(cm.nEq).fill(-1);
   active.forEach((r, i) => (activeIdx[r] = i));
+  // the Jacobian entries of the problem once: entry k of the compiled model is (row entRow[k], unknown
+  // entCol[k]) of the point problem, or not part of it (-1)
+  const entRow = new Int32Array(J.length).fill(-1);
+  const entCol = new Int32Array(J.length).fill(-1);
+  for (let k = 0; k < J.length; k++) {
+    const i = activeIdx[cm.rows[k]];
+    const j = colOf.get(cm.cols[k]);
+    if (i < 0 || j === undefined) continue;
+    entRow[k] = i;
+    entCol[k] = j;
+  }
   /** Scaled Jacobian entries (row i active, col j unknown). */
   const entries = (): { rows: Int32Array; cols: Int32Array; vals: Float64Array; nnz: number } => {
     cm.jacobian(values, J);
@@ -233,9 +244,9 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     const vals = new Float64Array(J.length);
     let nnz = 0;
     for (let k = 0; k < J.length; k++) {
-      const i = activeIdx[cm.rows[k]];
-      const j = colOf.get(cm.cols[k]);
-      if (i < 0 || j === undefined) continue;
+      const i = entRow[k];
+      if (i < 0) continue;
+      const j = entCol[k];
       rows[nnz] = i;
       cols[nnz] = j;
       vals[nnz] = J[k] * rowScale[i] * xs[j];
@@ -268,9 +279,9 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     cm.jacobian(values, J);
     const mx = new Float64Array(nR);
     for (let k = 0; k < J.length; k++) {
-      const i = activeIdx[cm.rows[k]];
-      const j = colOf.get(cm.cols[k]);
-      if (i < 0 || j === undefined) continue;
+      const i = entRow[k];
+      if (i < 0) continue;
+      const j = entCol[k];
       const mag = Math.max(Math.abs(values[unknowns[j]]), Math.abs(lm.slots[unknowns[j]].scale));
       mx[i] = Math.max(mx[i], Math.abs(J[k]) * mag);
     }
