@@ -123,11 +123,11 @@ export function pointDiagnostics(a: Analysis): Diagnostic[] {
 function report(a: Analysis, job: Extract<Job, { kind: 'report' }>): PageResult {
   const point = resolvePoint(a, job.file, job.point, job.settings.activePoint);
   // the editor refreshes the page while the model is edited: keep the validity search short there
-  // the hand-off sections when the settings ask for them (poise.reportSampleTime, poise.reportReduce)
+  // the hand-off sections when the settings ask for them (poise.reportSampleTime, poise.reportReduce); a
+  // sample time that is not a positive time leaves the section out
   const T = job.settings.reportSampleTime ? parseSampleTime(job.settings.reportSampleTime, timeUnitLabel(a.lowered.timeUnit)) : undefined;
   const sample = typeof T === 'number' ? { every: T, hold: 'zoh' as const } : undefined;
   const data = buildReport(a, point, { title: job.file, validityBudgetMs: 1500, sample, reduce: job.settings.reportReduce ? {} : undefined });
-  if (typeof T === 'string') data.problems.push(`poise.reportSampleTime: ${T}`);
   return { html: renderReportHtml(data), title: `Report: ${data.point}` };
 }
 
