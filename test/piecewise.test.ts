@@ -185,6 +185,19 @@ describe('piecewise diagnostics, each at its exact range', () => {
     `, [{ code: 'P101', message: ['a number'] }, { code: 'P132', message: ['increase strictly'] }], { ignore: ['P501', 'P503', 'P504'] });
   });
 
+  it('a table in a constant: P510 says to use a var', () => {
+    check(`
+      input u
+      table k [1] to [1]:
+        0  1
+        2  3
+      const c = ⟦k(1)⟧
+      output y = c*u
+      point p:
+        u = 1
+    `, [{ code: 'P510', message: ['declare a var'] }]);
+  });
+
   it('a name declared twice (table and var)', () => {
     check(`
       input u

@@ -272,7 +272,9 @@ export function checkUnits(m: BoundModel): UnitFacts {
     const v = constValue(d.value);
     constValues.set(s, v);
     if (!Number.isFinite(v) && !hasError(d.value)) {
-      diagnostics.push(diag('P510', d.value.span, { name: s.name, detail: Number.isNaN(v) ? 'the value is not a number (check for √ or log of a negative, or an unknown unit)' : 'the value is infinite (division by zero?)' }));
+      const table = someExpr(d.value, (x) => x.kind === 'call' && m.tables.has(x.fn) && !hasName(BUILTIN_ARITY, x.fn));
+      const why = table ? 'a table is read in equations and outputs, not in constants: declare a var and write its equation (k0 = kv(50 [%]))' : 'the value is not a number (check for √ or log of a negative, or an unknown unit)';
+      diagnostics.push(diag('P510', d.value.span, { name: s.name, detail: Number.isNaN(v) ? why : 'the value is infinite (division by zero?)' }));
     }
     // the unit the constant was written in (for display): a single literal keeps its unit text
     const lit = d.value.kind === 'number' && d.value.unit ? parseUnit(d.value.unit.text) : undefined;

@@ -1,5 +1,5 @@
 /**
- * The outline of a model file, grouped by kind: constants, inputs, states, vars, outputs, equations,
+ * The outline of a model file, grouped by kind: constants, tables, inputs, states, vars, outputs, equations,
  * points, linear blocks, sweeps (groups in that order, items in file order). Pure.
  */
 import type { Analysis } from '../pipeline/analysis';
@@ -80,6 +80,11 @@ export function documentOutline(a: Analysis): OutlineItem[] {
   };
   const unit = (u?: { text: string }) => (u ? `[${u.text}]` : '');
   group('Constants', own(m.consts).map((s) => ({ name: label(s.name), kind: 'const', detail: oneLine(a.text.slice((s.decl as { value: { span: Span } }).value.span.start, s.decl.span.end)), span: s.decl.span, selection: s.span })));
+  // lookup tables: data, listed as constants are (an editor shows them with the constant's icon)
+  group('Tables', [...m.tables.values()].map((t) => ({
+    name: t.name.name, kind: 'const', span: t.span, selection: t.name.span,
+    detail: `${unit(t.xUnit)} → ${unit(t.yUnit)}, ${t.interpolation}${t.file ? `, from "${t.file.text}"` : `, ${t.rows.length} rows`}`,
+  })));
   group('Inputs', own(m.inputs).map((s) => ({ name: label(s.name), kind: 'input', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
   group('States', own(m.states).map((s) => ({ name: label(s.name), kind: 'state', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
   group('Vars', own(m.vars).map((s) => ({ name: label(s.name), kind: 'var', detail: unit(s.unit), span: s.decl.span, selection: s.span })));
