@@ -10,6 +10,7 @@
 import { pushAll } from '../core/arrays';
 import { buildReport } from '../core/analysis/report';
 import { renderReportHtml } from '../core/present/reportHtml';
+import { sensitivityReport } from '../core/analysis/sensitivity';
 import { declaredSweeps, runSweep, sweepCandidates, sweepDiagnostics, variedProblem, type SweepSpec } from '../core/analysis/sweep';
 import { catalogueText, type Diagnostic } from '../core/diagnostics';
 import type { Analysis } from '../core/pipeline/analysis';
@@ -119,7 +120,9 @@ function report(a: Analysis, job: Extract<Job, { kind: 'report' }>): PageResult 
   const point = resolvePoint(a, job.file, job.point, job.settings.activePoint);
   // the editor refreshes the page while the model is edited: keep the validity search short there
   const data = buildReport(a, point, { title: job.file, validityBudgetMs: 1500 });
-  return { html: renderReportHtml(data), title: `Report: ${data.point}` };
+  // the sensitivity table and first-order bands (the sampled bands and the pole cloud: `poise report --html` or `poise sensitivity`)
+  const sensitivity = data.ok && data.states.length <= 200 ? sensitivityReport(a, point) : undefined;
+  return { html: renderReportHtml(data, { sensitivity: sensitivity?.ok ? sensitivity : undefined }), title: `Report: ${data.point}` };
 }
 
 function sweep(a: Analysis, job: Extract<Job, { kind: 'sweep' }>): PageResult {
