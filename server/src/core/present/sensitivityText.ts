@@ -25,7 +25,9 @@ export function formatSensitivityText(r: SensitivityReport, d = 4): string {
   const t = r.timeUnit;
   const s = r.sensitivities;
   out.push(`Sensitivities at point ${r.point} (time in ${t})`);
-  out.push(`Constants: ${s.parameters.map((p) => `${p.name} = ${f(p.value, d)}${unitSuffix(p.unit)}`).join(', ') || 'none'}`);
+  // the constants that move something (a family's size, used only in indices, moves nothing)
+  const moves = s.parameters.filter((_, k) => s.modes.some((m) => m.d[k].re !== 0 || m.d[k].im !== 0) || s.gains.some((g) => g.d[k] !== 0));
+  out.push(`Constants: ${moves.map((p) => `${p.name} = ${f(p.value, d)}${unitSuffix(p.unit)}`).join(', ') || 'none'}`);
   for (const m of r.ranked) {
     const lam = m.eigenvalue;
     const tau = lam.re !== 0 ? `, time constant ${formatShort(1 / Math.abs(lam.re))} ${t}` : '';
