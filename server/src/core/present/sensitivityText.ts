@@ -7,6 +7,7 @@ import type { Complex } from '../analysis/dynamics/types';
 import type { GainBand, ModeBand, SensitivityReport } from '../analysis/sensitivity/bands';
 import { ILL_CONDITIONED } from '../analysis/sensitivity/sensitivity';
 import { formatNumber, formatShort } from '../numbers';
+import { maxOf } from '../arrays';
 import { unitSuffix } from '../semantics/units';
 
 const f = (v: number, d = 4) => formatNumber(v, d);
@@ -37,7 +38,7 @@ export function formatSensitivityText(r: SensitivityReport, d = 4): string {
       out.push('  no constant moves it');
       continue;
     }
-    const w = Math.max(12, ...m.effects.map((e) => e.parameter.length));
+    const w = maxOf(m.effects.map((e) => e.parameter.length), 12);
     out.push(`  ${'1 % larger'.padEnd(w)}  ${'moves λ by'.padEnd(24)}  ${'|Δλ|/|λ|'.padEnd(10)}  time constant`);
     for (const e of m.effects) {
       const sh = e.shift.im === 0 ? `${signed(e.shift.re, 3)}` : `${signed(e.shift.re, 3)} ${e.shift.im < 0 ? '-' : '+'} ${f(Math.abs(e.shift.im), 3)}i`;
