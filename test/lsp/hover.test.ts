@@ -194,3 +194,19 @@ describe('hover on a point: where the model goes next (smaller, sampled)', () =>
     expect(md).toMatch(/\*\*1[0-9] of 60\*\* states keep the error within 10⁻³·σ₁ — `poise reduce`/);
   });
 });
+
+describe('hover on a constant: what a 1 % larger value does', () => {
+  it('gives the pole shift of the draining tank, λ ∝ cv² (closed form from the steady state), and the band', async () => {
+    const uri = uriOf('hover-sens.poise');
+    await s.open(uri, BUFFER.replace('const cv    = 0.0045 [m^2.5/s]', 'const cv    = 0.0045 [m^2.5/s] ± 8 %'));
+    const md = await hoverText(uri, 'const cv', 7);
+    // λ = −(o·cv)²/(2·area·q): a 1 % larger cv moves λ by 2 % (first order) and shortens the time constant by 2 %
+    expect(md).toContain('At point `dry_day`, 1 % larger `cv`:');
+    expect(md).toMatch(/mode 1 \(λ = -0\.0003375 1\/s\): λ moves 2 %, time constant -2 %/);
+    // the level gain 2q/(o·cv)² falls by 2 %
+    expect(md).toMatch(/gain `inflow` → `level_cm`: -2 %/);
+    expect(md).toContain('Tolerance `± 8 %`');
+    const area = await hoverText(uri, 'const area', 7);
+    expect(area).toMatch(/λ moves 1 %, time constant \+1 %/); // λ ∝ 1/area
+  });
+});

@@ -12,6 +12,7 @@ import { buildReport } from '../core/analysis/report';
 import { parseSampleTime } from '../core/analysis/handoff/sampled';
 import { timeUnitLabel } from '../core/semantics/units';
 import { renderReportHtml } from '../core/present/reportHtml';
+import { sensitivityReport } from '../core/analysis/sensitivity';
 import { declaredSweeps, runSweep, sweepCandidates, sweepDiagnostics, variedProblem, type SweepSpec } from '../core/analysis/sweep';
 import { catalogueText, type Diagnostic } from '../core/diagnostics';
 import type { Analysis } from '../core/pipeline/analysis';
@@ -128,7 +129,9 @@ function report(a: Analysis, job: Extract<Job, { kind: 'report' }>): PageResult 
   const T = job.settings.reportSampleTime ? parseSampleTime(job.settings.reportSampleTime, timeUnitLabel(a.lowered.timeUnit)) : undefined;
   const sample = typeof T === 'number' ? { every: T, hold: 'zoh' as const } : undefined;
   const data = buildReport(a, point, { title: job.file, validityBudgetMs: 1500, sample, reduce: job.settings.reportReduce ? {} : undefined });
-  return { html: renderReportHtml(data), title: `Report: ${data.point}` };
+  // the sensitivity table and first-order bands (the sampled bands and the pole cloud: `poise report --html` or `poise sensitivity`)
+  const sensitivity = data.ok && data.states.length <= 200 ? sensitivityReport(a, point) : undefined;
+  return { html: renderReportHtml(data, { sensitivity: sensitivity?.ok ? sensitivity : undefined }), title: `Report: ${data.point}` };
 }
 
 function sweep(a: Analysis, job: Extract<Job, { kind: 'sweep' }>): PageResult {

@@ -7,6 +7,7 @@ import type { Complex } from '../analysis/dynamics/types';
 import type { GainBand, ModeBand, SensitivityReport } from '../analysis/sensitivity/bands';
 import { ILL_CONDITIONED } from '../analysis/sensitivity/sensitivity';
 import { formatNumber, formatShort } from '../numbers';
+import { maxOf } from '../arrays';
 import { unitSuffix } from '../semantics/units';
 
 const f = (v: number, d = 4) => formatNumber(v, d);
@@ -25,7 +26,9 @@ export function formatSensitivityText(r: SensitivityReport, d = 4): string {
   const t = r.timeUnit;
   const s = r.sensitivities;
   out.push(`Sensitivities at point ${r.point} (time in ${t})`);
-  out.push(`Constants: ${s.parameters.map((p) => `${p.name} = ${f(p.value, d)}${unitSuffix(p.unit)}`).join(', ') || 'none'}`);
+  // the constants that move something (a family's size, used only in indices, moves nothing)
+  const moves = s.parameters.filter((_, k) => s.modes.some((m) => m.d[k].re !== 0 || m.d[k].im !== 0) || s.gains.some((g) => g.d[k] !== 0));
+  out.push(`Constants: ${moves.map((p) => `${p.name} = ${f(p.value, d)}${unitSuffix(p.unit)}`).join(', ') || 'none'}`);
   for (const m of r.ranked) {
     const lam = m.eigenvalue;
     const tau = lam.re !== 0 ? `, time constant ${formatShort(1 / Math.abs(lam.re))} ${t}` : '';
@@ -35,7 +38,7 @@ export function formatSensitivityText(r: SensitivityReport, d = 4): string {
       out.push('  no constant moves it');
       continue;
     }
-    const w = Math.max(12, ...m.effects.map((e) => e.parameter.length));
+    const w = maxOf(m.effects.map((e) => e.parameter.length), 12);
     out.push(`  ${'1 % larger'.padEnd(w)}  ${'moves λ by'.padEnd(24)}  ${'|Δλ|/|λ|'.padEnd(10)}  time constant`);
     for (const e of m.effects) {
       const sh = e.shift.im === 0 ? `${signed(e.shift.re, 3)}` : `${signed(e.shift.re, 3)} ${e.shift.im < 0 ? '-' : '+'} ${f(Math.abs(e.shift.im), 3)}i`;

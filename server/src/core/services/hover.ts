@@ -28,6 +28,8 @@ import { maxOf, minOf, pushAll } from '../arrays';
 import { handoffHoverLines } from './handoffHover';
 import { memberAt } from './partMembers';
 import type { PartDef } from '../semantics/elaborate';
+import { modelParameters, rankedEffects, sensitivities } from '../analysis/sensitivity';
+import { DENSE_EIGENVECTORS_UP_TO } from '../analysis/sensitivity/eigenpairs';
 
 export interface HoverOptions {
   /** Significant digits of the numbers shown. */
@@ -227,7 +229,40 @@ function constText(a: Analysis, s: ModelSymbol, digits: number): string {
   }
   pushAll(out, ['', uses.length ? 'Used in:' : 'Not used in any equation.', ...uses.slice(0, 20)]);
   if (uses.length > 20) out.push(`- … and ${uses.length - 20} more`);
+  pushAll(out, constSensitivityLines(a, s));
   return out.join('\n');
+}
+
+/** What a 1 % larger constant does at the first point (modes and gains it moves most), and its tolerance band. */
+function constSensitivityLines(a: Analysis, s: ModelSymbol): string[] {
+  const out: string[] = [];
+  const band = a.tolerances.tolerances.find((t) => t.symbol === s);
+  if (band) out.push('', `Tolerance ${code(band.text)}: the real value may lie anywhere in that band (\`poise sensitivity\` gives the bands of the poles and gains).`);
+  const point = a.pointNames[0];
+  const lin = point !== undefined ? a.linear(point) : undefined;
+  // a hover stays quick: models small enough for the dense eigenvectors only
+  if (!lin || !lin.ok || lin.n === 0 || lin.n > DENSE_EIGENVECTORS_UP_TO) return out;
+  const sol = a.point(point)!;
+  const par = modelParameters(a, sol).find((p) => p.slot === a.lowered.slotOf(s));
+  if (!par) return out;
+  const r = sensitivities(a, point, [par]);
+  if (!r.ok) return out;
+  const t = r.timeUnit;
+  const modes = r.modes
+    .map((m) => ({ m, e: rankedEffects(r, m)[0] }))
+    .filter((x) => x.e && x.e.eigenvaluePercent !== null && x.e.eigenvaluePercent > 1e-6)
+    .sort((x, y) => y.e.eigenvaluePercent! - x.e.eigenvaluePercent!)
+    .slice(0, 3)
+    .map(({ m, e }) => `- mode ${m.number} (λ = ${fmt(m.eigenvalue.re, 4)}${m.eigenvalue.im ? ` ± ${fmt(m.eigenvalue.im, 4)}i` : ''} 1/${t}): λ moves ${fmt(e.eigenvaluePercent!, 3)} %${e.timeConstantPercent !== null ? `, time constant ${e.timeConstantPercent > 0 ? '+' : ''}${fmt(e.timeConstantPercent, 3)} %` : ''}`);
+  const gains = r.gains
+    .filter((g) => g.value !== 0 && g.d[0] !== 0)
+    .map((g) => ({ g, pc: ((g.d[0] * 0.01 * par.value) / g.value) * 100 }))
+    .sort((x, y) => Math.abs(y.pc) - Math.abs(x.pc))
+    .slice(0, 3)
+    .map(({ g, pc }) => `- gain ${code(g.input)} → ${code(g.output)}: ${pc > 0 ? '+' : ''}${fmt(pc, 3)} %`);
+  if (!modes.length && !gains.length) return out;
+  pushAll(out, ['', `At point ${code(point!)}, 1 % larger ${code(s.name)}:`, ...modes, ...gains]);
+  return out;
 }
 
 function deltaText(a: Analysis, t: Extract<Target, { kind: 'symbol' }>): string {
