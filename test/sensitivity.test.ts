@@ -21,7 +21,30 @@ import { linearize } from '../server/src/core/solve/linearizer';
 import { dedent, expectClose } from './helpers/model';
 import { PYTHON_WITH_SCIPY, runScipy, SCIPY_REQUIRED } from './helpers/scipy';
 
-const EXAMPLES = fs.readdirSync('examples').filter((f) => f.endsWith('.poise')).map((f) => `examples/${f}`);
+/**
+ * The examples whose sensitivities these routes can check one to one. Left out, each for its reason:
+ * constrained models (index reduced: sensitivities refuse them, tested below), tables read from a CSV file
+ * beside the model (these tests analyse the text alone), and models above 40 states, whose many close
+ * eigenvalues the re-solved models' sorted eigenvalues cannot be paired with one by one.
+ */
+const EXAMPLES = fs.readdirSync('examples').filter((f) => f.endsWith('.poise')).map((f) => `examples/${f}`).filter((f) => {
+  const text = fs.readFileSync(f, 'utf8');
+  if (/from\s+"/.test(text)) return false;
+  const a = analyze(text);
+  if (a.indexPlan) return false;
+  const lin = a.pointNames.length ? a.linear(a.pointNames[0]) : undefined;
+  return !!lin && lin.ok && lin.states.length <= 40;
+});
+
+describe('a constrained model', () => {
+  it('gets no sensitivities, with a sentence that says why (not numbers of the unreduced equations)', () => {
+    const a = analyze(fs.readFileSync('examples/dip_rail_shuttle.poise', 'utf8'));
+    expect(a.indexPlan).toBeDefined();
+    const s = sensitivities(a, a.pointNames[0]);
+    expect(s.ok).toBe(false);
+    expect(s.problem).toMatch(/constrained model/);
+  });
+});
 
 const TANK = dedent(`
   const area = 3.2 [m^2]

@@ -9,9 +9,11 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
+import { pathToFileURL } from 'url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CodeAction, CodeLens, Diagnostic } from 'vscode-languageserver-protocol';
-import { analyze } from '../../server/src/core/pipeline/analysis';
+import { analyze, analyzeDocuments } from '../../server/src/core/pipeline/analysis';
+import { cliSources } from '../../server/src/cli/sourceHost';
 import { EXAMPLES, REFERENCE } from '../helpers/cli';
 import { readReferenceFile } from '../helpers/reference';
 import { readBlock } from './blocks';
@@ -214,10 +216,13 @@ const MODELS = [
 
 describe.each(MODELS)('$file', ({ file, ref }) => {
   it('Solve and Linearize at every point: idempotent, valid model text, coefficients equal the linear model', async () => {
-    const uri = uriOf('all-' + path.basename(file));
     const original = fs.readFileSync(file, 'utf8');
+    // a model that reads a file beside it (a table's CSV) is opened under its own address, so the server finds it
+    const besideFiles = /from\s+"/.test(original);
+    const uri = besideFiles ? pathToFileURL(path.resolve(file)).href : uriOf('all-' + path.basename(file));
+    const analyzeHere = (t: string) => (besideFiles ? analyzeDocuments(cliSources(path.resolve(file), t), path.resolve(file))! : analyze(t));
     await s.open(uri, original);
-    const points = analyze(original).pointNames;
+    const points = analyzeHere(original).pointNames;
     expect(points.length).toBeGreaterThan(0);
     // solve all points first (a solve edits the model text, which the other points' digests cover)
     for (const p of points) {
@@ -233,7 +238,7 @@ describe.each(MODELS)('$file', ({ file, ref }) => {
       expect(s.text(uri)).toBe(once);
     }
     const text = s.text(uri);
-    const a = analyze(text);
+    const a = analyzeHere(text);
     expect(a.allDiagnostics().filter((d) => d.severity === 'error' || d.code === 'P601')).toEqual([]);
     expect((await s.diagnostics(uri)).filter((d) => d.severity === 1 || d.code === 'P601')).toEqual([]);
     for (const p of points) {

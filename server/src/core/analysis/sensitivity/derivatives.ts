@@ -199,6 +199,9 @@ export function pointDerivatives(a: Analysis, pointName?: string, params?: Param
   const name = sol?.name ?? pointName ?? '';
   const fail = (problem: string): PointDerivatives => ({ ok: false, problem, point: name, derivatives: [] });
   if (!sol || !sol.ok) return fail('the point is not solved');
+  // the derivatives below differentiate the lowered equations; a constrained model's linear model is that of
+  // its index reduction at the point, which they do not follow yet: say so rather than give wrong numbers
+  if (a.indexPlan) return fail('sensitivities of a constrained model (reduced by differentiating constraints) are not available yet; write the model in independent coordinates to get them');
   const lin = a.linear(sol.name);
   if (!lin || !lin.ok) return fail('the point has no linear model');
   const lm = a.lowered;
