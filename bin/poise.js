@@ -45,6 +45,14 @@ const lspOptions = (a) => a === '--stdio' || a === '--node-ipc' || /^--clientPro
 if (args[0] === 'lsp' && args.slice(1).some((a) => a === '--stdio' || a === '--node-ipc') && args.slice(1).every(lspOptions)) {
   require(fs.existsSync(dist('server.js')) ? dist('server.js') : '../out/server/src/lsp/main.js');
 } else {
+  // output piped into a reader that stops early (`| head`): the rest is not wanted, so end quietly, as
+  // command-line tools do, instead of an unhandled EPIPE stack trace
+  for (const stream of [process.stdout, process.stderr]) {
+    stream.on('error', (err) => {
+      if (err && err.code === 'EPIPE') process.exit(process.exitCode ?? 0);
+      throw err;
+    });
+  }
   const cli = loadCli();
   cli.main(args).then(
     (code) => { process.exitCode = code; },
