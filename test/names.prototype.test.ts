@@ -30,12 +30,10 @@ function renamed(text: string): { text: string; map: Map<string, string> } {
   const a = analyze(text);
   const base = (n: string) => n.replace(/\[.*$/, '');
   // the names of families first (so a family model renames its families); a constant written inside index
-  // brackets (a family's size in `th[1..n]`, an index `th[n]`) is left alone: the binder records no
-  // reference there yet (reported to the families work), so a rename through the binder would miss it
-  const plain = text.replace(/#.*$/gm, '');
-  const inBrackets = (name: string) => new RegExp(`\\[[^\\]\\n]*(?<![\\p{L}\\p{N}_])${name}(?![\\p{L}\\p{N}_])[^\\]\\n]*\\]`, 'u').test(plain);
+  // brackets (a family's size in `th[1..n]`, an index `th[n]`) is renamed there too: the binder records
+  // those places as references (where: 'index')
   const names = [...new Set([...a.bound.symbols.values()].map((s) => base(s.name)))]
-    .filter((n) => !WORDS.includes(n) && !inBrackets(n))
+    .filter((n) => !WORDS.includes(n))
     .sort((x, y) => Number(a.families.has(y)) - Number(a.families.has(x)));
   const map = new Map<string, string>();
   names.slice(0, WORDS.length).forEach((n, i) => map.set(n, WORDS[i]));

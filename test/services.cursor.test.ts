@@ -77,6 +77,12 @@ const CASES: Case[] = [
   { name: 'rename an input everywhere, point lines included', service: 'rename', to: 'inflow',
     snippet: TANK((n) => n).replace('= feed - out', '= fe$0ed - out'),
     expect: TANK((n) => n).replace(/\bfeed\b/g, 'inflow') },
+  // a constant in a family's size, range and index is renamed there too (binder references, where: 'index')
+  { name: 'rename a family size constant in the brackets as well', service: 'rename', to: 'cells',
+    snippet: `const $0n = 3\nconst k = 0.01 [m^2.5/s]\ninput qin [m^3/s]\nstate h[1..n] [m]\n2 [m^2]*h[1]' = qin - k*sqrt(h[1])\neach i in 2..n: 2 [m^2]*h[i]' = k*sqrt(h[i-1]) - k*sqrt(h[i])\noutput last [m] = h[n]\npoint p:\n  qin = 0.01 [m^3/s]\n  h ~ 1 [m]\n`,
+    expect: `const cells = 3\nconst k = 0.01 [m^2.5/s]\ninput qin [m^3/s]\nstate h[1..cells] [m]\n2 [m^2]*h[1]' = qin - k*sqrt(h[1])\neach i in 2..cells: 2 [m^2]*h[i]' = k*sqrt(h[i-1]) - k*sqrt(h[i])\noutput last [m] = h[cells]\npoint p:\n  qin = 0.01 [m^3/s]\n  h ~ 1 [m]\n` },
+  { name: 'references of a family size constant include its places in brackets', service: 'references',
+    snippet: `const ⟦$0n⟧ = 3\nconst k = 0.01 [m^2.5/s]\ninput qin [m^3/s]\nstate h[1..⟦n⟧] [m]\n2 [m^2]*h[1]' = qin - k*sqrt(h[1])\neach i in 2..⟦n⟧: 2 [m^2]*h[i]' = k*sqrt(h[i-1]) - k*sqrt(h[i])\noutput last [m] = h[⟦n⟧]\npoint p:\n  qin = 0.01 [m^3/s]\n  h ~ 1 [m]\n` },
   { name: 'rename a point', service: 'rename', to: 'nominal',
     snippet: TANK((n) => n).replace('point base', 'point b$0ase'),
     expect: TANK((n) => n).replace('point base', 'point nominal') },

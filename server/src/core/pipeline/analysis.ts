@@ -95,7 +95,7 @@ export class Analysis {
     this.instanceFamilies = elab.instanceFamilies;
     const before = [...this.source.diagnostics, ...loaded.diagnostics, ...elab.diagnostics, ...checkUnplacedParts(this.source.file, loaded.parts, elab, options)];
     this.parsed = elab.file === this.source.file && before.length === this.source.diagnostics.length ? this.source : { file: elab.file, diagnostics: before };
-    this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices });
+    this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices, indexRefs: elab.indexRefs });
     this.units = checkUnits(this.bound);
     // spans of every document in one offset space: the texts of the files brought in follow the root's
     const allText = this.documents.list.length > 1 ? this.documents.list.map((d) => d.text).join('\n') : text;
@@ -309,7 +309,7 @@ function checkUnplacedParts(file: A.ModelFile, parts: ReadonlyMap<string, PartDe
     if (st.kind !== 'part' || !st.name.name || placed.has(st) || parts.get(st.name.name)?.block !== st) continue;
     const place: A.PlaceStmt = { kind: 'place', part: st.name, name: { name: '', span: st.name.span }, overrides: [], span: st.headerSpan };
     const e = elaborate({ statements: [place], comments: [], length: file.length }, parts);
-    const b = bind(e.file, { warnUnused: options.warnUnused, usedInIndices: e.usedInIndices });
+    const b = bind(e.file, { warnUnused: options.warnUnused, usedInIndices: e.usedInIndices, indexRefs: e.indexRefs });
     const u = checkUnits(b);
     for (const d of [...e.diagnostics, ...b.diagnostics, ...u.diagnostics]) {
       if (d.code === 'P205' || d.code === 'P405' || d.span.start < st.span.start || d.span.end > st.span.end) continue;

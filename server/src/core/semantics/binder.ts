@@ -33,7 +33,8 @@ export interface Reference {
   span: Span; // the name itself (without Δ and primes)
   symbol: ModelSymbol;
   primes: number;
-  where: 'equation' | 'output' | 'const' | 'point' | 'linear' | 'sweep';
+  /** `index`: in a family's size, range or index (`n` in `h[1..n]`), where only whole-number constants go. */
+  where: 'equation' | 'output' | 'const' | 'point' | 'linear' | 'sweep' | 'index';
   /** Index of the statement (in file.statements) the reference sits in. */
   statement: number;
 }
@@ -66,7 +67,7 @@ export const BUILTIN_CONSTANTS: Readonly<Record<string, number>> = nameTable({ p
 const kindWord: Record<SymbolKind, string> = { const: 'a constant', input: 'an input', state: 'a state', var: 'a var', output: 'an output' };
 const kindTitle: Record<SymbolKind, string> = { const: 'Constant', input: 'Input', state: 'State', var: 'Var', output: 'Output' };
 
-export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInIndices?: ReadonlySet<string> } = {}): BoundModel {
+export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInIndices?: ReadonlySet<string>; indexRefs?: readonly { name: string; span: Span }[] } = {}): BoundModel {
   const warnUnused = options.warnUnused ?? true;
   const diagnostics: Diagnostic[] = [];
   const symbols = new Map<string, ModelSymbol>();
@@ -154,6 +155,11 @@ export function bind(file: A.ModelFile, options: { warnUnused?: boolean; usedInI
     m.references.push({ span, symbol, primes, where, statement });
     if (where === 'equation' || where === 'output' || where === 'const') used.add(symbol);
   };
+  // constants written in families' sizes, ranges and indices (elaboration evaluated them; no statement holds them)
+  for (const r of options.indexRefs ?? []) {
+    const s = symbols.get(r.name);
+    if (s && s.kind === 'const') ref(r.span, s, 0, 'index', -1);
+  }
 
   /** Walk an expression, resolving names. `allow` limits what may be referenced. */
   const walk = (e: A.Expr, where: Reference['where'], statement: number, check?: (s: ModelSymbol, n: A.NameExpr) => boolean): void => {

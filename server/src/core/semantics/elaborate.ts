@@ -52,6 +52,8 @@ export interface ElaborationResult {
   families: Map<string, Family>;
   /** Constants used in sizes, ranges and indices (used, though no equation names them). */
   usedInIndices: Set<string>;
+  /** Where those constants are written in sizes, ranges and indices (each place once), for references and rename. */
+  indexRefs: { name: string; span: Span }[];
   /** Placed instances by their flat name (empty without parts). */
   instances: Map<string, Instance>;
   /** Families of instances (`place tank as cell[1..8]`) by name. */
@@ -152,9 +154,10 @@ function usesFamilies(file: A.ModelFile): boolean {
 export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef> = new Map()): ElaborationResult {
   const families = new Map<string, Family>();
   const usedInIndices = new Set<string>();
+  const indexRefs: { name: string; span: Span }[] = [];
   const instances = new Map<string, Instance>();
   const instanceFamilies: ElaborationResult['instanceFamilies'] = new Map();
-  if (!usesFamilies(file)) return { file, diagnostics: [], families, usedInIndices, instances, instanceFamilies };
+  if (!usesFamilies(file)) return { file, diagnostics: [], families, usedInIndices, indexRefs, instances, instanceFamilies };
   const declaredOf = new Map<A.PartBlock, Set<string>>();
   const namesOf = (b: A.PartBlock): Set<string> => {
     let d = declaredOf.get(b);
@@ -189,7 +192,7 @@ export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>
   const out: A.Statement[] = [];
 
   const intValue = (e: A.Expr, bind: ReadonlyMap<string, number>, what: string, scope?: Scope): number => {
-    const v = evalIndex(e, bind, numbers, usedInIndices, 0, scope ? (n) => qualify(n, scope) : undefined);
+    const v = evalIndex(e, bind, numbers, usedInIndices, 0, scope ? (n) => qualify(n, scope) : undefined, indexRefs);
     if (typeof v === 'string') throw new ElabError(diag('P230', e.span, { what, detail: v }));
     if (!Number.isInteger(v)) throw new ElabError(diag('P230', e.span, { what, detail: `it is ${v}, not a whole number` }));
     return v;
@@ -617,11 +620,22 @@ export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>
       flat.push({ ...st, kind: 'var', names: st.names.filter((id) => tied.has(id.name)) });
     }
   }
-  return { file: { ...file, statements: flat }, diagnostics, families, usedInIndices, instances, instanceFamilies };
+  return { file: { ...file, statements: flat }, diagnostics, families, usedInIndices, indexRefs: dedupeRefs(indexRefs), instances, instanceFamilies };
 }
 
 /** The items of a list for a family of `size` elements, each with the list's unit when it has none. */
 function listItems(list: A.ListExpr, size: number, name: string): A.Expr[] {
   if (list.items.length !== size) throw new ElabError(diag('P237', list.span, { name, size: String(size), count: String(list.items.length) }));
   return list.items.map((it) => (list.unit && it.kind === 'number' && !it.unit ? { ...it, unit: list.unit } : it));
+}
+
+/** One reference per place in the text (an index expression is evaluated once per element it makes). */
+function dedupeRefs(refs: { name: string; span: Span }[]): { name: string; span: Span }[] {
+  const seen = new Set<string>();
+  return refs.filter((r) => {
+    const k = `${r.span.start}:${r.span.end}`;
+    if (seen.has(k)) return false;
+    seen.add(k);
+    return true;
+  });
 }

@@ -19,7 +19,7 @@ export function balanced(terms: A.Expr[], op: '+' | '*', span: Span): A.Expr {
 }
 
 /** Value of a whole-number expression, or the reason it has none. */
-export function evalIndex(e: A.Expr, bind: ReadonlyMap<string, number>, consts: ReadonlyMap<string, number>, used: Set<string>, depth = 0, q?: (name: string) => string | undefined): number | string {
+export function evalIndex(e: A.Expr, bind: ReadonlyMap<string, number>, consts: ReadonlyMap<string, number>, used: Set<string>, depth = 0, q?: (name: string) => string | undefined, refs?: { name: string; span: Span }[]): number | string {
   if (depth > 200) return 'the expression is nested too deeply';
   switch (e.kind) {
     case 'number':
@@ -29,17 +29,20 @@ export function evalIndex(e: A.Expr, bind: ReadonlyMap<string, number>, consts: 
       if (e.index || e.primes || e.delta) return `${e.name} is not a constant`;
       const flat = bind.has(e.name) ? e.name : q ? q(e.name) ?? '' : e.name;
       const v = bind.get(e.name) ?? consts.get(flat);
-      if (!bind.has(e.name) && v !== undefined) used.add(flat);
+      if (!bind.has(e.name) && v !== undefined) {
+        used.add(flat);
+        refs?.push({ name: flat, span: e.span }); // for references and rename of the constant
+      }
       return v === undefined ? `${e.name} is not a whole-number constant or index` : v;
     }
     case 'unary': {
-      const v = evalIndex(e.arg, bind, consts, used, depth + 1, q);
+      const v = evalIndex(e.arg, bind, consts, used, depth + 1, q, refs);
       return typeof v === 'number' ? (e.op === '-' ? -v : v) : v;
     }
     case 'binary': {
-      const a = evalIndex(e.left, bind, consts, used, depth + 1, q);
+      const a = evalIndex(e.left, bind, consts, used, depth + 1, q, refs);
       if (typeof a === 'string') return a;
-      const b = evalIndex(e.right, bind, consts, used, depth + 1, q);
+      const b = evalIndex(e.right, bind, consts, used, depth + 1, q, refs);
       if (typeof b === 'string') return b;
       switch (e.op) {
         case '+': return a + b;
