@@ -11,18 +11,11 @@ import { eigenvalues, eigenvaluesSparse, sortEigen } from '../numeric/eigen';
 import { unitSuffix, unitText } from '../semantics/units';
 import { maxOf, pushAll } from '../arrays';
 import { REPEAT_TOL } from '../analysis/dynamics/types';
+import type { PlainSignals } from '../analysis/handoff/plain';
 
-export interface LinearJson {
+export interface LinearJson extends PlainSignals {
   point: string;
   values: Record<string, { value: number; unit: string }>;
-  states: string[];
-  inputs: string[];
-  outputs: string[];
-  units: { states: string[]; inputs: string[]; outputs: string[]; time: string };
-  A: number[][];
-  B: number[][];
-  C: number[][];
-  D: number[][];
   eigenvalues: { re: number; im: number }[];
   equations: string[];
   /** A constrained model's index reduction (differentiated equations, states chosen at the point). */

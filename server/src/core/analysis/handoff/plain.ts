@@ -9,7 +9,8 @@ import type { SampledModel } from './sampled';
 
 export const HOLD_NAMES: Record<HoldMethod, string> = { zoh: 'zero-order hold', foh: 'first-order (triangle) hold', tustin: 'bilinear (Tustin) map' };
 
-interface PlainSignals {
+/** A linear model's names, units and matrices as rows: the one JSON field list (the linear export extends it too). */
+export interface PlainSignals {
   states: string[];
   inputs: string[];
   outputs: string[];
