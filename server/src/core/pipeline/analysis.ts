@@ -10,7 +10,7 @@ import { diag } from '../diagnostics';
 import { declaredValue, deviationEquations, linearize, type DeviationEquation, type LinearModel } from '../solve/linearizer';
 import { lower, type LoweredModel } from '../model/model';
 import { parse, type ParseResult } from '../syntax/parser';
-import { elaborate, type ElaborationResult, type Family, type PartDef } from '../semantics/elaborate';
+import { elaborate, type ElaborationResult, type Family, type PartDef, type PartScopes } from '../semantics/elaborate';
 import { loadParts, SourceDocuments } from './documents';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
 import { sweepDiagnostics } from './sweepChecks';
@@ -89,11 +89,11 @@ export class Analysis {
     this.documents = loaded.documents;
     this.parts = loaded.parts;
     this.broughtBy = loaded.broughtBy;
-    const elab = elaborate(this.source.file, loaded.parts);
+    const elab = elaborate(this.source.file, loaded.parts, loaded.scopes);
     this.families = elab.families;
     this.instances = elab.instances;
     this.instanceFamilies = elab.instanceFamilies;
-    const before = [...this.source.diagnostics, ...loaded.diagnostics, ...elab.diagnostics, ...checkUnplacedParts(this.source.file, loaded.parts, elab, options)];
+    const before = [...this.source.diagnostics, ...loaded.diagnostics, ...elab.diagnostics, ...checkUnplacedParts(this.source.file, loaded.parts, elab, options, loaded.scopes)];
     this.parsed = elab.file === this.source.file && before.length === this.source.diagnostics.length ? this.source : { file: elab.file, diagnostics: before };
     this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices, indexRefs: elab.indexRefs });
     this.units = checkUnits(this.bound);
@@ -302,13 +302,13 @@ export class Analysis {
  * A part that nothing places (a library file opened on its own, a part just written) is still checked: its
  * lines as a model of their own, for names and units (not for balance: its inputs are tied where it is used).
  */
-function checkUnplacedParts(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>, elab: ElaborationResult, options: AnalyzeOptions): Diagnostic[] {
+function checkUnplacedParts(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>, elab: ElaborationResult, options: AnalyzeOptions, scopes: PartScopes): Diagnostic[] {
   const out: Diagnostic[] = [];
   const placed = new Set([...elab.instances.values()].map((i) => i.part.block));
   for (const st of file.statements) {
     if (st.kind !== 'part' || !st.name.name || placed.has(st) || parts.get(st.name.name)?.block !== st) continue;
     const place: A.PlaceStmt = { kind: 'place', part: st.name, name: { name: '', span: st.name.span }, overrides: [], span: st.headerSpan };
-    const e = elaborate({ statements: [place], comments: [], length: file.length }, parts);
+    const e = elaborate({ statements: [place], comments: [], length: file.length }, parts, scopes);
     const b = bind(e.file, { warnUnused: options.warnUnused, usedInIndices: e.usedInIndices, indexRefs: e.indexRefs });
     const u = checkUnits(b);
     for (const d of [...e.diagnostics, ...b.diagnostics, ...u.diagnostics]) {
