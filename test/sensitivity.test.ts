@@ -20,17 +20,15 @@ import { solvePoint } from '../server/src/core/solve/pointSolver';
 import { linearize } from '../server/src/core/solve/linearizer';
 import { dedent, expectClose } from './helpers/model';
 import { PYTHON_WITH_SCIPY, runScipy, SCIPY_REQUIRED } from './helpers/scipy';
+import { analyzeFile, exampleModels } from './helpers/examples';
 
 /**
  * The examples whose sensitivities these routes can check one to one. Left out, each for its reason:
- * constrained models (index reduced: sensitivities refuse them, tested below), tables read from a CSV file
- * beside the model (these tests analyse the text alone), and models above 40 states, whose many close
+ * constrained models (index reduced: sensitivities refuse them, tested below) and models above 40 states, whose many close
  * eigenvalues the re-solved models' sorted eigenvalues cannot be paired with one by one.
  */
-const EXAMPLES = fs.readdirSync('examples').filter((f) => f.endsWith('.poise')).map((f) => `examples/${f}`).filter((f) => {
-  const text = fs.readFileSync(f, 'utf8');
-  if (/from\s+"/.test(text)) return false;
-  const a = analyze(text);
+const EXAMPLES = exampleModels().map((m) => `examples/${m.name}`).filter((f) => {
+  const a = analyzeFile(f);
   if (a.indexPlan) return false;
   const lin = a.pointNames.length ? a.linear(a.pointNames[0]) : undefined;
   return !!lin && lin.ok && lin.states.length <= 40;
@@ -111,7 +109,7 @@ describe('closed form of the draining tank', () => {
 
 /** Central difference of re-solved points: (q(p + h) − q(p − h))/2h per declared unit. */
 function centralCheck(file: string) {
-  const a = analyze(fs.readFileSync(file, 'utf8'));
+  const a = analyzeFile(file);
   const s = sensitivities(a);
   expect(s.ok, `${file}: ${s.problem}`).toBe(true);
   const sol = a.point()!;
@@ -155,7 +153,7 @@ describe('central differences of re-solved points', () => {
 describe('eigenvectors of large models by sparse inverse iteration', () => {
   it('give the same derivatives as the dense QR route on every example', () => {
     for (const file of EXAMPLES) {
-      const a = analyze(fs.readFileSync(file, 'utf8'));
+      const a = analyzeFile(file);
       const dense = sensitivities(a);
       const sparse = sensitivities(a, undefined, undefined, { sparseEigenvectors: true });
       expect(sparse.ok, file).toBe(true);
@@ -179,7 +177,7 @@ describe('against SciPy and NumPy', () => {
   }
   it('eigenvalue derivatives from scipy.linalg.eig(left=True) and numpy eigenvalues of re-solved models', () => {
     const cases = EXAMPLES.map((file) => {
-      const a = analyze(fs.readFileSync(file, 'utf8'));
+      const a = analyzeFile(file);
       const s = sensitivities(a);
       const pd = pointDerivatives(a);
       const sys = linearSystem(pd.lin!);

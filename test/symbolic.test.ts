@@ -21,10 +21,11 @@ import { formatSymbolic, printFormula, symbolicCoefficient, symbolicEquations, s
 import { EXAMPLES } from './helpers/cli';
 import { expectClose } from './helpers/model';
 import { entryByName, matrixNames, readReferenceFile, referenceModels, REFERENCE_MODELS, rowByName } from './helpers/reference';
+import { exampleModels } from './helpers/examples';
 
 const models: { file: string; ref?: string }[] = [
   ...referenceModels().map(({ file, ref }) => ({ file, ref })),
-  ...fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).map((f) => ({ file: path.join(EXAMPLES, f) })),
+  ...exampleModels().map((m) => ({ file: m.file })),
 ];
 
 /** Evaluates a formula's printed text with mathjs, the symbols bound to their values. */

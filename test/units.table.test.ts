@@ -14,6 +14,7 @@ import { SCALED_UNIT_PROBLEM, leadingNumber, parseUnit, parseUnitFast, parseUnit
 // @ts-expect-error -- a plain .mjs script without type declarations
 import { TABLE_PATH, unitTableSource } from '../scripts/gen-unit-table.mjs';
 import { expectClose } from './helpers/model';
+import { poiseFiles } from './helpers/examples';
 
 interface MathjsUnit {
   value: unknown;
@@ -178,11 +179,9 @@ describe('the generated table', () => {
   });
 
   it('the unit texts of the examples and the common list never create mathjs; unknown text does', async () => {
-    const examples = path.join(__dirname, '..', 'examples');
-    const fromExamples = fs
-      .readdirSync(examples)
-      .filter((f) => f.endsWith('.poise'))
-      .flatMap((f) => [...fs.readFileSync(path.join(examples, f), 'utf8').matchAll(/\[([^\]\n]+)\]/g)].map((m) => m[1].trim()));
+    // every .poise file, the parts libraries in subfolders included
+    const fromExamples = poiseFiles()
+      .flatMap((f) => [...fs.readFileSync(f, 'utf8').matchAll(/\[([^\]\n]+)\]/g)].map((m) => m[1].trim()));
     expect(fromExamples.length).toBeGreaterThan(20);
     // (a negative leading number is Poise's own error, P311, found without mathjs too)
     const texts = [...fromExamples, ...COMMON, ...SYNTAX].filter((t) => t === '%' || (typeof reference(t) !== 'string' && !(Number(leadingNumber(t)?.value) < 0)));

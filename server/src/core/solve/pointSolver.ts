@@ -333,7 +333,7 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     let accepted = false;
     const sig0 = switches.length ? signature() : '';
     for (let ls = 0; ls < 40; ls++) {
-      for (let j = 0; j < nU; j++) values[unknowns[j]] = x0[j] + alpha * dy[j] * xs[j];
+      for (let j = 0; j < nU; j++) values[unknowns[j]] = landed(x0[j], alpha * dy[j], xs[j]);
       const f = evalF();
       if (!Number.isNaN(f) && phi() <= (1 - 1e-4 * alpha) * phi0 + 1e-300) {
         fmax = f;
@@ -411,7 +411,7 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
       let moved = false;
       for (let j = 0; j < nU; j++) {
         x0[j] = values[unknowns[j]];
-        const v = x0[j] + dy[j] * xs[j];
+        const v = landed(x0[j], dy[j], xs[j]);
         if (Number.isFinite(v)) values[unknowns[j]] = v;
         if (values[unknowns[j]] !== x0[j]) moved = true;
       }
@@ -507,4 +507,18 @@ function lmStep(nR: number, nU: number, e: { rows: Int32Array; cols: Int32Array;
   const lu = sparseLU(nU, entries);
   if (!lu.ok) return null;
   return lu.solve(g);
+}
+
+/**
+ * x0 moved by the scaled step dy (in units of the unknown's size xs), where rounding residue is zero. A
+ * value that is exactly 0 (a spill on its zero branch) moved by a step below the resolution of its size
+ * (|dy| ≤ 64 ulps: noise of the coupled solve) stays 0, and a step that cancels x0 to within 64 ulps of
+ * it lands on 0: written as −1.034e-25 [m^3/h], such residue would change again at the next Solve. The
+ * solver's own residual measure (sizes of at least the unit) cannot tell those values from 0 anyway; a
+ * value reached by real steps (1e-32 from a guess of that size) is kept.
+ */
+function landed(x0: number, dy: number, xs: number): number {
+  if (x0 === 0) return Math.abs(dy) <= 64 * Number.EPSILON ? 0 : dy * xs;
+  const v = x0 + dy * xs;
+  return Math.abs(v) <= 64 * Number.EPSILON * Math.abs(x0) ? 0 : v;
 }
