@@ -9,6 +9,8 @@ import { solveEdits } from '../server/src/core/services/solve';
 import { applyEdits } from '../server/src/core/services/edits';
 import { EXAMPLES } from './helpers/cli';
 import { analyzeFile } from './helpers/examples';
+import { analyze } from '../server/src/core/pipeline/analysis';
+import { expandedModelText } from '../server/src/core/present/modelText';
 
 describe('Solve writes a value that is zero on its branch as 0, so a second Solve writes nothing', () => {
   // examples/valve_datasheet.poise below its overflow lip: spill = choose(level > lip, …, 0 [m^3/h]) is
@@ -32,5 +34,109 @@ describe('Solve writes a value that is zero on its branch as 0, so a second Solv
     // the zero branch holds: the level is below the lip (1.6 m)
     const level = a.values(sol).find((v) => v.name === 'level')!.value;
     expect(level).toBeLessThan(1.6);
+  });
+});
+
+describe('the expanded text of a family model reads back without new warnings', () => {
+  // `n` is used only in sizes and indices: once every family is written out it has no use left, and the
+  // expanded text used to declare it anyway (P203 "declared but never used" on reading it back)
+  const text = [
+    'const n = 3',
+    'const k = 0.01 [m^2.5/s]',
+    'input qin [m^3/s]',
+    'state h[1..n] [m]',
+    "2 [m^2]*h[1]' = qin - k*sqrt(h[1])",
+    "each i in 2..n: 2 [m^2]*h[i]' = k*sqrt(h[i-1]) - k*sqrt(h[i])",
+    'point p:',
+    '  qin = 0.01 [m^3/s]',
+    '  h ~ 1 [m]',
+    '',
+  ].join('\n');
+
+  it('writes the size constant as a comment; the text reads back clean, with the same A, B, C, D', () => {
+    const a = analyze(text, { warnUnused: true });
+    const flat = expandedModelText(a);
+    expect(flat).toContain('# const n = 3   (used only in sizes and indices, written out here)');
+    expect(flat).toContain('const k = 0.01');
+    const b = analyze(flat, { warnUnused: true });
+    expect(b.allDiagnostics()).toEqual([]);
+    // independent route: the flat model's linear model equals the family model's
+    const la = a.linear('p')!;
+    const lb = b.linear('p')!;
+    for (const m of ['A', 'B', 'C', 'D'] as const) expect(Array.from(lb[m])).toEqual(Array.from(la[m]));
+    // Torricelli (common practice): every tank passes qin, so h = (qin/k)² = 1 m
+    expect(a.values(a.point('p')!).filter((v) => v.name.startsWith('h[')).map((v) => v.value)).toEqual([1, 1, 1]);
+  });
+});
+
+describe('a misspelt member of an instance names the part and its names, once for the line', () => {
+  const text = [
+    'part vessel:',
+    '  const c_out = 3e-4 [m^2.5/s]',
+    '  input q_in [m^3/s]',
+    '  state level [m]',
+    '  var q_out [m^3/s]',
+    "  0.8 [m^2]*level' = q_in - q_out",
+    '  q_out = c_out*sqrt(level)',
+    'input feed [m^3/s]',
+    'place vessel as v[1..3]',
+    'each i in 1..3:',
+    '  v[i].inflow = feed',
+    '',
+  ].join('\n');
+
+  it('P263 at the written name (not P201 three times), and P401 lists the line once with its count', () => {
+    const a = analyze(text);
+    const ds = a.allDiagnostics().filter((d) => d.severity === 'error');
+    const p263 = ds.filter((d) => d.code === 'P263');
+    expect(p263).toHaveLength(1);
+    expect(a.sourceText(p263[0].span)).toBe('v[i].inflow');
+    expect(p263[0].message).toBe('Part "vessel" has no name "inflow" (v[i].inflow names an instance of it): its names are c_out, q_in, level, q_out; fix the spelling, or declare "inflow" in the part.');
+    expect(ds.some((d) => d.code === 'P201')).toBe(false);
+    expect(ds.find((d) => d.code === 'P401')!.message).toContain('left over: "v[i].inflow = feed" (3 times, one per element).');
+  });
+});
+
+describe('an instance input tied to a guessed value starts at that value when the default start is outside the domain', () => {
+  // The fill valve's inputs p_up and head are tied to the header pressure and the vessel level: the user
+  // guesses the header (200 kPa), but the tied copies used to start at 1 kPa, so √((p_up − ρg·head)/1 bar)
+  // was a square root of a negative number at the start (P503 "no real solution from these guesses").
+  const text = [
+    'part inlet:',
+    '  const kv = 2e-4 [m^3/s]',
+    '  const rho_g = 9.79 [kPa/m]',
+    '  input opening',
+    '  input p_up [kPa]',
+    '  input head [m]',
+    '  var q [m^3/s]',
+    '  q = kv*opening*sqrt((p_up - rho_g*head)/1 [bar])',
+    'const k_out = 2e-4 [m^2.5/s]',
+    'input cmd',
+    'state level [m]',
+    'var p_header [kPa]',
+    'place inlet as fill',
+    'fill.p_up = p_header',
+    'fill.head = level',
+    'fill.opening = cmd',
+    "0.8 [m^2]*level' = fill.q - k_out*sqrt(level)",
+    'p_header = 300 [kPa] - 40 [kPa]*level',
+    'point p:',
+    '  cmd = 0.5',
+    '  level ~ 1 [m]',
+    '  p_header ~ 200 [kPa]',
+    '',
+  ].join('\n');
+
+  it('solves; the level balances the valve flow against the outlet (checked by substitution)', () => {
+    const a = analyze(text);
+    const sol = a.point('p')!;
+    expect(sol.diagnostics.filter((d) => d.severity === 'error')).toEqual([]);
+    expect(sol.ok).toBe(true);
+    const v = new Map(a.values(sol).map((x) => [x.name, x.value]));
+    const h = v.get('level')!;
+    // independent route: the steady state by hand, kv·cmd·√((300 − 40h − 9.79h)/100) = k_out·√h, in SI
+    const inflow = 2e-4 * 0.5 * Math.sqrt((300 - 40 * h - 9.79 * h) / 100);
+    expect(Math.abs(inflow - 2e-4 * Math.sqrt(h)) / inflow).toBeLessThan(1e-12);
+    expect(v.get('fill.p_up')).toBeCloseTo(300 - 40 * h, 9);
   });
 });

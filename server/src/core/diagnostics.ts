@@ -100,6 +100,7 @@ export const catalogue = {
   P260: { severity: 'error', text: 'The instance name "{name}" is already used by {what}: choose another name.' },
   P261: { severity: 'error', text: '"{name}" is an instance of part "{part}", not a value: name one of its members, e.g. {name}.{example}.' },
   P262: { severity: 'error', text: 'Part "{name}" is defined in {file} but not brought in here ({why}): write {fix}.' },
+  P263: { severity: 'error', text: 'Part "{part}" has no name "{member}" ({written} names an instance of it): its names are {names}; fix the spelling, or declare "{member}" in the part.' },
 
   // 3xx units
   P301: { severity: 'error', text: 'Unknown unit "{unit}": {detail}' },

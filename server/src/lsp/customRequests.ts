@@ -10,7 +10,7 @@ import type { Analyses, OpenDocument } from './analyses';
 import { guard, type LogError } from './guard';
 import { fileName, JobFailure, type Job, type JobResult } from './jobs';
 import * as P from './params';
-import { modelText } from '../core/present/modelText';
+import { expandedModelText } from '../core/present/modelText';
 import { ExpandedRequest, ExportRequest, PointAtRequest, ReportRequest, SweepCandidatesRequest, SweepRequest, type PointParams } from './requests';
 
 export function registerCustomRequests(connection: Connection, analyses: Analyses, log: (m: string) => void, logError: LogError): void {
@@ -47,7 +47,7 @@ export function registerCustomRequests(connection: Connection, analyses: Analyse
   connection.onRequest(ExpandedRequest, guard(ExpandedRequest.method, P.expandedParams, async (p) => {
     const d = await document(p.uri);
     const head = `# ${fileName(p.uri)} expanded by Poise (read-only): every family written element by element, every part under its instance's name`;
-    return { text: `${head}\n${modelText(d.a.parsed.file).trimEnd()}\n` };
+    return { text: `${head}\n${expandedModelText(d.a).trimEnd()}\n` };
   }, logError));
 
   connection.onRequest(PointAtRequest, guard(PointAtRequest.method, P.pointAtParams, (p) => {

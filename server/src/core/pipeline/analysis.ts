@@ -12,6 +12,7 @@ import { lower, type LoweredModel } from '../model/model';
 import { parse, type ParseResult } from '../syntax/parser';
 import { elaborate, type ElaborationResult, type Family, type PartDef, type PartScopes } from '../semantics/elaborate';
 import { loadParts, SourceDocuments } from './documents';
+import { explainMembers } from './memberNames';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
 import { sweepDiagnostics } from './sweepChecks';
 import { checkStructure, type StructureResult } from '../model/structure';
@@ -108,7 +109,7 @@ export class Analysis {
     this.structure = reduced.structure;
     this.indexPlan = reduced.plan;
     this.tolerances = checkTolerances(this.bound, this.units, allText);
-    this.diagnostics = this.attribute(unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics, ...this.tolerances.diagnostics]));
+    this.diagnostics = this.attribute(unique([...this.parsed.diagnostics, ...explainMembers(this.bound.diagnostics, this.instances, (sp) => this.documents.slice(sp)), ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics, ...this.tolerances.diagnostics]));
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
 
