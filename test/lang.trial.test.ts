@@ -12,6 +12,7 @@ import { analyzeFile } from './helpers/examples';
 import { analyze } from '../server/src/core/pipeline/analysis';
 import { expandedModelText } from '../server/src/core/present/modelText';
 import { parseUnit } from '../server/src/core/semantics/units';
+import { varyRequest } from '../server/src/cli/vary';
 import { expectClose } from './helpers/model';
 
 describe('Solve writes a value that is zero on its branch as 0, so a second Solve writes nothing', () => {
@@ -164,5 +165,13 @@ describe('a power of a parenthesised unit group', () => {
     const a = analyze('const k = 0.004 [m/(m^3/h)^2]\ninput q [m^3/h]\nvar h [m]\nh = k*q^2\npoint p:\n  q = 10 [m^3/h]\n');
     expect(a.allDiagnostics()).toEqual([]);
     expectClose(a.values(a.point('p')!).find((v) => v.name === 'h')!.value, 0.4, 1e-12);
+  });
+});
+
+describe('--vary naming a family of instances without an index', () => {
+  it('says it stands for several elements and names the first one to vary', () => {
+    const a = analyzeFile(path.join(__dirname, 'fixtures', 'trial', 'conveyors.poise'));
+    expect(varyRequest(a, 'running', 'b.length = 20 to 30 steps 2').error).toBe('--vary: "b.length" stands for 10 elements: vary one at a time, e.g. "b[1].length"');
+    expect(varyRequest(a, 'running', 'b[3].length = 20 to 30 steps 2').error).toBeUndefined();
   });
 });
