@@ -1,6 +1,6 @@
 /**
  * Models written from docs/language.md alone, as a new user would, of the kinds issue 11 names (invented
- * demo data, in test/fixtures/trial/): a 20-tray column with constant relative volatility, a 50-cell
+ * demo data, in test/fixtures/trial/ and examples/tray_column.poise): a 20-tray column with constant relative volatility, a 50-cell
  * counter-current exchanger, eight vessels from a small parts library folder on one header, a line of ten
  * conveyors built from a part with a saturating drive, a 3 × 4-zone floor, and a booster pump whose curve
  * comes from a data-sheet CSV. Each is checked against something outside the tool and by an independent
@@ -114,8 +114,9 @@ describe('counter-current exchanger in n cells (exchanger.poise)', () => {
   });
 });
 
-describe('20-tray column, constant relative volatility (column.poise)', () => {
-  const a = analyzeFile(file('column.poise'));
+describe('20-tray column, constant relative volatility (examples/tray_column.poise)', () => {
+  const column = path.join(__dirname, '..', 'examples', 'tray_column.poise');
+  const a = analyzeFile(column);
 
   it('checks clean and holds the overall light-component balance F·zf = D·x_top + B·x_bot (common practice)', () => {
     expect(errors(a)).toEqual([]);
@@ -126,7 +127,7 @@ describe('20-tray column, constant relative volatility (column.poise)', () => {
   });
 
   it('the expanded view reads back to the same A, B, C, D (the size constants kept as comments)', () => {
-    expandedRoundTrip(file('column.poise'), 'design');
+    expandedRoundTrip(column, 'design');
     expect(expandedModelText(a)).toContain('# const nf = 9');
   });
 
