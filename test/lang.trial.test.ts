@@ -13,6 +13,7 @@ import { analyze } from '../server/src/core/pipeline/analysis';
 import { expandedModelText } from '../server/src/core/present/modelText';
 import { parseUnit } from '../server/src/core/semantics/units';
 import { varyRequest } from '../server/src/cli/vary';
+import { documentOutline } from '../server/src/core/services/symbols';
 import { expectClose } from './helpers/model';
 
 describe('Solve writes a value that is zero on its branch as 0, so a second Solve writes nothing', () => {
@@ -173,5 +174,17 @@ describe('--vary naming a family of instances without an index', () => {
     const a = analyzeFile(path.join(__dirname, 'fixtures', 'trial', 'conveyors.poise'));
     expect(varyRequest(a, 'running', 'b.length = 20 to 30 steps 2').error).toBe('--vary: "b.length" stands for 10 elements: vary one at a time, e.g. "b[1].length"');
     expect(varyRequest(a, 'running', 'b[3].length = 20 to 30 steps 2').error).toBeUndefined();
+  });
+});
+
+describe('the outline lists a point\'s lines as written', () => {
+  // a family's line stands for one line per element: the outline used to list "h" three times, each with
+  // the first element's value, and count the point's lines per element ("5 line(s)" for three lines)
+  it('one item per written line, with its name and value as written', () => {
+    const a = analyze("const n = 3\ninput q\nstate h[1..n]\neach i in 1..n: h[i]' = q - h[i]\npoint p:\n  q = 1\n  h ~ {1, 2, 3}\n  h[2] = 2\n");
+    const points = documentOutline(a).find((o) => o.name === 'Points')!;
+    const p = points.children![0];
+    expect(p.detail).toBe('3 line(s)');
+    expect(p.children!.map((c) => [c.name, c.detail])).toEqual([['q', '= 1'], ['h', '~ {1, 2, 3}'], ['h[2]', '= 2']]);
   });
 });
