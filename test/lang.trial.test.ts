@@ -14,6 +14,7 @@ import { expandedModelText } from '../server/src/core/present/modelText';
 import { parseUnit } from '../server/src/core/semantics/units';
 import { varyRequest } from '../server/src/cli/vary';
 import { documentOutline } from '../server/src/core/services/symbols';
+import { hover } from '../server/src/core/services/hover';
 import { expectClose } from './helpers/model';
 
 describe('Solve writes a value that is zero on its branch as 0, so a second Solve writes nothing', () => {
@@ -186,5 +187,18 @@ describe('the outline lists a point\'s lines as written', () => {
     const p = points.children![0];
     expect(p.detail).toBe('3 line(s)');
     expect(p.children!.map((c) => [c.name, c.detail])).toEqual([['q', '= 1'], ['h', '~ {1, 2, 3}'], ['h[2]', '= 2']]);
+  });
+});
+
+describe('hover on an instance\'s name', () => {
+  it('names the instance (a family of them with its range) and summarises its part', () => {
+    const text = "part tank:\n  input q [m^3/s]\n  state h [m]\n  2 [m^2]*h' = q - 0.01 [m^2.5/s]*sqrt(h)\ninput feed [m^3/s]\nplace tank as t[1..2]\nt[1].q = feed\nt[2].q = feed\n";
+    const a = analyze(text);
+    for (const at of [text.indexOf('t[2].q'), text.indexOf('as t') + 3]) {
+      const h = hover(a, at)!;
+      expect(h.markdown.split('\n')[0]).toBe('**instance** `t[1..2]` of part `tank`');
+      expect(h.markdown).toContain('- state `h` [m]');
+      expect(h.span).toEqual({ start: at, end: at + 1 });
+    }
   });
 });
