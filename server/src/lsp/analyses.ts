@@ -51,8 +51,8 @@ export class Analyses {
     const text = doc.getText();
     const analysis = analyzeDocuments(layered(doc.uri, text, this.sources), doc.uri, { warnUnused: s.warnUnused })!;
     this.cache.set(doc.uri, { version: doc.version, warnUnused: s.warnUnused, analysis });
-    // ready for the next edit's quick diagnostics (quickDiagnostics.ts)
-    if (analysis.lowered.equations.length > LARGE_MODEL_EQUATIONS) valueSensitiveConstants(analysis);
+    // ready for the next edit's quick diagnostics (quickDiagnostics.ts), once what asked for it is answered
+    if (analysis.lowered.equations.length > LARGE_MODEL_EQUATIONS) setTimeout(() => valueSensitiveConstants(analysis), 0).unref();
     return analysis;
   }
 
