@@ -32,6 +32,14 @@ export interface AnalyzeOptions {
   warnUnused?: boolean;
 }
 
+/** An edited text of an analysed document whose statements are the analysed ones, moved: `map` takes an offset of the analysed text to the edited one. */
+export interface EditedText {
+  text: string;
+  map(offset: number): number;
+  /** The comments of the edited text. */
+  comments: readonly { start: number; end: number }[];
+}
+
 export interface VariableValue {
   name: string;
   kind: 'const' | 'state' | 'input' | 'var' | 'output';
@@ -244,22 +252,27 @@ export class Analysis {
    * Digest of the model and one point: a generated linear block is stale when it no longer matches.
    * It covers the model's text (without comments, points, linear and sweep blocks) and the lines of this
    * point that fix a value; guesses ("~") are left out, so solving a point does not make its block stale.
+   * `edited`: the digest of an edited text whose statements are those of this analysis with their spans
+   * moved (services/valueEdit.ts), without analysing it again.
    */
-  digest(point: string): string {
-    const cut: { start: number; end: number }[] = [...this.parsed.file.comments];
-    for (const st of this.parsed.file.statements) if (st.kind === 'linear' || st.kind === 'sweep' || st.kind === 'point') cut.push(st.span);
+  digest(point: string, edited?: EditedText): string {
+    const text = edited?.text ?? this.text;
+    const at = edited ? (sp: { start: number; end: number }) => ({ start: edited.map(sp.start), end: edited.map(sp.end) }) : (sp: { start: number; end: number }) => sp;
+    const cut: { start: number; end: number }[] = [...(edited?.comments ?? this.parsed.file.comments)];
+    for (const st of this.parsed.file.statements) if (st.kind === 'linear' || st.kind === 'sweep' || st.kind === 'point') cut.push(at(st.span));
     cut.sort((a, b) => a.start - b.start);
     let s = '';
     let pos = 0;
     for (const c of cut) {
-      if (c.start > pos) s += this.text.slice(pos, c.start);
+      if (c.start > pos) s += text.slice(pos, c.start);
       pos = Math.max(pos, c.end);
     }
-    s += this.text.slice(pos);
+    s += text.slice(pos);
     const block = this.pointBlock(point);
     const fixed = (block?.lines ?? [])
       .filter((l) => l.mode === 'fixed')
-      .map((l) => this.text.slice(l.span.start, l.span.end).replace(/#.*$/, '').replace(/\s+/g, ''))
+      .map((l) => at(l.span))
+      .map((sp) => text.slice(sp.start, sp.end).replace(/#.*$/, '').replace(/\s+/g, ''))
       .sort();
     // a table read from a file: its rows count too (a changed data sheet makes the block stale)
     const files = [...this.bound.tables.values()].filter((t) => t.file).map((t) => {
