@@ -155,9 +155,19 @@ describe('eigenvectors of large models by sparse inverse iteration', () => {
     for (const file of EXAMPLES) {
       const a = analyzeFile(file);
       const dense = sensitivities(a);
+      // the band LU (numeric/bandLU.ts) on these small matrices, and the general sparse LU
       const sparse = sensitivities(a, undefined, undefined, { sparseEigenvectors: true });
+      const general = sensitivities(a, undefined, undefined, { sparseEigenvectors: 'lu' });
       expect(sparse.ok, file).toBe(true);
+      expect(general.ok, file).toBe(true);
       const rho = Math.max(...dense.modes.map((m) => Math.hypot(m.eigenvalue.re, m.eigenvalue.im)));
+      for (const [route, other] of [['band', sparse], ['sparse LU', general]] as const) dense.modes.forEach((m, j) => {
+        const o = other.modes[j];
+        dense.parameters.forEach((p, k) => {
+          const size = (Math.max(Math.hypot(m.eigenvalue.re, m.eigenvalue.im), 1e-6 * rho) / Math.abs(p.value));
+          expect(Math.hypot(o.d[k].re - m.d[k].re, o.d[k].im - m.d[k].im) / size, `${route}: ${file} mode ${j + 1} ${p.name}`).toBeLessThan(1e-7);
+        });
+      });
       dense.modes.forEach((m, j) => {
         const o = sparse.modes[j];
         expectClose(o.eigenvalue.re, m.eigenvalue.re, 1e-9, 1e-12 * rho, `${file} λ${j + 1}`);
