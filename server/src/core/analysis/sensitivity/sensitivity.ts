@@ -6,6 +6,7 @@
  * Everything is per declared unit of the constant; `relative` figures are for a 1 % larger constant.
  */
 import type { eigenvectors } from '../../numeric/eigen';
+import { blockEigenpairs } from './blockEigenpairs';
 import { eigenpairs } from './eigenpairs';
 import { sparseLU, type SparseLUResult } from '../../numeric/sparseLU';
 import type { CsrMatrix } from '../../numeric/csr';
@@ -59,7 +60,8 @@ export function sensitivities(a: Analysis, pointName?: string, params?: Paramete
   const sys = linearSystem(lin);
   const { n, m, p } = sys;
   const parameters = pd.derivatives.map((d) => d.parameter);
-  const ev = eigenpairs(sys.A, lin.sparse.A, n, opts.sparseEigenvectors);
+  // a block-triangular A (with every ∂A/∂p): each block's own vectors (blockEigenpairs.ts), else the whole matrix's
+  const ev = (!opts.sparseEigenvectors && blockEigenpairs(sys.A, n, pd.derivatives.map((d) => d.dA))) || eigenpairs(sys.A, lin.sparse.A, n, opts.sparseEigenvectors);
   if (!ev.converged) return { ...empty('the eigenvalues did not converge'), timeUnit: lin.timeUnit };
   let rho = 0;
   for (let k = 0; k < n; k++) rho = Math.max(rho, Math.hypot(ev.re[k], ev.im[k]));
