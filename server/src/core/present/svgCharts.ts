@@ -492,7 +492,9 @@ var xv=inv(d.xk,+d.x0,+d.x1,+d.xc,(x-l)/(rr-l)),yv=inv(d.yk,+d.y0,+d.y1,+d.yc,(b
 s.addEventListener('mouseleave',function(){ro.textContent=''})})(plots[i])})();`;
 
 /** The content-security-policy source of SCRIPT (its SHA-256), for standalone pages. */
-export const SCRIPT_HASH = cspHash(SCRIPT);
+/** The CSP hash of SCRIPT, computed when a page is first written (not at every start of the command). */
+let scriptHash: string | undefined;
+export const scriptHashOf = (): string => (scriptHash ??= cspHash(SCRIPT));
 
 export interface PageOptions {
   /** Text of the <title>. */
@@ -522,7 +524,7 @@ export function htmlPage(o: PageOptions): string {
   // standalone: the one style sheet and the one script are allowed by their hashes, nothing else inline
   const csp = nonce
     ? `default-src 'none'; img-src ${o.cspSource ?? ''} data:; style-src ${o.cspSource ?? ''} 'nonce-${nonce}'; script-src 'nonce-${nonce}'; font-src ${o.cspSource ?? ''}; base-uri 'none'; form-action 'none'`
-    : `default-src 'none'; img-src data:; style-src ${cspHash(style)}; script-src ${SCRIPT_HASH}; base-uri 'none'; form-action 'none'`;
+    : `default-src 'none'; img-src data:; style-src ${cspHash(style)}; script-src ${scriptHashOf()}; base-uri 'none'; form-action 'none'`;
   const na = nonce ? ` nonce="${esc(nonce)}"` : '';
   return `<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">

@@ -8,13 +8,19 @@
  * (unitTable.generated.ts, by scripts/gen-unit-table.mjs); only text this cannot read (typos, odd syntax)
  * goes to mathjs itself, created on first need, which then gives the answer or the error message.
  */
-import { create, unitDependencies } from 'mathjs';
+import type * as MathJs from 'mathjs';
 import { UNIT_BASE_DIMENSIONS, UNIT_DIMENSIONS, UNIT_PREFIX_SETS, UNIT_TABLE } from './unitTable.generated';
 
-// Only the unit machinery of mathjs (a bundler keeps just that part), created on first need.
+// Only the unit machinery of mathjs, loaded and created on first need: out/ requires the package then (not
+// at start-up: loading all of mathjs costs about a second of CPU); the bundles require dist/mathjs-units.js,
+// mathjs cut down to `create` and `unitDependencies` by scripts/bundle.mjs, which the command loads only
+// when a unit text needs it.
 let math: { unit(v: number, t: string): unknown } | undefined;
 const mathUnit = (v: number, text: string): unknown => {
-  math ??= create({ unitDependencies }) as unknown as { unit(v: number, t: string): unknown };
+  if (!math) {
+    const { create, unitDependencies } = require('mathjs') as typeof MathJs;
+    math = create({ unitDependencies }) as unknown as { unit(v: number, t: string): unknown };
+  }
   return math.unit(v, text);
 };
 
