@@ -11,7 +11,10 @@ import { execFileSync, spawnSync } from 'child_process';
 import * as fs from 'fs';
 import * as os from 'os';
 import * as path from 'path';
-import { tankChain } from './models';
+import { tankChain, tankChainFamily } from './models';
+import { analyzeDocuments } from '../server/src/core/pipeline/analysis';
+import { exportChunks } from '../server/src/core/present/exports';
+import { cliSources } from '../server/src/cli/sourceHost';
 
 const BIN = path.join(__dirname, '..', '..', 'bin', 'poise.js');
 const TIME = fs.existsSync('/usr/bin/time') ? '/usr/bin/time' : undefined;
@@ -57,6 +60,28 @@ export function growthExponent(ns: number[], ts: number[]): number {
 
 const mark = (ok: boolean) => (ok ? 'met' : 'NOT met');
 
+/**
+ * The same job inside this process (the steps of `poise linearize --format json --sparse`: analysis, point,
+ * linear model, JSON written to a discarded sink), without node's start, the bundle's loading and compiling:
+ * CPU seconds of this process (process.cpuUsage, all threads) and wall seconds.
+ */
+export function inProcess(file: string): { wall: number; cpu: number } {
+  const cpu0 = process.cpuUsage();
+  const t0 = process.hrtime.bigint();
+  const text = fs.readFileSync(file, 'utf8');
+  const a = analyzeDocuments(cliSources(file, text), file)!;
+  const sol = a.point()!;
+  const lin = a.linear()!;
+  if (!sol.ok || !lin.ok) throw new Error(`${file}: the point or the linear model failed`);
+  let bytes = 0;
+  const equations = a.deviationEquations(undefined, 6);
+  for (const c of exportChunks(lin, a.values(sol), 'json', { sparse: true, equations, solve: { iterations: sol.iterations, residual: sol.residual } })) bytes += c.length;
+  const wall = Number(process.hrtime.bigint() - t0) / 1e9;
+  const u = process.cpuUsage(cpu0);
+  void bytes;
+  return { wall, cpu: (u.user + u.system) / 1e6 };
+}
+
 export function scaleBench(log: (s: string) => void = console.log): void {
   const sizes = (process.env.POISE_BENCH_SCALE ?? '1000,3000,10000,30000,100000').split(',').map(Number).filter((n) => n > 0);
   const targets: Record<number, number> = { 1000: 0.2, 10000: 2, 100000: 30 };
@@ -83,6 +108,27 @@ export function scaleBench(log: (s: string) => void = console.log): void {
     const eCpu = growthExponent(inRange.map((f) => f.n), inRange.map((f) => f.cpu));
     const eWall = growthExponent(inRange.map((f) => f.n), inRange.map((f) => f.wall));
     log(`growth exponent over N = ${inRange[0].n}…${inRange[inRange.length - 1].n}: ${eCpu.toFixed(2)} (cpu), ${eWall.toFixed(2)} (wall); target at most 1.2: ${mark(eCpu <= 1.2)}`);
+  }
+  // the same job inside one process (modules loaded and warmed by a 1,000-tank run first)
+  log('In process (no node start-up, bundle loading or compiling; modules warmed by one N = 1,000 run first), s:');
+  const warm = path.join(os.tmpdir(), 'poise-bench-chain-warm-1000.poise');
+  fs.writeFileSync(warm, tankChain(1000));
+  inProcess(warm);
+  for (const n of sizes) {
+    const file = path.join(os.tmpdir(), `poise-bench-chain-${n}.poise`);
+    if (n > 30000) continue; // the whole-process figure above is the one to read at this size
+    const r = inProcess(file);
+    const tgt = targets[n];
+    log(`  N = ${String(n).padEnd(7)} wall ${r.wall.toFixed(2).padStart(6)}  cpu ${r.cpu.toFixed(2).padStart(6)}   ${tgt !== undefined ? `(target under ${tgt} s, read as in-process: ${mark(r.cpu < tgt)})` : ''}`);
+  }
+  // issue 11: the 10,000-state chain written with families, whole process
+  {
+    const file = path.join(os.tmpdir(), 'poise-bench-chain-family-10000.poise');
+    fs.writeFileSync(file, tankChainFamily(10000));
+    const runs: Run[] = [];
+    for (let r = 0; r < 3; r++) runs.push(runChild([BIN, 'linearize', file, '--format', 'json', '--sparse']));
+    const cpu = median(runs.map((r) => r.cpu));
+    log(`family model (10,000 states written with families), whole process: wall ${median(runs.map((r) => r.wall)).toFixed(2)} s, cpu ${cpu.toFixed(2)} s, peak ${median(runs.map((r) => r.rssMB)).toFixed(0)} MB; target under 3 s (cpu): ${mark(cpu < 3)}`);
   }
   // dense JSON, for comparison (n² numbers)
   for (const n of sizes.filter((x) => x <= 10000 && x >= 1000)) {

@@ -194,13 +194,14 @@ function linearizeCommand(p: Parsed, io: Io): number {
   const sol = r.a.point(r.point)!;
   const values = r.a.values(sol);
   const digitsOpt = opt(p, '--digits') === undefined ? undefined : digits;
+  const eigenvalues = p.opts.has('--eigenvalues') ? true : undefined; // otherwise when cheap (format.ts eigenWork)
   if (p.opts.has('--symbolic')) io.out(formatSymbolic(symbolicLinear(r.a, r.point)!, digitsOpt));
-  else if (format === 'text') io.out(formatLinearText(r.a, lin, values, r.a.deviationEquations(r.point, digits)!, digits));
+  else if (format === 'text') io.out(formatLinearText(r.a, lin, values, r.a.deviationEquations(r.point, digits)!, digits, eigenvalues));
   else {
     // written as it is produced: pieces of whole lines, never one string of the whole model; the
     // deviation equations (JSON only) computed once
     const equations = format === 'json' ? r.a.deviationEquations(r.point, 6) : undefined;
-    for (const chunk of exportChunks(lin, values, format as ExportFormat, { digits: digitsOpt, sparse, equations, solve: { iterations: sol.iterations, residual: sol.residual } })) io.out(chunk);
+    for (const chunk of exportChunks(lin, values, format as ExportFormat, { digits: digitsOpt, sparse, equations, eigenvalues, solve: { iterations: sol.iterations, residual: sol.residual } })) io.out(chunk);
   }
   return 0;
 }

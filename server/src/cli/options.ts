@@ -89,6 +89,7 @@ export const COMMANDS: CommandSpec[] = [
       { name: '--digits', value: DIGITS, help: 'significant digits, 1 to 17', default: '5; 17 for json' },
       { name: '--symbolic', value: flag, help: 'coefficients as formulas in the constants and point values' },
       { name: '--sparse', value: flag, help: 'only the non-zero entries of A, B, C, D (json, csv, numpy; docs/exports.md)' },
+      { name: '--eigenvalues', value: flag, help: 'eigenvalues of A even for a model too large to compute them unasked (docs/cli.md)' },
       HELP,
     ],
   },

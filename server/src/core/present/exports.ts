@@ -7,7 +7,7 @@
  */
 import type { Analysis, VariableValue } from '../pipeline/analysis';
 import { formatNumber } from '../algebra/expr';
-import { emptyMatrixText, LINEAR_CAUTION, linearEigen, linearJson, type LinearJson } from './format';
+import { emptyMatrixText, LINEAR_CAUTION, linearEigenIfCheap, linearJson, type LinearJson } from './format';
 import { deviationEquations, impliedShift, type DeviationEquation, type LinearModel } from '../solve/linearizer';
 import type { CsrMatrix } from '../numeric/csr';
 import { coefficientUnit } from '../analysis/symbolic';
@@ -32,6 +32,12 @@ export interface ExportOptions {
   equations?: DeviationEquation[];
   /** How the point was solved (JSON `solve` field): Newton iterations and the achieved relative residual. */
   solve?: PointSolveInfo;
+  /**
+   * Eigenvalues of A (json, markdown): true computes them, false leaves them out, undefined computes them
+   * when cheap by A's structure (format.ts eigenWork); left out, JSON has `"eigenvalues": null` and an
+   * `eigenvaluesNote` that says why.
+   */
+  eigenvalues?: boolean;
 }
 
 /** Formats that have a sparse form. */
@@ -183,10 +189,16 @@ function linearJsonChunks(lin: LinearModel, values: VariableValue[], o: ExportOp
       }
       yield;
     }
-    const eig = linearEigen(lin);
-    emit(' "eigenvalues": [');
-    eig.forEach((e, k) => emit(`  {"re": ${jnum(e.re)}, "im": ${jnum(e.im)}}${k < eig.length - 1 ? ',' : ''}`));
-    emit(' ],');
+    const ev = linearEigenIfCheap(lin, o.eigenvalues);
+    const eig = ev.eig;
+    if (eig) {
+      emit(' "eigenvalues": [');
+      eig.forEach((e, k) => emit(`  {"re": ${jnum(e.re)}, "im": ${jnum(e.im)}}${k < eig.length - 1 ? ',' : ''}`));
+      emit(' ],');
+    } else {
+      emit(' "eigenvalues": null,');
+      emit(` "eigenvaluesNote": ${jstr(ev.note ?? '')},`);
+    }
     yield;
     const eqs = o.equations ?? deviationEquations(lin, 6);
     emit(' "equations": [');
@@ -309,8 +321,9 @@ export function linearMarkdown(lin: LinearModel, values: VariableValue[], o: Exp
       }
       out('');
     }
-    const eig = linearEigen(lin);
-    out(`Eigenvalues of A [1/${lin.timeUnit}]: ${eig.length ? eig.map((e) => (e.im === 0 ? fmt(e.re, o) : `${fmt(e.re, o)} ${e.im < 0 ? '-' : '+'} ${fmt(Math.abs(e.im), o)}i`)).join(', ') : '(none)'}`);
+    const ev = linearEigenIfCheap(lin, o.eigenvalues);
+    const eig = ev.eig;
+    out(`Eigenvalues of A [1/${lin.timeUnit}]: ${!eig ? ev.note : eig.length ? eig.map((e) => (e.im === 0 ? fmt(e.re, o) : `${fmt(e.re, o)} ${e.im < 0 ? '-' : '+'} ${fmt(Math.abs(e.im), o)}i`)).join(', ') : '(none)'}`);
     out('');
     out(`> ${LINEAR_CAUTION}`);
   });

@@ -7,7 +7,7 @@ import type { Analysis, VariableValue } from '../pipeline/analysis';
 import { formatNumber } from '../algebra/expr';
 import type { DeviationEquation, LinearModel } from '../solve/linearizer';
 import type { IndexReductionSummary } from '../model/indexReduction';
-import { eigenvalues, eigenvaluesSparse, sortEigen } from '../numeric/eigen';
+import { eigenvalues, eigenvaluesSparse, sortEigen, stronglyConnectedCsr } from '../numeric/eigen';
 import { unitSuffix, unitText } from '../semantics/units';
 import { maxOf, pushAll } from '../arrays';
 import { REPEAT_TOL } from '../analysis/dynamics/types';
@@ -40,6 +40,40 @@ export function linearEigen(lin: LinearModel): { re: number; im: number }[] {
   // from the sparse A: split into diagonal blocks by its structure, never an n² matrix
   const e = eigenvaluesSparse(lin.sparse.A);
   return sortEigen(e.re, e.im);
+}
+
+/**
+ * Work of A's eigenvalues estimated from its structure: Σ m² over its diagonal blocks (strongly connected
+ * parts of m states each; a block costs about m² for a two-way chain, more when dense). `poise linearize`
+ * computes the eigenvalues when this is at most EIGEN_WORK_LIMIT (every model of up to 10,000 states, and
+ * larger ones made of smaller coupled blocks), otherwise only when asked (`--eigenvalues`).
+ */
+export const EIGEN_WORK_LIMIT = 1e8;
+
+/** Whether A's eigenvalues are cheap enough to compute unasked; the largest diagonal block otherwise. */
+export function eigenWork(lin: LinearModel): { cheap: boolean; largest: number } {
+  if (lin.n * lin.n <= EIGEN_WORK_LIMIT) return { cheap: true, largest: lin.n };
+  const { start, count } = stronglyConnectedCsr(lin.sparse.A);
+  let work = 0;
+  let largest = 0;
+  for (let k = 0; k < count; k++) {
+    const m = start[k + 1] - start[k];
+    work += m * m;
+    if (m > largest) largest = m;
+  }
+  return { cheap: work <= EIGEN_WORK_LIMIT, largest };
+}
+
+/**
+ * The eigenvalues of A as `poise linearize` writes them: computed when `ask` is true, or when undefined
+ * and they are cheap (eigenWork); otherwise undefined with the note saying why and how to ask.
+ */
+export function linearEigenIfCheap(lin: LinearModel, ask?: boolean): { eig?: { re: number; im: number }[]; note?: string } {
+  if (ask === true) return { eig: linearEigen(lin) };
+  const w = ask === false ? { cheap: false, largest: lin.n } : eigenWork(lin);
+  if (w.cheap) return { eig: linearEigen(lin) };
+  const why = ask === false ? 'not asked for' : `A has ${lin.n} states and a coupled block of ${w.largest}, too large to compute them unasked`;
+  return { note: `eigenvalues not computed (${why}); add --eigenvalues to compute them` };
 }
 
 export function linearJson(lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[]): LinearJson {
@@ -145,7 +179,7 @@ export function multiplicityText(md: { algebraicMultiplicity: number; geometricM
   return ` (×${md.algebraicMultiplicity}${g})`;
 }
 
-export function formatLinearText(a: Analysis, lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[], digits = 5): string {
+export function formatLinearText(a: Analysis, lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[], digits = 5, eigen?: boolean): string {
   const t = lin.timeUnit;
   const out: string[] = [];
   out.push(`Point ${lin.point} (time in ${t})`);
@@ -163,7 +197,8 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   out.push(formatMatrix('C', lin.C, lin.p, lin.n, on, sn, digits));
   out.push(formatMatrix('D', lin.D, lin.p, lin.m, on, inn, digits));
   out.push('');
-  out.push(`Eigenvalues [1/${t}]: ${formatEigen(linearEigen(lin), digits) || '(none)'}`);
+  const ev = linearEigenIfCheap(lin, eigen);
+  out.push(ev.eig ? `Eigenvalues [1/${t}]: ${formatEigen(ev.eig, digits) || '(none)'}` : `Eigenvalues [1/${t}]: ${ev.note}`);
   out.push('', LINEAR_CAUTION);
   void a;
   return out.join('\n');

@@ -71,10 +71,16 @@ export function linearModelProblems(lm: LoweredModel, lin: LinearEntries, fallba
     const entry = `${name}[${rowName}, ${cols[mat.colIdx[t]]}]`;
     out.push(diag('P511', equationOf(slot), { point: lin.point, what, entry }, { data: { entry } }));
   };
+  // the equation of a row is looked up only for a row with a bad entry (one pass over the entries otherwise)
+  let componentOf: Map<number, number> | undefined;
+  const slotOfRow = (i: number): number => {
+    componentOf ??= new Map(lm.stateComponents.map((s, k) => [s, k]));
+    const comp = lm.componentDerivative[componentOf.get(lin.stateSlots[i]) ?? -1] ?? -1;
+    return comp >= 0 && lm.slots[comp].kind === 'deriv' ? comp : -1;
+  };
   for (let i = 0; i < lin.n; i++) {
-    const comp = lm.componentDerivative[lm.stateComponents.indexOf(lin.stateSlots[i])] ?? -1;
-    const slot = comp >= 0 && lm.slots[comp].kind === 'deriv' ? comp : -1;
-    check(`Δ${lin.states[i]}'`, slot, A, B, i, 'A', 'B', lin.states, lin.inputs);
+    if (firstBad(A, i) < 0 && firstBad(B, i) < 0) continue;
+    check(`Δ${lin.states[i]}'`, slotOfRow(i), A, B, i, 'A', 'B', lin.states, lin.inputs);
   }
   for (let i = 0; i < lin.p; i++) check(`Δ${lin.outputs[i]}`, lin.outputSlots[i], C, D, i, 'C', 'D', lin.states, lin.inputs);
   return out;
