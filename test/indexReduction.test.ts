@@ -18,6 +18,9 @@ import * as E from '../server/src/core/algebra/expr';
 import { analyze, type Analysis } from '../server/src/core/pipeline/analysis';
 import { linearEigen } from '../server/src/core/present/format';
 import { runSweep } from '../server/src/core/analysis/sweep';
+import { pointLenses } from '../server/src/core/services/lenses';
+import { linearizeEdit } from '../server/src/core/services/linearBlock';
+import { sweepHtml } from '../server/src/core/present/sweepHtml';
 import { linearSystem } from '../server/src/core/analysis/dynamics';
 import { linearStepResponse } from '../server/src/core/numeric/expm';
 import { createSimulator } from '../server/src/core/analysis/simulate';
@@ -470,5 +473,80 @@ describe('index of a chain of integrators with its end held (structural index = 
     expect(d.message).toContain('more than 12 times');
     expect(d.message).toContain('Write the constraint');
     expect(a.canSolve).toBe(false);
+  });
+});
+
+describe('editor: the lens and the generated block name the reduction', () => {
+  const text = fs.readFileSync(path.join(EXAMPLES, 'dip_rail_shuttle.poise'), 'utf8');
+  it('the Linearize lens names the states chosen at the point and the differentiated equations', () => {
+    const lenses = pointLenses(analyze(text));
+    for (const l of lenses) expect(l.linearize.title).toBe('Linearize · index 3 reduced: states x, vx; differentiated "x\' = vx", "y\' = vy", "y = x^2/(2*rdip)" twice');
+  });
+  it('the generated block says the same in comments, and stays up to date after it is written', () => {
+    const a = analyze(text);
+    const e = linearizeEdit(a, 'held');
+    expect(e.ok).toBe(true);
+    if (!e.ok) return;
+    expect(e.edit.newText).toContain('# index reduction (the model has index 3): states x, vx; y, vy follow from the constraints');
+    expect(e.edit.newText).toContain('# differentiated: "x\' = vx" once, "y\' = vy" once, "y = x^2/(2*rdip)" twice');
+    const written = text.slice(0, e.edit.span.start) + e.edit.newText + text.slice(e.edit.span.end);
+    const b = analyze(written);
+    expect(b.allDiagnostics().filter((d) => d.severity === 'error' || d.code === 'P601')).toEqual([]);
+    const again = linearizeEdit(b, 'held');
+    expect(again.ok && written.slice(again.edit.span.start, again.edit.span.end) === again.edit.newText).toBe(true);
+    expect(pointLenses(b).find((l) => l.point === 'held')!.linearize.title).toMatch(/^Linearize \(block up to date\) · index 3 reduced: states x, vx/);
+  });
+});
+
+describe('the sweep page reports the states and their change', () => {
+  const text = cartesian() + '\n' + dedent(`
+    sweep hard from hanging:
+      vary side = 0 to 600 [N] steps 6
+  `);
+  it('names the states at the first value and the change (P412) on the page', () => {
+    const r = runSweep(analyze(text), { name: 'hard', point: 'hanging', vary: 'side', from: 0, to: 600, steps: 6 });
+    const html = sweepHtml(r, { title: 'pendulum' });
+    expect(html).toContain('Index reduction: the states are x, vx at the first value.');
+    expect(html).toMatch(/the states change from x, vx to y, vy at/);
+    const gentle = sweepHtml(runSweep(analyze(text), { point: 'hanging', vary: 'side', from: 0, to: 60, steps: 6 }), { title: 'pendulum' });
+    expect(gentle).toContain('Index reduction: the states are x, vx all along the sweep.');
+  });
+});
+
+describe('a fold of a constrained model is located on its steady-state equations (the same with or without reduction)', () => {
+  // a pendulum pushed along its path (a force `push` tangent to the circle): it hangs at sin θ = push/(m·g),
+  // so no steady state exists beyond push = m·g = 29.43 N (θ = 90°), a fold; about each steady state
+  // θ'' = push/(m·L) − (g/L)·sin θ gives ω² = (g/L)·cos θ (classical mechanics, derived by hand)
+  const text = dedent(`
+    const g = 9.81 [m/s^2]
+    const L = 2 [m]
+    const m = 3 [kg]
+    input push [N]
+    state x, y [m]
+    state vx, vy [m/s]
+    var F [N]
+    output xo [m] = x
+    x' = vx
+    y' = vy
+    m*vx' = -push*y/L - F*x/L
+    m*vy' = push*x/L - F*y/L - m*g
+    x^2 + y^2 = L^2
+    point hanging:
+      push = 0 [N]
+      y ~ -2 [m]
+      F ~ 30 [N]
+  `);
+  it('stops at the fold push = m·g, with the eigenvalues of the reduced model on the way', () => {
+    const a = analyze(text);
+    expect(a.indexPlan?.index).toBe(3);
+    const r = runSweep(a, { point: 'hanging', vary: 'push', from: 0, to: 40, steps: 8 });
+    expect(r.stop?.kind).toBe('fold');
+    expectClose(r.stop!.at, 3 * 9.81, 1e-6, 0, 'fold');
+    for (const p of r.points) {
+      const cos = Math.sqrt(1 - (p.value / (3 * 9.81)) ** 2);
+      const w = Math.sqrt((9.81 / 2) * cos);
+      expectEigen(p.eigenvalues, [{ re: 0, im: w }, { re: 0, im: -w }], 1e-8, `push = ${p.value}`);
+      expect(p.states).toBeDefined();
+    }
   });
 });

@@ -83,3 +83,30 @@ describe('smaller-model section (canal_pools, 60 states)', () => {
     expect(text).toMatch(/Smaller model \(balanced truncation\): 8 of 60 states \(8 balanced\); error bound 2·Σ\(discarded σ\) = [0-9.e-]+; order suggested for 0\.001·σ1: \d+/);
   });
 });
+
+describe('Hankel values at the rounding level are not drawn', () => {
+  // twin identical tanks fed in parallel, the output their summed level: the difference of the levels is
+  // neither moved by the input nor seen at the output, so its Hankel singular value is exactly 0 (a
+  // minimal realisation has one state; common practice) and what is computed is rounding, below n·ε·σ₁
+  const a = analyze([
+    'const area = 2 [m^2]',
+    'const k = 0.01 [m^2/s]',
+    'input q [m^3/s]',
+    'state h1, h2 [m]',
+    'output total [m] = h1 + h2',
+    "area*h1' = q/2 - k*h1",
+    "area*h2' = q/2 - k*h2",
+    'point p:',
+    '  q = 0.01 [m^3/s]',
+    '',
+  ].join('\n'));
+  const data = buildReport(a, 'p', { validity: false, samples: 21, reduce: {} });
+  it('draws σ₁ only and says one value below n·ε·σ₁ is left out', () => {
+    const r = data.reduced!;
+    expect(r.hankel.length).toBe(2);
+    expect(r.hankel[1]).toBeLessThan(2 * 2.220446049250313e-16 * r.hankel[0]);
+    const html = renderReportHtml(data);
+    expect(html).toContain('1 Hankel singular value below n·ε·σ<sub>1</sub>');
+    expect(html).toContain('is not drawn');
+  });
+});

@@ -11,38 +11,78 @@
  * Independent route: central differences of points re-solved by Newton's method at p ± h (evaluateAt),
  * for every eigenvalue and gain of every example model.
  */
-import * as fs from 'fs';
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../server/src/core/pipeline/analysis';
+import { assignment } from './helpers/assignment';
 import { evaluateAt, pointDerivatives, sensitivities, sensitivityReport } from '../server/src/core/analysis/sensitivity';
 import { linearSystem } from '../server/src/core/analysis/dynamics';
 import { solvePoint } from '../server/src/core/solve/pointSolver';
 import { linearize } from '../server/src/core/solve/linearizer';
 import { dedent, expectClose } from './helpers/model';
 import { PYTHON_WITH_SCIPY, runScipy, SCIPY_REQUIRED } from './helpers/scipy';
+import { analyzeFile, exampleModels } from './helpers/examples';
 
 /**
- * The examples whose sensitivities these routes can check one to one. Left out, each for its reason:
- * constrained models (index reduced: sensitivities refuse them, tested below), tables read from a CSV file
- * beside the model (these tests analyse the text alone), and models above 40 states, whose many close
- * eigenvalues the re-solved models' sorted eigenvalues cannot be paired with one by one.
+ * Every example with a linear model at its first point: constrained models (their reduction at the point),
+ * tables read from a CSV file beside the model (analysed through the disk, as the command does) and the
+ * 60-pool canal, whose many close eigenvalues are paired with the re-solved models' by an optimal
+ * assignment (helpers/assignment.ts) rather than by sorting.
  */
-const EXAMPLES = fs.readdirSync('examples').filter((f) => f.endsWith('.poise')).map((f) => `examples/${f}`).filter((f) => {
-  const text = fs.readFileSync(f, 'utf8');
-  if (/from\s+"/.test(text)) return false;
-  const a = analyze(text);
-  if (a.indexPlan) return false;
+const load = (file: string) => analyzeFile(file);
+const EXAMPLES = exampleModels().map((m) => `examples/${m.name}`).filter((f) => {
+  const a = load(f);
   const lin = a.pointNames.length ? a.linear(a.pointNames[0]) : undefined;
-  return !!lin && lin.ok && lin.states.length <= 40;
+  return !!lin && lin.ok;
+});
+
+describe('the examples checked', () => {
+  it('include a constrained model, a table from a file and a model above 40 states', () => {
+    expect(EXAMPLES).toContain('examples/dip_rail_shuttle.poise');
+    expect(EXAMPLES).toContain('examples/valve_datasheet.poise');
+    expect(EXAMPLES).toContain('examples/canal_pools.poise');
+  });
 });
 
 describe('a constrained model', () => {
-  it('gets no sensitivities, with a sentence that says why (not numbers of the unreduced equations)', () => {
-    const a = analyze(fs.readFileSync('examples/dip_rail_shuttle.poise', 'utf8'));
+  it('gets the sensitivities of its reduction at the point: the carriage on a rail of curvature radius R', () => {
+    // at the bottom of the dip (push = 0) the carriage swings like a pendulum of length R with viscous drag:
+    // λ² + (drag/mass)·λ + g/R = 0 (classical mechanics), so ∂λ/∂g = (1/R)/(−(2λ + drag/mass)) and
+    // ∂λ/∂R = (g/R²)/(2λ + drag/mass) — by hand from the characteristic equation
+    const a = load('examples/dip_rail_shuttle.poise');
     expect(a.indexPlan).toBeDefined();
-    const s = sensitivities(a, a.pointNames[0]);
-    expect(s.ok).toBe(false);
-    expect(s.problem).toMatch(/constrained model/);
+    const s = sensitivities(a, 'resting');
+    expect(s.ok, s.problem).toBe(true);
+    const mass = 8, R = 2.5, g = 9.81, drag = 6;
+    const lam = { re: -drag / (2 * mass), im: Math.sqrt(g / R - (drag / (2 * mass)) ** 2) };
+    const m = s.modes[0];
+    expectClose(m.eigenvalue.re, lam.re, 1e-12);
+    expectClose(Math.abs(m.eigenvalue.im), lam.im, 1e-12);
+    // 2λ + drag/mass = 2i·Im λ (upper member)
+    const den = { re: 0, im: 2 * Math.abs(m.eigenvalue.im) };
+    const div = (x: number, z: { re: number; im: number }) => ({ re: (x * z.re) / (z.re ** 2 + z.im ** 2), im: (-x * z.im) / (z.re ** 2 + z.im ** 2) });
+    const k = (n: string) => s.parameters.findIndex((p) => p.name === n);
+    const dg = div(-1 / R, den), dR = div(g / R ** 2, den);
+    const sign = Math.sign(m.eigenvalue.im);
+    expectClose(m.d[k('g')].re, dg.re, 1e-9, 1e-12);
+    expectClose(m.d[k('g')].im * sign, dg.im, 1e-9);
+    expectClose(m.d[k('rdip')].im * sign, dR.im, 1e-9);
+  });
+});
+
+describe('a cascade: the 60-pool canal', () => {
+  it('has real eigenvalues, each moving as −λ/area with the first pool\'s area (by hand: λ_i = −q\'(h_i)/(area·(1 + 0.02·i)) and the depths do not depend on the area)', () => {
+    // A is lower bidiagonal (each weir's flow depends on its own pool): its eigenvalues are the diagonal
+    // entries; the whole matrix's eigenvectors are far too ill-conditioned for wᴴ·dA·v, each 1×1 block's are exact
+    const a = load('examples/canal_pools.poise');
+    const s = sensitivities(a);
+    expect(s.ok).toBe(true);
+    expect(s.modes.length).toBe(60);
+    const k = s.parameters.findIndex((p) => p.name === 'area');
+    for (const m of s.modes) {
+      expect(m.eigenvalue.im).toBe(0);
+      expect(m.condition).toBeLessThan(1 + 1e-12);
+      expectClose(m.d[k].re, -m.eigenvalue.re / 400, 1e-9);
+    }
   });
 });
 
@@ -111,7 +151,7 @@ describe('closed form of the draining tank', () => {
 
 /** Central difference of re-solved points: (q(p + h) − q(p − h))/2h per declared unit. */
 function centralCheck(file: string) {
-  const a = analyze(fs.readFileSync(file, 'utf8'));
+  const a = load(file);
   const s = sensitivities(a);
   expect(s.ok, `${file}: ${s.problem}`).toBe(true);
   const sol = a.point()!;
@@ -122,7 +162,13 @@ function centralCheck(file: string) {
     const at = (dv: number) => evaluateAt(a, s.point, new Map([[p.slot, sol.values[p.slot] + dv]]));
     const up = at(h), dn = at(-h);
     expect(up.ok && dn.ok, `${file}: ${p.name} ± h re-solves`).toBe(true);
-    const U = up.eigenvalues.filter((e) => e.im >= 0), D = dn.eigenvalues.filter((e) => e.im >= 0);
+    // each mode paired with the perturbed eigenvalues by an optimal assignment on the distance to it
+    const pair = (es: { re: number; im: number }[]) => {
+      const upper = es.filter((e) => e.im >= 0);
+      const col = assignment(s.modes.map((m) => upper.map((e) => Math.hypot(e.re - m.eigenvalue.re, e.im - m.eigenvalue.im))));
+      return col.map((c) => upper[c]);
+    };
+    const U = pair(up.eigenvalues), D = pair(dn.eigenvalues);
     s.modes.forEach((m, j) => {
       const fd = { re: ((U[j].re - D[j].re) / (2 * h)) * p.scale, im: ((U[j].im - D[j].im) / (2 * h)) * p.scale };
       // relative to |λ|/|p|, the size of a relative sensitivity of one (an integrator: to 10⁻⁶·ρ(A))
@@ -155,11 +201,21 @@ describe('central differences of re-solved points', () => {
 describe('eigenvectors of large models by sparse inverse iteration', () => {
   it('give the same derivatives as the dense QR route on every example', () => {
     for (const file of EXAMPLES) {
-      const a = analyze(fs.readFileSync(file, 'utf8'));
+      const a = load(file);
       const dense = sensitivities(a);
+      // the band LU (numeric/bandLU.ts) on these small matrices, and the general sparse LU
       const sparse = sensitivities(a, undefined, undefined, { sparseEigenvectors: true });
+      const general = sensitivities(a, undefined, undefined, { sparseEigenvectors: 'lu' });
       expect(sparse.ok, file).toBe(true);
+      expect(general.ok, file).toBe(true);
       const rho = Math.max(...dense.modes.map((m) => Math.hypot(m.eigenvalue.re, m.eigenvalue.im)));
+      for (const [route, other] of [['band', sparse], ['sparse LU', general]] as const) dense.modes.forEach((m, j) => {
+        const o = other.modes[j];
+        dense.parameters.forEach((p, k) => {
+          const size = (Math.max(Math.hypot(m.eigenvalue.re, m.eigenvalue.im), 1e-6 * rho) / Math.abs(p.value));
+          expect(Math.hypot(o.d[k].re - m.d[k].re, o.d[k].im - m.d[k].im) / size, `${route}: ${file} mode ${j + 1} ${p.name}`).toBeLessThan(1e-7);
+        });
+      });
       dense.modes.forEach((m, j) => {
         const o = sparse.modes[j];
         expectClose(o.eigenvalue.re, m.eigenvalue.re, 1e-9, 1e-12 * rho, `${file} λ${j + 1}`);
@@ -179,7 +235,7 @@ describe('against SciPy and NumPy', () => {
   }
   it('eigenvalue derivatives from scipy.linalg.eig(left=True) and numpy eigenvalues of re-solved models', () => {
     const cases = EXAMPLES.map((file) => {
-      const a = analyze(fs.readFileSync(file, 'utf8'));
+      const a = load(file);
       const s = sensitivities(a);
       const pd = pointDerivatives(a);
       const sys = linearSystem(pd.lin!);
@@ -231,6 +287,8 @@ print(json.dumps(res))
 function linearAt(a: ReturnType<typeof analyze>, point: string, ov: Map<number, number>): number[] {
   const block = a.pointBlock(point)!;
   const sol = solvePoint(a.bound, a.lowered, block, { overrides: ov, start: a.point(point)!.values });
-  const lin = linearize(a.lowered, a.structure.unknowns, sol.values, sol.name, block.name.span);
+  // a constrained model: its reduction, in the states chosen at the nominal point
+  const dm = a.indexPlan ? a.dynamicsAt(sol.values, a.dynamicsAt(a.point(point)!.values).selection!.dummies) : undefined;
+  const lin = dm ? linearize(dm.model, dm.unknowns, dm.values, sol.name, block.name.span) : linearize(a.lowered, a.structure.unknowns, sol.values, sol.name, block.name.span);
   return Array.from(linearSystem(lin).A);
 }

@@ -8,12 +8,13 @@ import { catalogueText } from '../core/diagnostics';
 import { pointAt } from '../core/services/locate';
 import type { Analyses, OpenDocument } from './analyses';
 import { guard, type LogError } from './guard';
-import { fileName, JobFailure, type Job, type JobResult } from './jobs';
+import { fileName, JobFailure, resolvePoint, type Job, type JobResult } from './jobs';
+import type { Samples, ToleranceSamples } from './tolerances';
 import * as P from './params';
-import { modelText } from '../core/present/modelText';
+import { expandedModelText } from '../core/present/modelText';
 import { ExpandedRequest, ExportRequest, PointAtRequest, ReportRequest, SweepCandidatesRequest, SweepRequest, type PointParams } from './requests';
 
-export function registerCustomRequests(connection: Connection, analyses: Analyses, log: (m: string) => void, logError: LogError): void {
+export function registerCustomRequests(connection: Connection, analyses: Analyses, log: (m: string) => void, logError: LogError, samples?: ToleranceSamples): void {
   /** The open document (settings pulled) a request names, or a refusal saying it is not open. */
   const document = async (uri: string): Promise<OpenDocument> => {
     if (!analyses.documents.get(uri)) throw new JobFailure(catalogueText('P801', { file: fileName(uri) }));
@@ -30,10 +31,26 @@ export function registerCustomRequests(connection: Connection, analyses: Analyse
     log(`${method} ${p.point ?? ''}: ${Date.now() - started} ms`);
     return r;
   };
-  const settings = (d: OpenDocument) => ({ digits: d.s.digits, activePoint: d.s.activePoint, reportSampleTime: d.s.reportSampleTime, reportReduce: d.s.reportReduce });
+  const settings = (d: OpenDocument) => ({
+    digits: d.s.digits, activePoint: d.s.activePoint, reportSampleTime: d.s.reportSampleTime, reportReduce: d.s.reportReduce, reportHold: d.s.reportHold, reportDelay: d.s.reportDelay,
+  });
+  /** The tolerance samples of the report's point (sampling threads, lsp/tolerances.ts), when the model has tolerances. */
+  const reportSamples = async (p: PointParams, token: CancellationToken): Promise<Samples | undefined> => {
+    const d = await document(p.uri);
+    if (!samples?.applies(d)) return undefined;
+    let point: string;
+    try {
+      point = resolvePoint(d.a, fileName(p.uri), p.point, d.s.activePoint);
+    } catch {
+      return undefined; // the page job says what is wrong
+    }
+    return samples.wait(d, point, token);
+  };
 
-  connection.onRequest(ReportRequest, guard(ReportRequest.method, P.pointParams, (p, token) =>
-    page(ReportRequest.method, p, (d) => ({ kind: 'report', file: fileName(p.uri), point: p.point, settings: settings(d) }), token), logError));
+  connection.onRequest(ReportRequest, guard(ReportRequest.method, P.pointParams, async (p, token) => {
+    const s = await reportSamples(p, token);
+    return page(ReportRequest.method, p, (d) => ({ kind: 'report', file: fileName(p.uri), point: p.point, settings: settings(d), samples: s }), token);
+  }, logError));
 
   connection.onRequest(SweepRequest, guard(SweepRequest.method, P.sweepParams, (p, token) =>
     page(SweepRequest.method, p, (d) => ({ kind: 'sweep', file: fileName(p.uri), params: p, settings: settings(d) }), token), logError));
@@ -47,7 +64,7 @@ export function registerCustomRequests(connection: Connection, analyses: Analyse
   connection.onRequest(ExpandedRequest, guard(ExpandedRequest.method, P.expandedParams, async (p) => {
     const d = await document(p.uri);
     const head = `# ${fileName(p.uri)} expanded by Poise (read-only): every family written element by element, every part under its instance's name`;
-    return { text: `${head}\n${modelText(d.a.parsed.file).trimEnd()}\n` };
+    return { text: `${head}\n${expandedModelText(d.a).trimEnd()}\n` };
   }, logError));
 
   connection.onRequest(PointAtRequest, guard(PointAtRequest.method, P.pointAtParams, (p) => {

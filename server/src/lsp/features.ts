@@ -28,6 +28,7 @@ import { ErrorCode, guard, type LogError } from './guard';
 import { fileName, type PointEdit } from './jobs';
 import * as P from './params';
 import { LINEARIZE_COMMAND, REPORT_COMMAND, SOLVE_COMMAND, SWEEP_COMMAND } from './requests';
+import { sampledHoverSection, type ToleranceSamples } from './tolerances';
 
 /** The Solve and Linearize operations as code actions (kinds under `source`), for editors without code lenses. */
 export const SOLVE_ACTION = 'source.poise.solvePoint';
@@ -43,6 +44,8 @@ export interface FeatureContext {
   clientCommands: () => boolean;
   log: (m: string) => void;
   logError: LogError;
+  /** Tolerance samples in worker threads, for the hovers of toleranced constants and points. */
+  samples?: ToleranceSamples;
 }
 
 export function registerFeatures(x: FeatureContext): void {
@@ -62,8 +65,11 @@ export function registerFeatures(x: FeatureContext): void {
   c.onHover(on('textDocument/hover', P.positionParams, async (p, token) => {
     const d = open(p.textDocument.uri);
     if (!d) return null;
-    const h = await analyses.compute(d, { kind: 'hover', offset: offset(d, p.position), digits: d.s.digits, activePoint: d.s.activePoint }, token);
-    return h ? { contents: { kind: 'markdown' as const, value: h.markdown }, range: toRange(d.a, h.span) } : null;
+    const at = offset(d, p.position);
+    const h = await analyses.compute(d, { kind: 'hover', offset: at, digits: d.s.digits, activePoint: d.s.activePoint }, token);
+    if (!h) return null;
+    const sampled = x.samples ? await sampledHoverSection(x.samples, analyses, d, at, token) : undefined;
+    return { contents: { kind: 'markdown' as const, value: sampled ? `${h.markdown}\n\n---\n\n${sampled}` : h.markdown }, range: toRange(d.a, h.span) };
   }));
 
   c.onCompletion(on('textDocument/completion', P.positionParams, (p) => {

@@ -12,7 +12,8 @@ import { buildReport } from '../core/analysis/report';
 import { parseSampleTime } from '../core/analysis/handoff/sampled';
 import { timeUnitLabel } from '../core/semantics/units';
 import { renderReportHtml } from '../core/present/reportHtml';
-import { sensitivityReport } from '../core/analysis/sensitivity';
+import { sensitivityReport, withSamples, type SamplePlan, type SampleResult } from '../core/analysis/sensitivity';
+import { sampledBandsMarkdown } from '../core/present/sampledBandsMarkdown';
 import { declaredSweeps, runSweep, sweepCandidates, sweepDiagnostics, variedProblem, type SweepSpec } from '../core/analysis/sweep';
 import { catalogueText, type Diagnostic } from '../core/diagnostics';
 import type { Analysis } from '../core/pipeline/analysis';
@@ -34,6 +35,9 @@ export interface JobSettings {
   /** The report's hand-off sections (settings.ts); absent means none. */
   reportSampleTime?: string;
   reportReduce?: boolean;
+  reportHold?: 'zoh' | 'foh' | 'tustin';
+  /** Fraction of a sample, zero-order hold only (ignored with the other holds). */
+  reportDelay?: number;
 }
 
 export type Job =
@@ -42,7 +46,8 @@ export type Job =
   | { kind: 'lenses'; digits: number }
   | { kind: 'hover'; offset: number; digits: number; activePoint: string }
   | { kind: 'pointEdit'; action: 'solve' | 'linearize'; point: string; digits: number }
-  | { kind: 'report'; file: string; point?: string; settings: JobSettings }
+  | { kind: 'report'; file: string; point?: string; settings: JobSettings; samples?: { plan: SamplePlan; results: SampleResult[] } }
+  | { kind: 'sampledBands'; point: string; plan: SamplePlan; results: SampleResult[]; digits: number }
   | { kind: 'sweep'; file: string; params: SweepParams; settings: JobSettings }
   | { kind: 'sweepCandidates'; file: string; point?: string; settings: JobSettings }
   | { kind: 'export'; file: string; params: ExportParams; settings: JobSettings };
@@ -56,6 +61,7 @@ export interface JobResults {
   hover: HoverResult | null;
   pointEdit: PointEdit;
   report: PageResult;
+  sampledBands: string | undefined;
   sweep: PageResult;
   sweepCandidates: SweepCandidate[];
   export: { text: string };
@@ -124,13 +130,17 @@ export function pointDiagnostics(a: Analysis): Diagnostic[] {
 function report(a: Analysis, job: Extract<Job, { kind: 'report' }>): PageResult {
   const point = resolvePoint(a, job.file, job.point, job.settings.activePoint);
   // the editor refreshes the page while the model is edited: keep the validity search short there
-  // the hand-off sections when the settings ask for them (poise.reportSampleTime, poise.reportReduce); a
-  // sample time that is not a positive time leaves the section out
+  // the hand-off sections when the settings ask for them (poise.reportSampleTime, poise.reportHold,
+  // poise.reportDelay, poise.reportReduce); a sample time that is not a positive time leaves the section out
   const T = job.settings.reportSampleTime ? parseSampleTime(job.settings.reportSampleTime, timeUnitLabel(a.lowered.timeUnit)) : undefined;
-  const sample = typeof T === 'number' ? { every: T, hold: 'zoh' as const } : undefined;
+  const hold = job.settings.reportHold ?? 'zoh';
+  // the input delay is exact for a held input only: with the other holds it is left out (docs/editor.md)
+  const sample = typeof T === 'number' ? { every: T, hold, delay: hold === 'zoh' ? job.settings.reportDelay ?? 0 : 0 } : undefined;
   const data = buildReport(a, point, { title: job.file, validityBudgetMs: 1500, sample, reduce: job.settings.reportReduce ? {} : undefined });
-  // the sensitivity table and first-order bands (the sampled bands and the pole cloud: `poise report --html` or `poise sensitivity`)
-  const sensitivity = data.ok && data.states.length <= 200 ? sensitivityReport(a, point) : undefined;
+  // the sensitivity table and first-order bands; the sampled bands and the pole cloud when the server's
+  // sampling threads have the samples of this point (lsp/tolerances.ts)
+  let sensitivity = data.ok && data.states.length <= 200 ? sensitivityReport(a, point) : undefined;
+  if (sensitivity?.ok && job.samples && job.samples.plan.point === point) sensitivity = withSamples(sensitivity, job.samples.plan, job.samples.results);
   return { html: renderReportHtml(data, { sensitivity: sensitivity?.ok ? sensitivity : undefined }), title: `Report: ${data.point}` };
 }
 
@@ -199,6 +209,11 @@ function runAny(a: Analysis, job: Job): JobResults[keyof JobResults] {
       return report(a, job);
     case 'sweep':
       return sweep(a, job);
+    case 'sampledBands': {
+      // the hover's section on the sampled bands: the first-order report of the point with the samples
+      const r = sensitivityReport(a, job.point);
+      return r.ok ? sampledBandsMarkdown(withSamples(r, job.plan, job.results), job.digits) || undefined : undefined;
+    }
     case 'sweepCandidates':
       return sweepCandidates(a, resolvePoint(a, job.file, job.point, job.settings.activePoint));
     case 'export':

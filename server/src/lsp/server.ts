@@ -36,6 +36,7 @@ import { anyParams } from './params';
 import { takeRegistrations, type RequestHandler, type ServerContext } from './registry';
 import { LINEARIZE_COMMAND, SOLVE_COMMAND } from './requests';
 import { SettingsStore } from './settings';
+import { ToleranceSamples } from './tolerances';
 
 export { registerRequest, type RequestHandler, type ServerContext } from './registry';
 export type { PoiseSettings } from './settings';
@@ -67,6 +68,7 @@ export function startServer(): void {
   const settings = new SettingsStore((item) => connection.workspace.getConfiguration(item));
   const analyses = new Analyses(documents, settings, log);
   const diagnostics = new DiagnosticsRun(connection, analyses, options, log, logError);
+  const samples = new ToleranceSamples(documents, log);
   context = { connection, documents, analysis: (uri) => analyses.open(uri)?.a, settings: (uri) => settings.for(uri), log };
 
   documents.onDidChangeContent((e) => {
@@ -118,10 +120,11 @@ export function startServer(): void {
   connection.onShutdown(() => {
     diagnostics.dispose();
     analyses.dispose();
+    samples.dispose();
   });
 
-  registerFeatures({ connection, analyses, caps: () => caps, clientCommands: () => clientCommands, log, logError });
-  registerCustomRequests(connection, analyses, log, logError);
+  registerFeatures({ connection, analyses, caps: () => caps, clientCommands: () => clientCommands, log, logError, samples });
+  registerCustomRequests(connection, analyses, log, logError, samples);
   takeRegistrations((method: string, handler: RequestHandler) => {
     connection.onRequest(method, guard(method, anyParams, (p, token) => handler(p, context!, token), logError));
   });

@@ -11,9 +11,33 @@ export interface PoiseSettings {
   reportSampleTime: string;
   /** Add the smaller-model section (balanced truncation) to the report. */
   reportReduce: boolean;
+  /** How the report's sampled-data section holds the input between samples. */
+  reportHold: 'zoh' | 'foh' | 'tustin';
+  /** Input delay of the report's sampled-data section, as a fraction of a sample in [0, 1) (zero-order hold only). */
+  reportDelay: number;
+  /** Latin hypercube samples of the toleranced constants for the hovers and the report (0: first-order bands only). */
+  toleranceSamples: number;
 }
 
-export const DEFAULT_SETTINGS: Readonly<PoiseSettings> = { digits: 4, activePoint: '', warnUnused: true, reportSampleTime: '', reportReduce: false };
+export const DEFAULT_SETTINGS: Readonly<PoiseSettings> = {
+  digits: 4, activePoint: '', warnUnused: true, reportSampleTime: '', reportReduce: false, reportHold: 'zoh', reportDelay: 0, toleranceSamples: 500,
+};
+
+/** The most tolerance samples the settings may ask for (the command has no such limit). */
+export const MAX_TOLERANCE_SAMPLES = 20000;
+
+const HOLDS = ['zoh', 'foh', 'tustin'] as const;
+
+/** A delay fraction from a number (0.3) or a percentage text ("30%"); undefined when it is not in [0, 1). */
+function delayFraction(v: unknown): number | undefined {
+  let f: number | undefined;
+  if (typeof v === 'number') f = v;
+  else if (typeof v === 'string') {
+    const m = /^\s*([0-9]*\.?[0-9]+(?:e[-+]?\d+)?)\s*(%?)\s*$/i.exec(v);
+    if (m) f = Number(m[1]) / (m[2] ? 100 : 1);
+  }
+  return f !== undefined && Number.isFinite(f) && f >= 0 && f < 1 ? f : undefined;
+}
 
 /** Settings from whatever the client sent, with defaults for missing or unusable values. */
 export function sanitizeSettings(raw: unknown): PoiseSettings {
@@ -25,6 +49,10 @@ export function sanitizeSettings(raw: unknown): PoiseSettings {
     warnUnused: typeof r.warnUnused === 'boolean' ? r.warnUnused : DEFAULT_SETTINGS.warnUnused,
     reportSampleTime: typeof r.reportSampleTime === 'string' ? r.reportSampleTime.trim() : DEFAULT_SETTINGS.reportSampleTime,
     reportReduce: typeof r.reportReduce === 'boolean' ? r.reportReduce : DEFAULT_SETTINGS.reportReduce,
+    reportHold: (HOLDS as readonly unknown[]).includes(r.reportHold) ? (r.reportHold as PoiseSettings['reportHold']) : DEFAULT_SETTINGS.reportHold,
+    reportDelay: delayFraction(r.reportDelay) ?? DEFAULT_SETTINGS.reportDelay,
+    toleranceSamples: typeof r.toleranceSamples === 'number' && Number.isFinite(r.toleranceSamples) && r.toleranceSamples >= 0
+      ? Math.min(MAX_TOLERANCE_SAMPLES, Math.round(r.toleranceSamples)) : DEFAULT_SETTINGS.toleranceSamples,
   };
 }
 

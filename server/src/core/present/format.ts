@@ -75,6 +75,12 @@ export function indexReductionLines(s: IndexReductionSummary): string[] {
   ];
 }
 
+/** The same in one line (a lens title): the states chosen at the point and the differentiated equations. */
+export function indexReductionBrief(s: IndexReductionSummary): string {
+  const times = (k: number) => (k === 1 ? '' : k === 2 ? ' twice' : ` ${k} times`);
+  return `index ${s.index} reduced: states ${s.states.join(', ') || '(none)'}; differentiated ${s.differentiated.map((d) => `"${d.label}"${times(d.times)}`).join(', ')}`;
+}
+
 export function formatValues(values: VariableValue[], digits = 6, withConstants = false): string {
   const shown = values.filter((v) => withConstants || v.kind !== 'const');
   const w = maxOf(shown.map((v) => v.name.length), 4);

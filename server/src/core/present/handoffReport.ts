@@ -59,7 +59,12 @@ ${matrices(s, 'd')}
 export function reducedSectionHtml(page: PageContext, r: ReducedPlain | null | undefined): string {
   if (r === undefined) return '';
   if (r === null) return '<section id="reduced"><h2>Smaller model</h2><p>Balanced truncation failed: an eigenvalue is too close to the imaginary axis to split the stable part off, or a Lyapunov equation has no solution.</p></section>';
-  const pos = r.hankel.map((v, i) => ({ i: i + 1, v })).filter((x) => x.v > 0);
+  // values below n·ε·σ₁ are rounding, not the model (the rank tolerance of an SVD, as numpy.linalg.matrix_rank
+  // uses): they are not drawn, and the note says how many
+  const noise = r.hankel.length * 2.220446049250313e-16 * (r.hankel[0] ?? 0);
+  const pos = r.hankel.map((v, i) => ({ i: i + 1, v })).filter((x) => x.v > noise);
+  const hidden = r.hankel.length - pos.length;
+  const noiseNote = hidden ? `<p class="note">${hidden} Hankel singular value${hidden === 1 ? '' : 's'} below n·ε·σ<sub>1</sub> = ${num(noise, 3)} (rounding of the Gramian factors, not the model) ${hidden === 1 ? 'is' : 'are'} not drawn.</p>` : '';
   let chartHtml = '';
   if (pos.length) {
     const lo = Math.min(minOf(pos.map((x) => x.v)), r.tolerance * r.hankel[0]);
@@ -79,6 +84,7 @@ export function reducedSectionHtml(page: PageContext, r: ReducedPlain | null | u
     });
     chartHtml = `<figure class="chart wide">${svg}${legend(series.filter((x) => x.x.length).map((x) => ({ cls: x.cls, kind: x.kind, label: x.label! })))}</figure>`;
   }
+  chartHtml += noiseNote;
   return `<section id="reduced"><h2>Smaller model</h2>
 <p class="note">Balanced truncation (square-root method): ${r.order} of ${r.fullOrder} states — ${r.kept} balanced${r.unstable ? `, ${r.unstable} unstable or marginal kept exactly` : ''}. Error bound ‖G − G<sub>r</sub>‖<sub>∞</sub> ≤ 2·Σ(discarded σ) = ${num(r.bound)}. For a bound of ${num(r.tolerance, 3)}·σ<sub>1</sub> the order suggested is ${r.suggested}. Balanced states are combinations of the model's states; time in ${esc(r.units.time)}.</p>
 ${chartHtml}

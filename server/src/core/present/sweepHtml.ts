@@ -113,7 +113,13 @@ export function sweepHtml(r: SweepResult, opts: SweepHtmlOptions = {}): string {
     ? `<ul>${r.crossings.map((c) => `<li>${esc(c.message)}</li>`).join('')}</ul>`
     : '<p>No stability change over the values computed.</p>';
   const stop = r.stop ? `<p class="warnmsg">Stopped: ${esc(r.stop.message)}</p>` : '';
-  sections.push(`<section id="summary"><h2>Stability along the sweep</h2>${changes}${stop}
+  // a constrained model: the states chosen by index reduction, and where they change (P412)
+  const firstStates = pts.find((p) => p.states)?.states;
+  const stateChanges = r.diagnostics.filter((d) => d.code === 'P412');
+  const states = firstStates
+    ? `<p class="note">Index reduction: the states are ${esc(firstStates.join(', '))}${stateChanges.length ? ' at the first value' : ' all along the sweep'}.</p>${stateChanges.map((d) => `<p class="warnmsg">${esc(d.message)}</p>`).join('')}`
+    : '';
+  sections.push(`<section id="summary"><h2>Stability along the sweep</h2>${changes}${stop}${states}
 <p class="note">${pts.length} of ${r.vary.steps + 1} values computed, each a steady state found by continuation from the previous one and linearized there. A change in the number of eigenvalues in the right half-plane between two values is located by bisection on ${esc(r.vary.name)}.</p></section>`);
 
   if (pts.length) {

@@ -8,6 +8,7 @@ import { declaredSweeps } from '../analysis/sweep';
 import type { Span } from '../text';
 import { linearBlockFor } from './linearBlock';
 import { solveEdits } from './solve';
+import { indexReductionBrief } from '../present/format';
 
 export interface PointLens {
   point: string;
@@ -34,7 +35,10 @@ export function pointLenses(a: Analysis, digits = 4): PointLens[] {
         : { title: '✓ Solved', state: 'solved' };
     const lb = linearBlockFor(a, name);
     const block = !lb ? 'none' : lb.digest?.text.trim() === a.digest(name) ? 'fresh' : 'stale';
-    const linTitle = block === 'stale' ? 'Regenerate linear block' : block === 'fresh' ? 'Linearize (block up to date)' : 'Linearize';
+    let linTitle = block === 'stale' ? 'Regenerate linear block' : block === 'fresh' ? 'Linearize (block up to date)' : 'Linearize';
+    // a constrained model: the states chosen at this point and the equations differentiated
+    const lin = r.ok && a.indexPlan ? a.linear(name) : undefined;
+    if (lin?.ok && lin.reduction) linTitle += ` · ${indexReductionBrief(lin.reduction)}`;
     out.push({ point: name, span: p.headerSpan, solve, linearize: { title: linTitle, block }, report: { title: 'Report' }, sweep: { title: 'Sweep…' } });
   }
   return out;

@@ -199,12 +199,17 @@ export function pointDerivatives(a: Analysis, pointName?: string, params?: Param
   const name = sol?.name ?? pointName ?? '';
   const fail = (problem: string): PointDerivatives => ({ ok: false, problem, point: name, derivatives: [] });
   if (!sol || !sol.ok) return fail('the point is not solved');
-  // the derivatives below differentiate the lowered equations; a constrained model's linear model is that of
-  // its index reduction at the point, which they do not follow yet: say so rather than give wrong numbers
-  if (a.indexPlan) return fail('sensitivities of a constrained model (reduced by differentiating constraints) are not available yet; write the model in independent coordinates to get them');
   const lin = a.linear(sol.name);
   if (!lin || !lin.ok) return fail('the point has no linear model');
   const lm = a.lowered;
+  // a constrained model: the point moves by its own (steady-state) equations, which the index reduction does
+  // not change; A, B, C, D are those of the reduced model with the states chosen at the point (the same
+  // choice as the linear model's), whose extra slots (the derivatives the reduction adds) are zero at every
+  // steady state and stay so: the direction is 0 there
+  const dm = a.indexPlan ? a.dynamicsAt(sol.values) : undefined;
+  if (dm && !dm.selection) return fail(`no states can be chosen at the point (${dm.failure?.detail ?? 'index reduction'})`);
+  const dyn = dm ? dm.model : lm;
+  const dynValues = dm ? dm.values : sol.values;
   const parameters = params ?? modelParameters(a, sol);
   const values = sol.values;
 
@@ -234,18 +239,18 @@ export function pointDerivatives(a: Analysis, pointName?: string, params?: Param
   cc.eval(values, CJ);
 
   // the dynamic Jacobian, M and N, and X = −M⁻¹N (dense, N_u × (n + m))
-  const cm = compileModel(lm);
+  const cm = compileModel(dyn);
   const sd = secondDerivatives(cm);
   const J = new Float64Array(cm.nodes.length);
-  cm.jacobian(values, J);
+  cm.jacobian(dynValues, J);
   const H = new Float64Array(sd.count);
-  sd.eval(values, H);
-  const uSlots = a.structure.unknowns;
+  sd.eval(dynValues, H);
+  const uSlots = dm ? dm.unknowns : a.structure.unknowns;
   const Nu = uSlots.length;
   const { n, m, p: pOut } = lin;
-  const colOf = new Int32Array(lm.slots.length).fill(-1);
+  const colOf = new Int32Array(dyn.slots.length).fill(-1);
   uSlots.forEach((s, i) => (colOf[s] = i));
-  const rhsCol = new Int32Array(lm.slots.length).fill(-1);
+  const rhsCol = new Int32Array(dyn.slots.length).fill(-1);
   lin.stateSlots.forEach((s, i) => (rhsCol[s] = i));
   lin.inputSlots.forEach((s, i) => (rhsCol[s] = n + i));
   const mr: number[] = [], mc: number[] = [], mv: number[] = [];
@@ -275,15 +280,15 @@ export function pointDerivatives(a: Analysis, pointName?: string, params?: Param
   }
   // rows of A/B (state components whose derivative is an unknown) and of C/D (outputs)
   const stateOfUnknown = new Int32Array(Nu).fill(-1);
-  lm.componentDerivative.forEach((d, i) => {
+  dyn.componentDerivative.forEach((d, i) => {
     if (colOf[d] >= 0) stateOfUnknown[colOf[d]] = i;
   });
   const outputOfUnknown = new Int32Array(Nu).fill(-1);
   lin.outputSlots.forEach((s, i) => {
     if (colOf[s] >= 0) outputOfUnknown[colOf[s]] = i;
   });
-  const sl = lm.slots;
-  const tscale = lm.timeScale;
+  const sl = dyn.slots;
+  const tscale = dyn.timeScale;
   const srcScale = (c: number) => (c < n ? sl[lin.stateSlots[c]].scale : sl[lin.inputSlots[c - n]].scale);
 
   const derivatives: PointDerivative[] = [];
@@ -308,12 +313,17 @@ export function pointDerivatives(a: Analysis, pointName?: string, params?: Param
       const s = psolve.solve(Int32Array.from(rr), Float64Array.from(rv), rr.length, false);
       for (let t = 0; t < s.count; t++) d[unknowns[s.cols[t]]] = s.x[s.cols[t]];
     }
-    // directional derivative of each Jacobian entry
+    // directional derivative of each Jacobian entry (over the reduced model's slots for a constrained model)
+    let dd = d;
+    if (dyn !== lm) {
+      dd = new Float64Array(dyn.slots.length);
+      dd.set(d);
+    }
     const dJk: number[] = [], dJv: number[] = [];
     for (let k = 0; k < cm.nodes.length; k++) {
       let acc = 0;
       for (let t = sd.start[k]; t < sd.start[k + 1]; t++) {
-        const ds = d[sd.slot[t]];
+        const ds = dd[sd.slot[t]];
         if (ds !== 0) acc += H[t] * ds;
       }
       if (acc !== 0) { dJk.push(k); dJv.push(acc); }

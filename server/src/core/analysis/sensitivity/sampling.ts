@@ -106,7 +106,10 @@ export function evaluateAt(a: Analysis, pointName: string, overrides: Map<number
   try {
     const sol = solvePoint(a.bound, a.lowered, block, { overrides, start: nominal.values });
     if (!sol.ok) return fail;
-    const lin = linearize(a.lowered, a.structure.unknowns, sol.values, sol.name, block.name.span);
+    // a constrained model: its reduction at the sample, the nominal point's states kept while they can be
+    const dm = a.indexPlan ? a.dynamicsAt(sol.values, a.dynamicsAt(nominal.values).selection?.dummies) : undefined;
+    if (dm && !dm.selection) return fail;
+    const lin = dm ? linearize(dm.model, dm.unknowns, dm.values, sol.name, block.name.span) : linearize(a.lowered, a.structure.unknowns, sol.values, sol.name, block.name.span);
     if (!lin.ok) return fail;
     const sys = linearSystem(lin);
     const sp = spectrum(sys);
