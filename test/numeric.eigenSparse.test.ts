@@ -162,9 +162,12 @@ describe('block triangular path', () => {
           perBlock.push(...pairs(eigenvalues(sub)));
         }
         expect(mismatch(pairs(sparse), perBlock)).toBeLessThan(1e-12);
-        expect(mismatch(pairs(sparse), mlReference(a))).toBeLessThan(1e-8);
+        // ml-matrix is a second, independent QR: on random non-normal blocks an eigenvalue may be ill conditioned
+        // (a near-defective pair), and two backward-stable routes then differ by up to κ·ε·‖A‖ (about √ε for a
+        // nearly double eigenvalue); the sharp check is the per-block one above
+        expect(mismatch(pairs(sparse), mlReference(a))).toBeLessThan(1e-6);
       }),
-      { numRuns: 60 },
+      { numRuns: Number(process.env.POISE_PROPERTY_RUNS ?? 60) },
     );
   });
 
