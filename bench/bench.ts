@@ -10,6 +10,7 @@ import { Analysis } from '../server/src/core/pipeline/analysis';
 import { eigenvalues } from '../server/src/core/numeric/eigen';
 import { runSweep } from '../server/src/core/analysis/sweep';
 import { latencyLines, lspLatency } from './lspLatency';
+import { partsLatency, partsLines } from './lspParts';
 import { eigenBench } from './eigen';
 import { massChain, reportBench } from './report';
 import { tankChain, tankChainFamily, tankChainFlatElements, tankChainSympy } from './models';
@@ -142,6 +143,10 @@ async function main() {
   // language server: one-character edit → diagnostics, 2,000- and 10,000-equation models
   if (process.env.POISE_BENCH_LSP !== '0') {
     for (const n of [1000, 5000]) for (const line of latencyLines(await lspLatency(n))) console.log(line);
+    // an edit the quick route does not take (a name in an equation): the full static analysis, for comparison
+    for (const n of [1000, 5000]) for (const line of latencyLines(await lspLatency(n, 7, 'name'))) console.log(line);
+    // a parts document edited: the open model that places its part (2,001 equations) analysed again
+    for (const line of partsLines(await partsLatency(667))) console.log(line);
   }
 
   // whole-process comparison with SymPy, same job, same run

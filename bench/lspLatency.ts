@@ -3,7 +3,9 @@
  * one-character edits of a constant; time from didChange to the first publishDiagnostics of that version
  * (and to the last one, when the points' diagnostics follow later), and the time a hover sent right after
  * the first diagnostics takes while the points are being solved. The server's own time per stage comes
- * from its timing log. Run alone: `node out/bench/lspLatency.js [N,N…]`.
+ * from its timing log. Run alone: `node out/bench/lspLatency.js [N,N…] [value|name]` (after `npx tsc -p . && node
+ * scripts/bundle.mjs server`). The edit is of a constant's value (what the quick route takes: the last
+ * analysis's static diagnostics, moved) or of a name in an equation (the full static analysis).
  */
 import { spawn } from 'child_process';
 import * as path from 'path';
@@ -12,6 +14,8 @@ import { tankChain } from './models';
 
 export interface LspLatency {
   equations: number;
+  /** What was edited: a constant's value (the quick route), or a name in an equation (the full analysis). */
+  edit: 'value' | 'name';
   open: number;
   /** didChange → first publishDiagnostics of the version (ms), median. */
   median: number;
@@ -29,7 +33,7 @@ const median = (xs: number[]) => {
   return v.length ? v[Math.floor(v.length / 2)] : NaN;
 };
 
-export async function lspLatency(n = 1000, edits = 11): Promise<LspLatency> {
+export async function lspLatency(n = 1000, edits = 11, edit: 'value' | 'name' = 'value'): Promise<LspLatency> {
   const root = path.join(__dirname, '..', '..');
   const p = spawn(process.execPath, [path.join(root, 'bin', 'poise.js'), 'lsp', '--stdio'], { stdio: ['pipe', 'pipe', 'inherit'] });
   const c = createMessageConnection(new StreamMessageReader(p.stdout!), new StreamMessageWriter(p.stdin!));
@@ -72,18 +76,20 @@ export async function lspLatency(n = 1000, edits = 11): Promise<LspLatency> {
   const finals: number[] = [];
   const hovers: number[] = [];
   const analyze: number[] = [];
-  // edit the constant's value one character at a time (1.5 → 1.6 → 1.5 …): a real change every time
-  const line = text.split('\n').findIndex((l) => l.startsWith('const area'));
-  const col = 'const area = 1.'.length;
-  const hoverAt = { line: text.split('\n').findIndex((l) => l.startsWith('state h1 ')), character: 7 };
+  // edit the constant's value one character at a time (1.5 → 1.6 → 1.5 …): a real change every time; or
+  // a name in the first link's equation (k → kk, not declared, and back), which the full analysis takes
+  const lines = text.split('\n');
+  const line = edit === 'value' ? lines.findIndex((l) => l.startsWith('const area')) : lines.findIndex((l) => l.startsWith('q1 = k*'));
+  const col = edit === 'value' ? 'const area = 1.'.length : 'q1 = k'.length;
+  const hoverAt = { line: lines.findIndex((l) => l.startsWith('state h1 ')), character: 7 };
   for (let v = 2; v < 2 + edits; v++) {
     const ch = v % 2 ? '5' : '6';
-    text = text.replace(/^const area = 1\.\d/m, `const area = 1.${ch}`);
+    const add = v % 2 === 0;
+    const change = edit === 'value'
+      ? { range: { start: { line, character: col }, end: { line, character: col + 1 } }, text: ch }
+      : { range: { start: { line, character: col }, end: { line, character: add ? col : col + 1 } }, text: add ? 'k' : '' };
     t0 = performance.now();
-    c.sendNotification('textDocument/didChange', {
-      textDocument: { uri, version: v },
-      contentChanges: [{ range: { start: { line, character: col }, end: { line, character: col + 1 } }, text: ch }],
-    });
+    c.sendNotification('textDocument/didChange', { textDocument: { uri, version: v }, contentChanges: [change] });
     const first = await until(() => published.find((x) => x.version === v));
     if (!first) throw new Error(`no diagnostics for version ${v}`);
     all.push(first.at - t0);
@@ -105,7 +111,7 @@ export async function lspLatency(n = 1000, edits = 11): Promise<LspLatency> {
   await Promise.race([exited, new Promise((r) => setTimeout(r, 2000))]);
   c.dispose();
   if (p.exitCode === null) p.kill();
-  return { equations: 2 * n, open, median: median(all), finalMedian: median(finals), hoverMedian: median(hovers), analyzeMedian: median(analyze), all };
+  return { equations: 2 * n, edit, open, median: median(all), finalMedian: median(finals), hoverMedian: median(hovers), analyzeMedian: median(analyze), all };
 }
 
 /** Targets (issue: a responsive editor): edit → first diagnostics, median. */
@@ -113,9 +119,10 @@ export const LSP_TARGETS: Record<number, number> = { 2000: 50, 10000: 100 };
 
 /** Printable lines: each measured value next to its target. */
 export function latencyLines(l: LspLatency): string[] {
-  const target = LSP_TARGETS[l.equations];
+  const target = l.edit === 'value' ? LSP_TARGETS[l.equations] : undefined;
+  const what = l.edit === 'value' ? 'one-character edit of a constant\'s value' : 'one-character edit of a name in an equation (full analysis)';
   return [
-    `language server, ${l.equations}-equation model: one-character edit → first diagnostics median ${l.median.toFixed(0)} ms` +
+    `language server, ${l.equations}-equation model: ${what} → first diagnostics median ${l.median.toFixed(0)} ms` +
       (target ? ` (target < ${target} ms: ${l.median < target ? 'met' : 'NOT met'})` : '') +
       `; of which static analysis ${l.analyzeMedian.toFixed(0)} ms and the 30 ms debounce`,
     `  → points' diagnostics median ${l.finalMedian.toFixed(0)} ms; a hover sent meanwhile answered in ${l.hoverMedian.toFixed(0)} ms (median); open → diagnostics ${l.open.toFixed(0)} ms`,
@@ -124,8 +131,9 @@ export function latencyLines(l: LspLatency): string[] {
 
 if (require.main === module) {
   void (async () => {
+    const edit = process.argv[3] === 'name' ? 'name' : 'value';
     for (const n of (process.argv[2] ?? '1000,5000').split(',').map(Number)) {
-      for (const l of latencyLines(await lspLatency(n))) console.log(l);
+      for (const l of latencyLines(await lspLatency(n, 11, edit))) console.log(l);
     }
   })();
 }

@@ -14,6 +14,7 @@ import { main } from '../server/src/cli/main';
 import { ensureBuilt, EXAMPLES, runCli, scratchDir } from './helpers/cli';
 import { expectGolden } from './helpers/golden';
 import { dedent } from './helpers/model';
+import { exampleModels } from './helpers/examples';
 
 async function run(...argv: string[]): Promise<{ code: number; out: string; err: string }> {
   let out = '';
@@ -38,7 +39,7 @@ afterAll(() => {
   fs.rmSync(dir, { recursive: true, force: true });
 });
 
-const examples = fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).sort();
+const examples = exampleModels().map((m) => m.name); // subfolders too (feed_header/plant.poise)
 const ex = (f: string) => path.join(EXAMPLES, f);
 
 describe('poise check', () => {

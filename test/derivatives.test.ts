@@ -17,6 +17,7 @@ import { compileModel } from '../server/src/core/model/jacobian';
 import { EXAMPLES, REFERENCE } from './helpers/cli';
 import { dedent } from './helpers/model';
 import { centralDiff, newtonFD } from './helpers/numeric';
+import { exampleModels } from './helpers/examples';
 
 const X = E.sym(0);
 const Y = E.sym(1);
@@ -174,7 +175,7 @@ describe('random expressions', () => {
 
 function modelFiles(): { name: string; text: string; file?: string }[] {
   const out: { name: string; text: string; file?: string }[] = [];
-  for (const f of fs.readdirSync(EXAMPLES).filter((x) => x.endsWith('.poise')).sort()) out.push({ name: `examples/${f}`, text: fs.readFileSync(path.join(EXAMPLES, f), 'utf8'), file: path.join(EXAMPLES, f) });
+  for (const m of exampleModels()) out.push({ name: `examples/${m.name}`, text: m.text, file: m.file });
   const refDir = path.join(REFERENCE, 'models');
   if (fs.existsSync(refDir)) for (const f of fs.readdirSync(refDir).filter((x) => x.endsWith('.poise')).sort()) out.push({ name: `reference/${f}`, text: fs.readFileSync(path.join(refDir, f), 'utf8') });
   // a model of our own with an implicit equation, a coupled second-order pair and a pick of functions

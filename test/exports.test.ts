@@ -21,9 +21,10 @@ import { EXPORT_FORMATS, exportLinear, LINEAR_SCHEMA } from '../server/src/core/
 import type { LinearModel } from '../server/src/core/solve/linearizer';
 import { EXAMPLES, REFERENCE, ROOT } from './helpers/cli';
 import { parseCsv } from './helpers/csv';
+import { exampleModels } from './helpers/examples';
 
 const files = [
-  ...fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).map((f) => path.join(EXAMPLES, f)),
+  ...exampleModels().map((m) => m.file),
   ...fs.readdirSync(path.join(REFERENCE, 'models')).filter((f) => f.endsWith('.poise')).map((f) => path.join(REFERENCE, 'models', f)),
 ];
 

@@ -21,6 +21,7 @@ import { check } from './helpers/check';
 import { EXAMPLES, ensureBuilt, runCli, scratchDir } from './helpers/cli';
 import { REFERENCE_MODELS } from './helpers/reference';
 import { dedent, expectClose, solve } from './helpers/model';
+import { analyzeFile, exampleModels } from './helpers/examples';
 
 describe('number literals outside double precision (P114)', () => {
   it('the range is binary64\'s', () => {
@@ -190,13 +191,13 @@ describe('widely different magnitudes keep their exact entries', () => {
 });
 
 /** The model with every equation multiplied through by `f` on both sides (same solution, same linear model). */
-function multiplied(text: string, f: string): string {
-  const a = analyze(text);
+function multiplied(text: string, f: string, file?: string): string {
+  const a = at(file)(text);
   const edits: TextEdit[] = [];
   // an equation of an each block stands for many bound equations with one span: edit its text once
   const seen = new Set<number>();
   for (const eq of a.bound.equations) {
-    if (seen.has(eq.lhs.span.start)) continue;
+    if (seen.has(eq.lhs.span.start) || a.documents.foreign(eq.lhs.span)) continue; // a part's equations: in its own file
     seen.add(eq.lhs.span.start);
     edits.push({ span: { start: eq.lhs.span.start, end: eq.lhs.span.start }, newText: '(' });
     edits.push({ span: { start: eq.lhs.span.end, end: eq.lhs.span.end }, newText: `)*${f}` });
@@ -206,18 +207,21 @@ function multiplied(text: string, f: string): string {
   return applyEdits(text, edits);
 }
 
-const models: [string, string][] = [
-  ...fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).map((f) => [f, fs.readFileSync(path.join(EXAMPLES, f), 'utf8')] as [string, string]),
+/** Analyses of a model's text where its file is (the parts files beside it read from the disk). */
+const at = (file?: string) => (text: string) => (file ? analyzeFile(file, text) : analyze(text));
+
+const models: [string, string, string?][] = [
+  ...exampleModels().map((m) => [m.name, m.text, m.file] as [string, string, string?]),
   ...(fs.existsSync(REFERENCE_MODELS)
-    ? fs.readdirSync(REFERENCE_MODELS).filter((f) => f.endsWith('.poise')).map((f) => ['reference/' + f, fs.readFileSync(path.join(REFERENCE_MODELS, f), 'utf8')] as [string, string])
+    ? fs.readdirSync(REFERENCE_MODELS).filter((f) => f.endsWith('.poise')).map((f) => ['reference/' + f, fs.readFileSync(path.join(REFERENCE_MODELS, f), 'utf8')] as [string, string, string?])
     : []),
 ];
 
 describe('a model and its rescaled copy give the same A B C D', () => {
-  it.each(models)('%s with every equation ×1e12, ×1e-12 and ×4096', (_f, text) => {
-    const a = analyze(text);
+  it.each(models)('%s with every equation ×1e12, ×1e-12 and ×4096', (_f, text, file) => {
+    const a = at(file)(text);
     for (const f of ['1e12', '1e-12', '4096']) {
-      const b = analyze(multiplied(text, f));
+      const b = at(file)(multiplied(text, f, file));
       for (const p of a.pointNames) {
         const la = a.linear(p);
         const lb = b.linear(p);

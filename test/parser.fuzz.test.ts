@@ -14,9 +14,11 @@ import type { Diagnostic } from '../server/src/core/diagnostics';
 import * as E from '../server/src/core/algebra/expr';
 import { parse } from '../server/src/core/syntax/parser';
 import { EXAMPLES, REFERENCE } from './helpers/cli';
+import { poiseFiles } from './helpers/examples';
 
 const sources: { name: string; text: string; file?: string }[] = [];
-for (const f of fs.readdirSync(EXAMPLES).filter((x) => x.endsWith('.poise')).sort()) sources.push({ name: f, text: fs.readFileSync(path.join(EXAMPLES, f), 'utf8'), file: path.join(EXAMPLES, f) });
+// every .poise file: the models (subfolders too) and the parts-library files, which parse on their own
+for (const f of poiseFiles()) sources.push({ name: path.relative(EXAMPLES, f), text: fs.readFileSync(f, 'utf8'), file: f });
 const refDir = path.join(REFERENCE, 'models');
 if (fs.existsSync(refDir)) for (const f of fs.readdirSync(refDir).filter((x) => x.endsWith('.poise')).sort()) sources.push({ name: `reference/${f}`, text: fs.readFileSync(path.join(refDir, f), 'utf8') });
 

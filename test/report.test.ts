@@ -16,6 +16,7 @@ import { formatReportText } from '../server/src/core/present/reportText';
 import { createSimulator } from '../server/src/core/analysis/simulate';
 import { ensureBuilt, EXAMPLES, REFERENCE, runCliAsync, scratchDir } from './helpers/cli';
 import { startSession, uriOf, type Session } from './lsp/session';
+import { analyzeFile, exampleModels } from './helpers/examples';
 
 const read = (f: string) => fs.readFileSync(f, 'utf8');
 const tank = () => analyze(read(path.join(EXAMPLES, 'buffer_tank.poise')));
@@ -222,7 +223,7 @@ describe('poise report (the command)', () => {
   beforeAll(() => ensureBuilt(), 300_000);
 
   const models: string[] = [
-    ...fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).map((f) => path.join(EXAMPLES, f)),
+    ...exampleModels().map((m) => m.file),
     ...(fs.existsSync(path.join(REFERENCE, 'models')) ? fs.readdirSync(path.join(REFERENCE, 'models')).filter((f) => f.endsWith('.poise')).map((f) => path.join(REFERENCE, 'models', f)) : []),
   ];
 
@@ -231,7 +232,7 @@ describe('poise report (the command)', () => {
     const dir = scratchDir('report');
     try {
       const jobs: [string, string][] = [];
-      for (const f of models) for (const p of analyze(read(f)).pointNames) jobs.push([f, p]);
+      for (const f of models) for (const p of analyzeFile(f).pointNames) jobs.push([f, p]);
       // two at a time (two cores)
       for (let k = 0; k < jobs.length; k += 2) {
         await Promise.all(

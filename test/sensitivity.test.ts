@@ -11,10 +11,8 @@
  * Independent route: central differences of points re-solved by Newton's method at p ± h (evaluateAt),
  * for every eigenvalue and gain of every example model.
  */
-import * as fs from 'fs';
 import { describe, expect, it } from 'vitest';
-import { analyze, analyzeDocuments } from '../server/src/core/pipeline/analysis';
-import { cliSources } from '../server/src/cli/sourceHost';
+import { analyze } from '../server/src/core/pipeline/analysis';
 import { assignment } from './helpers/assignment';
 import { evaluateAt, pointDerivatives, sensitivities, sensitivityReport } from '../server/src/core/analysis/sensitivity';
 import { linearSystem } from '../server/src/core/analysis/dynamics';
@@ -22,6 +20,7 @@ import { solvePoint } from '../server/src/core/solve/pointSolver';
 import { linearize } from '../server/src/core/solve/linearizer';
 import { dedent, expectClose } from './helpers/model';
 import { PYTHON_WITH_SCIPY, runScipy, SCIPY_REQUIRED } from './helpers/scipy';
+import { analyzeFile, exampleModels } from './helpers/examples';
 
 /**
  * Every example with a linear model at its first point: constrained models (their reduction at the point),
@@ -29,8 +28,8 @@ import { PYTHON_WITH_SCIPY, runScipy, SCIPY_REQUIRED } from './helpers/scipy';
  * 60-pool canal, whose many close eigenvalues are paired with the re-solved models' by an optimal
  * assignment (helpers/assignment.ts) rather than by sorting.
  */
-const load = (file: string) => analyzeDocuments(cliSources(file, fs.readFileSync(file, 'utf8')), file)!;
-const EXAMPLES = fs.readdirSync('examples').filter((f) => f.endsWith('.poise')).map((f) => `examples/${f}`).filter((f) => {
+const load = (file: string) => analyzeFile(file);
+const EXAMPLES = exampleModels().map((m) => `examples/${m.name}`).filter((f) => {
   const a = load(f);
   const lin = a.pointNames.length ? a.linear(a.pointNames[0]) : undefined;
   return !!lin && lin.ok;
@@ -204,9 +203,19 @@ describe('eigenvectors of large models by sparse inverse iteration', () => {
     for (const file of EXAMPLES) {
       const a = load(file);
       const dense = sensitivities(a);
+      // the band LU (numeric/bandLU.ts) on these small matrices, and the general sparse LU
       const sparse = sensitivities(a, undefined, undefined, { sparseEigenvectors: true });
+      const general = sensitivities(a, undefined, undefined, { sparseEigenvectors: 'lu' });
       expect(sparse.ok, file).toBe(true);
+      expect(general.ok, file).toBe(true);
       const rho = Math.max(...dense.modes.map((m) => Math.hypot(m.eigenvalue.re, m.eigenvalue.im)));
+      for (const [route, other] of [['band', sparse], ['sparse LU', general]] as const) dense.modes.forEach((m, j) => {
+        const o = other.modes[j];
+        dense.parameters.forEach((p, k) => {
+          const size = (Math.max(Math.hypot(m.eigenvalue.re, m.eigenvalue.im), 1e-6 * rho) / Math.abs(p.value));
+          expect(Math.hypot(o.d[k].re - m.d[k].re, o.d[k].im - m.d[k].im) / size, `${route}: ${file} mode ${j + 1} ${p.name}`).toBeLessThan(1e-7);
+        });
+      });
       dense.modes.forEach((m, j) => {
         const o = sparse.modes[j];
         expectClose(o.eigenvalue.re, m.eigenvalue.re, 1e-9, 1e-12 * rho, `${file} λ${j + 1}`);

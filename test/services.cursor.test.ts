@@ -55,6 +55,9 @@ point base:
   level ~ 1 [m]
 `);
 
+/** A part with one input, for the instance cases. */
+const CHAIN_PART = `part tank:\n  input q [m^3/s]\n  state h [m]\n  var out [m^3/s]\n  2 [m^2]*h' = q - out\n  out = 0.01 [m^2.5/s]*sqrt(h)\n`;
+
 const CASES: Case[] = [
   { name: 'a state: kind, unit and value at the point', service: 'hover',
     snippet: model(`input feed [m^3/min]\nstate level [m]\nvar out [m^3/min]\narea*level' = feed - out\nout = k*sqrt(lev$0el)\npoint base:\n  feed = 1 [m^3/min]\n  level ~ 1 [m]\n`),
@@ -83,6 +86,19 @@ const CASES: Case[] = [
     expect: `const cells = 3\nconst k = 0.01 [m^2.5/s]\ninput qin [m^3/s]\nstate h[1..cells] [m]\n2 [m^2]*h[1]' = qin - k*sqrt(h[1])\neach i in 2..cells: 2 [m^2]*h[i]' = k*sqrt(h[i-1]) - k*sqrt(h[i])\noutput last [m] = h[cells]\npoint p:\n  qin = 0.01 [m^3/s]\n  h ~ 1 [m]\n` },
   { name: 'references of a family size constant include its places in brackets', service: 'references',
     snippet: `const ⟦$0n⟧ = 3\nconst k = 0.01 [m^2.5/s]\ninput qin [m^3/s]\nstate h[1..⟦n⟧] [m]\n2 [m^2]*h[1]' = qin - k*sqrt(h[1])\neach i in 2..⟦n⟧: 2 [m^2]*h[i]' = k*sqrt(h[i-1]) - k*sqrt(h[i])\noutput last [m] = h[⟦n⟧]\npoint p:\n  qin = 0.01 [m^3/s]\n  h ~ 1 [m]\n` },
+  // an instance of a part and a family: the written name is renamed in every element and qualified name,
+  // keeping the brackets and member names (renaming h in h[2] must not replace the whole h[2])
+  { name: 'rename an instance of a part from a qualified use', service: 'rename', to: 'tk',
+    snippet: `${CHAIN_PART}place tank as cell[1..3]\ncell[1].q = 0.01 [m^3/s]\neach i in 2..3: $0cell[i].q = cell[i-1].out\noutput last [m] = cell[3].h   # cell[3]\npoint p:\n  cell.h ~ 1 [m]\n`,
+    expect: `${CHAIN_PART}place tank as tk[1..3]\ntk[1].q = 0.01 [m^3/s]\neach i in 2..3: tk[i].q = tk[i-1].out\noutput last [m] = tk[3].h   # cell[3]\npoint p:\n  tk.h ~ 1 [m]\n` },
+  { name: 'rename an instance from its place line', service: 'rename', to: 'first',
+    snippet: `${CHAIN_PART}place tank as so$0lo\nsolo.q = 0.01 [m^3/s]\npoint p:\n  solo.h ~ 1 [m]\n`,
+    expect: `${CHAIN_PART}place tank as first\nfirst.q = 0.01 [m^3/s]\npoint p:\n  first.h ~ 1 [m]\n` },
+  { name: 'references of an instance: the place line and the qualified uses', service: 'references',
+    snippet: `${CHAIN_PART}place tank as ⟦cell⟧[1..2]\n⟦cell⟧[1].q = 0.01 [m^3/s]\n⟦ce$0ll⟧[2].q = ⟦cell⟧[1].out\n` },
+  { name: 'rename a family from one element keeps the index', service: 'rename', to: 'lev',
+    snippet: `const n = 3\ninput qin [m^3/s]\nstate h[1..n] [m]\n2 [m^2]*h[1]' = qin - 0.01 [m^2.5/s]*sqrt(h[1])\neach i in 2..n: 2 [m^2]*$0h[i]' = 0.01 [m^2.5/s]*(sqrt(h[i-1]) - sqrt(h[i]))\npoint p:\n  qin = 0.01 [m^3/s]\n  h ~ 1 [m]\n  h[2] ~ 1 [m]\n`,
+    expect: `const n = 3\ninput qin [m^3/s]\nstate lev[1..n] [m]\n2 [m^2]*lev[1]' = qin - 0.01 [m^2.5/s]*sqrt(lev[1])\neach i in 2..n: 2 [m^2]*lev[i]' = 0.01 [m^2.5/s]*(sqrt(lev[i-1]) - sqrt(lev[i]))\npoint p:\n  qin = 0.01 [m^3/s]\n  lev ~ 1 [m]\n  lev[2] ~ 1 [m]\n` },
   { name: 'rename a point', service: 'rename', to: 'nominal',
     snippet: TANK((n) => n).replace('point base', 'point b$0ase'),
     expect: TANK((n) => n).replace('point base', 'point nominal') },

@@ -20,6 +20,7 @@ import { solveEdits } from '../server/src/core/services/solve';
 import { pointEdit } from '../server/src/lsp/jobs';
 import { EXAMPLES } from './helpers/cli';
 import { dedent } from './helpers/model';
+import { analyzeFile, exampleModels } from './helpers/examples';
 
 const tank = dedent(`
   const area = 2 [m^2]
@@ -111,12 +112,14 @@ function perturb(text: string, a: Analysis, point: string, r: () => number, f: n
   return applyEdits(text, edits);
 }
 
-const examples = fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise'));
+const examples = exampleModels().map((m) => m.name); // subfolders too; parts files read beside the model
 
 describe('Solve then Solve on perturbed guesses (property)', () => {
   for (const file of examples) {
     it(`${file}: every point, 8 random perturbations of ±20 %`, () => {
-      const base = fs.readFileSync(path.join(EXAMPLES, file), 'utf8');
+      const where = path.join(EXAMPLES, file);
+      const analyze = (t: string) => analyzeFile(where, t);
+      const base = fs.readFileSync(where, 'utf8');
       const a0 = analyze(base);
       const r = rng(0x5eed ^ file.length);
       let solvedRuns = 0;

@@ -18,6 +18,7 @@ import { EXAMPLES, REFERENCE } from '../helpers/cli';
 import { readReferenceFile } from '../helpers/reference';
 import { readBlock } from './blocks';
 import { startSession, uriOf, type Session } from './session';
+import { exampleModels } from '../helpers/examples';
 
 let s: Session;
 beforeAll(async () => {
@@ -210,7 +211,7 @@ describe('Linearize writes a generated linear block', () => {
 
 /** Every model of examples/ and the reference models: solve and linearize every point through the server. */
 const MODELS = [
-  ...fs.readdirSync(EXAMPLES).filter((f) => f.endsWith('.poise')).map((f) => ({ file: path.join(EXAMPLES, f), ref: undefined as string | undefined })),
+  ...exampleModels().map((m) => ({ file: m.file, ref: undefined as string | undefined })),
   ...fs.readdirSync(path.join(REFERENCE, 'models')).filter((f) => f.endsWith('.poise')).map((f) => ({ file: path.join(REFERENCE, 'models', f), ref: path.join(REFERENCE, f.replace(/\.poise$/, '.json')) })),
 ];
 

@@ -6,7 +6,7 @@
 import { analyzeDocuments } from '../core/pipeline/analysis';
 import { cliSources } from './sourceHost';
 import { formatDiagnostic } from './where';
-import { modelText } from '../core/present/modelText';
+import { expandedModelText } from '../core/present/modelText';
 import type { Parsed } from './options';
 import type { CliHelpers, Io } from './shared';
 
@@ -19,6 +19,6 @@ export async function expandCommand(p: Parsed, io: Io, h: CliHelpers): Promise<n
     return 1;
   }
   io.out(`# ${file} expanded by poise expand: every family written element by element${a.instances.size ? ', every part under its instance\'s name' : ''}`);
-  io.out(modelText(a.parsed.file).trimEnd());
+  io.out(expandedModelText(a).trimEnd());
   return 0;
 }

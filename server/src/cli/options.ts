@@ -154,7 +154,7 @@ export const COMMANDS: CommandSpec[] = [
     name: 'expand',
     args: 'FILE',
     files: [1, 1],
-    summary: 'print the flat model a file with indexed families stands for (valid model text)',
+    summary: 'print the flat model a file with indexed families or parts stands for (valid model text)',
     options: [HELP],
   },
   {

@@ -37,6 +37,9 @@ export function varyRequest(a: Analysis, point: string, vary: string): { spec?: 
     if (d.code === 'P201') {
       // an unknown name: the nearest name the model declares
       const word = text.slice(d.span.start, d.span.end);
+      // a family (of instances) named without an index: one element is varied at a time
+      const elements = [...a.bound.symbols.keys()].filter((n) => n.replace(/\[[^\]]*\]/g, '') === word);
+      if (elements.length) return { error: `--vary: "${word}" stands for ${elements.length} elements: vary one at a time, e.g. "${elements[0]}"` };
       const near = nearest(word, [...a.bound.symbols.keys()]);
       return { error: `--vary: the model has no name "${word}"${near ? `; did you mean "${near}"?` : ''}` };
     }

@@ -99,6 +99,8 @@ export const catalogue = {
   P259: { severity: 'error', text: '"{path}" is a folder of parts: name the parts to take from it, e.g. parts tank, valve from "{path}" (each from its own file tank.poise, valve.poise).' },
   P260: { severity: 'error', text: 'The instance name "{name}" is already used by {what}: choose another name.' },
   P261: { severity: 'error', text: '"{name}" is an instance of part "{part}", not a value: name one of its members, e.g. {name}.{example}.' },
+  P262: { severity: 'error', text: 'Part "{name}" is defined in {file} but not brought in here ({why}): write {fix}.' },
+  P263: { severity: 'error', text: 'Part "{part}" has no name "{member}" ({written} names an instance of it): its names are {names}; fix the spelling, or declare "{member}" in the part.' },
 
   // 3xx units
   P301: { severity: 'error', text: 'Unknown unit "{unit}": {detail}' },
@@ -166,6 +168,7 @@ export const catalogue = {
   P705: { severity: 'info', text: 'Free {name} (write "~") in point {point}' },
   P706: { severity: 'info', text: 'Solve point {point}' },
   P707: { severity: 'info', text: 'Linearize at point {point}' },
+  P730: { severity: 'info', text: 'Bring in part {name}: {line}' },
 
   // 8xx answers of the language server to requests and commands (error responses and editor messages)
   P801: { severity: 'error', text: '{file} is not open in the editor: open the model file first.' },

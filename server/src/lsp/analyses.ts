@@ -9,6 +9,7 @@ import type { CancellationToken, TextDocuments } from 'vscode-languageserver/nod
 import type { TextDocument } from 'vscode-languageserver-textdocument';
 import { analyzeDocuments, type Analysis } from '../core/pipeline/analysis';
 import { memoryHost, type SourceHost } from '../core/sources';
+import { valueSensitiveConstants } from '../core/services/valueEdit';
 import { serverSources } from './sourceHost';
 import { runJob, type Job, type JobResult } from './jobs';
 import { Offload } from './offload';
@@ -50,7 +51,18 @@ export class Analyses {
     const text = doc.getText();
     const analysis = analyzeDocuments(layered(doc.uri, text, this.sources), doc.uri, { warnUnused: s.warnUnused })!;
     this.cache.set(doc.uri, { version: doc.version, warnUnused: s.warnUnused, analysis });
+    // ready for the next edit's quick diagnostics (quickDiagnostics.ts), once what asked for it is answered
+    if (analysis.lowered.equations.length > LARGE_MODEL_EQUATIONS) setTimeout(() => valueSensitiveConstants(analysis), 0).unref();
     return analysis;
+  }
+
+  /**
+   * The last analysis made of the document, of any version, when the files it brought in still read the
+   * same and it was made with these settings; what an edit's quick diagnostics start from.
+   */
+  previous(uri: string, s: PoiseSettings): { version: number; analysis: Analysis } | undefined {
+    const hit = this.cache.get(uri);
+    return hit && hit.warnUnused === s.warnUnused && this.current(hit.analysis) ? hit : undefined;
   }
 
   /** Whether the files an analysis brought in still read the same (an edit of a part's file makes it stale). */

@@ -11,9 +11,21 @@ import type { Diagnostic } from '../core/diagnostics';
 import type { CompletionCandidate } from '../core/services/completion';
 import type { TextEdit } from '../core/services/edits';
 import type { OutlineItem } from '../core/services/symbols';
-import type { Span } from '../core/text';
+import type { Position, Span } from '../core/text';
 
-export function toRange(a: Analysis, span: Span): Range {
+/**
+ * What placing a span needs of an analysis: positions in the root document, which document a span lies
+ * in, and the parts lines that brought the other documents in. An `Analysis` is one; so is the view of an
+ * edit's quick diagnostics (quickDiagnostics.ts), whose offsets are those of the new text.
+ */
+export interface Placing {
+  lines: { position(offset: number): Position };
+  documents: { foreign(span: Span): boolean };
+  where(span: Span): { uri: string; start: Position; end: Position };
+  broughtBy: ReadonlyMap<string, Span>;
+}
+
+export function toRange(a: Pick<Placing, 'lines'>, span: Span): Range {
   return { start: a.lines.position(span.start), end: a.lines.position(span.end) };
 }
 
@@ -29,7 +41,7 @@ export interface DiagnosticData {
 }
 
 /** The document and range of a span: the model itself or a file it brings in. */
-export function toLocation(a: Analysis, span: Span): Location {
+export function toLocation(a: Pick<Placing, 'where'>, span: Span): Location {
   const w = a.where(span);
   return { uri: w.uri, range: { start: w.start, end: w.end } };
 }
@@ -41,7 +53,7 @@ const baseName = (uri: string) => decodeURIComponent(uri.slice(uri.lastIndexOf('
  * `parts from` line that brought the file in, naming the file and line, with the exact place as related
  * information (the editor opens it from there).
  */
-export function toDiagnostic(a: Analysis, uri: string, d: Diagnostic): LspDiagnostic {
+export function toDiagnostic(a: Placing, uri: string, d: Diagnostic): LspDiagnostic {
   let range = toRange(a, d.span);
   let message = d.message;
   const related: DiagnosticRelatedInformation[] = [];
@@ -64,6 +76,23 @@ export function toDiagnostic(a: Analysis, uri: string, d: Diagnostic): LspDiagno
   if (d.code === 'P203') out.tags = [DiagnosticTag.Unnecessary];
   if (d.data) out.data = { core: d.data } satisfies DiagnosticData;
   return out;
+}
+
+/**
+ * A diagnostic of the model that lies in a parts file it brings in, as it is shown in that file (its own
+ * address and exact range), with the model's `parts` line that brought the file in as related information;
+ * undefined for a diagnostic of the model's own text.
+ */
+export function inPartFile(a: Placing, uri: string, d: Diagnostic): { uri: string; diagnostic: LspDiagnostic } | undefined {
+  if (!a.documents.foreign(d.span)) return undefined;
+  const at = toLocation(a, d.span);
+  const related: DiagnosticRelatedInformation[] = [
+    { location: { uri, range: toRange(a, a.broughtBy.get(at.uri) ?? { start: 0, end: 0 }) }, message: `brought in by ${baseName(uri)}` },
+  ];
+  for (const r of d.related ?? []) related.push({ location: toLocation(a, r.span), message: r.message });
+  const out: LspDiagnostic = { range: at.range, severity: SEVERITY[d.severity], code: d.code, source: 'poise', message: d.message, relatedInformation: related };
+  if (d.code === 'P203') out.tags = [DiagnosticTag.Unnecessary];
+  return { uri: at.uri, diagnostic: out };
 }
 
 export function toTextEdit(a: Analysis, e: TextEdit): LspTextEdit {

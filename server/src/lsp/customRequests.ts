@@ -11,7 +11,7 @@ import { guard, type LogError } from './guard';
 import { fileName, JobFailure, resolvePoint, type Job, type JobResult } from './jobs';
 import type { Samples, ToleranceSamples } from './tolerances';
 import * as P from './params';
-import { modelText } from '../core/present/modelText';
+import { expandedModelText } from '../core/present/modelText';
 import { ExpandedRequest, ExportRequest, PointAtRequest, ReportRequest, SweepCandidatesRequest, SweepRequest, type PointParams } from './requests';
 
 export function registerCustomRequests(connection: Connection, analyses: Analyses, log: (m: string) => void, logError: LogError, samples?: ToleranceSamples): void {
@@ -64,7 +64,7 @@ export function registerCustomRequests(connection: Connection, analyses: Analyse
   connection.onRequest(ExpandedRequest, guard(ExpandedRequest.method, P.expandedParams, async (p) => {
     const d = await document(p.uri);
     const head = `# ${fileName(p.uri)} expanded by Poise (read-only): every family written element by element, every part under its instance's name`;
-    return { text: `${head}\n${modelText(d.a.parsed.file).trimEnd()}\n` };
+    return { text: `${head}\n${expandedModelText(d.a).trimEnd()}\n` };
   }, logError));
 
   connection.onRequest(PointAtRequest, guard(PointAtRequest.method, P.pointAtParams, (p) => {

@@ -10,9 +10,11 @@ import type { Diagnostic } from '../core/diagnostics';
 import type { Analysis } from '../core/pipeline/analysis';
 import { staticDiagnostics } from '../core/services/linearBlock';
 import { diagnosticsTag, type Analyses } from './analyses';
-import { toDiagnostic } from './convert';
+import { inPartFile, toDiagnostic, type Placing } from './convert';
 import { allDiagnostics } from './jobs';
 import { Cancelled } from './offload';
+import { Publisher, type Lent } from './publisher';
+import { quickDiagnostics, quickSnapshot } from './quickDiagnostics';
 
 /** Pause between the static diagnostics of a slow model and starting its points in the worker (ms). */
 const POINT_DELAY_MS = 150;
@@ -27,6 +29,7 @@ export interface DiagnosticsOptions {
 export class DiagnosticsRun {
   private readonly timers = new Map<string, NodeJS.Timeout>();
   private readonly generation = new Map<string, number>();
+  private readonly publisher: Publisher;
 
   constructor(
     private readonly connection: Connection,
@@ -34,7 +37,9 @@ export class DiagnosticsRun {
     private readonly options: DiagnosticsOptions,
     private readonly log: (m: string) => void,
     private readonly logError: (where: string, e: unknown) => void,
-  ) {}
+  ) {
+    this.publisher = new Publisher(connection, (u) => analyses.sources.read(u));
+  }
 
   /** An edit (or a settings change): run after the debounce; the first run of a document at once. */
   changed(uri: string, now = false): void {
@@ -60,7 +65,7 @@ export class DiagnosticsRun {
     this.timers.delete(uri);
     this.generation.delete(uri);
     this.lastPublished.delete(uri);
-    void this.connection.sendDiagnostics({ uri, diagnostics: [] });
+    this.publisher.closed(uri);
   }
 
   dispose(): void {
@@ -70,10 +75,22 @@ export class DiagnosticsRun {
 
   private readonly lastPublished = new Map<string, readonly Diagnostic[]>();
 
-  private publish(uri: string, version: number, a: Analysis, ds: readonly Diagnostic[]): void {
+  /**
+   * Publishes the document's diagnostics; those inside a parts file it brings in also in that file, at
+   * their place (`texts`: the parts files' texts as this analysis read them).
+   */
+  private publish(uri: string, version: number, a: Placing, ds: readonly Diagnostic[], texts: ReadonlyMap<string, string>): void {
     this.lastPublished.set(uri, ds);
     const sorted = [...ds].sort((x, y) => x.span.start - y.span.start || x.code.localeCompare(y.code));
-    void this.connection.sendDiagnostics({ uri, version, diagnostics: sorted.map((d) => toDiagnostic(a, uri, d)) });
+    const lent = new Map<string, Lent>();
+    for (const d of sorted) {
+      const p = inPartFile(a, uri, d);
+      if (!p) continue;
+      const l = lent.get(p.uri) ?? { text: texts.get(p.uri), diagnostics: [] };
+      l.diagnostics.push(p.diagnostic);
+      lent.set(p.uri, l);
+    }
+    this.publisher.publish(uri, version, sorted.map((d) => toDiagnostic(a, uri, d)), lent);
   }
 
   private async run(uri: string, gen: number): Promise<void> {
@@ -83,7 +100,13 @@ export class DiagnosticsRun {
     if (!current() || !doc) return;
     const version = doc.version;
     const t0 = performance.now();
-    const a = this.analyses.analysisOf(doc, s);
+    // an edit of a large model that changes only values, comments or spaces: the static diagnostics of the
+    // last analysis, moved (quickDiagnostics.ts); else the analysis of this version
+    const prev = this.analyses.previous(uri, s);
+    const quick = prev && prev.version !== version && this.analyses.slow({ doc, a: prev.analysis, s }) ? quickDiagnostics(doc, prev.analysis) : undefined;
+    const a = quick?.from ?? this.analyses.analysisOf(doc, s);
+    const place: Placing = quick?.placing ?? a;
+    const texts = quick?.files ?? partTexts(a);
     const t1 = performance.now();
     const d = { doc, a, s };
     const points = a.canSolve && a.pointNames.length > 0;
@@ -92,33 +115,41 @@ export class DiagnosticsRun {
     if (slow) {
       // static diagnostics at once; then the points' (solved in the worker); then what the linear models
       // add, built last, in the background: a hover or a lens asked meanwhile goes first
-      this.publish(uri, version, a, staticDiagnostics(a));
+      this.publish(uri, version, place, quick?.edit.diagnostics ?? staticDiagnostics(a), texts);
       // while typing goes on, the worker is not started for every keystroke
       await new Promise<void>((r) => setTimeout(r, POINT_DELAY_MS));
       if (!current()) return;
-      const snapshot = this.analyses.snapshot(d);
+      const snapshot = quick ? quickSnapshot(doc, quick, s.warnUnused) : this.analyses.snapshot(d);
       try {
         const points = await this.analyses.models.run(snapshot, { kind: 'pointDiagnostics' }, undefined, diagnosticsTag(uri));
         if (!current()) return;
-        this.publish(uri, version, a, points);
+        this.publish(uri, version, place, points, texts);
         ds = await this.analyses.models.run(snapshot, { kind: 'diagnostics' }, undefined, diagnosticsTag(uri));
       } catch (e) {
         if (e instanceof Cancelled) return;
         throw e;
       }
+    } else if (quick) {
+      // (not reached: quick diagnostics are only made for a slow model, whose earlier analysis had points)
+      ds = quick.edit.diagnostics;
     } else {
       ds = allDiagnostics(a);
     }
     const t2 = performance.now();
     if (points) this.analyses.notePointTime(uri, t2 - t1);
     if (!current() || this.analyses.documents.get(uri)?.version !== version) return;
-    if (!slow || !sameDiagnostics(ds, this.lastPublished.get(uri))) this.publish(uri, version, a, ds);
+    if (!slow || !sameDiagnostics(ds, this.lastPublished.get(uri))) this.publish(uri, version, place, ds, texts);
     if (this.options.timing) {
-      this.log(`diagnostics ${uri} v${version}: analyze ${(t1 - t0).toFixed(1)} ms, points ${(t2 - t1).toFixed(1)} ms${slow ? ' (worker; static diagnostics first)' : ''}, total ${(performance.now() - t0).toFixed(1)} ms`);
+      const how = quick ? ' (value edit: the last analysis\'s, moved)' : '';
+      this.log(`diagnostics ${uri} v${version}: analyze ${(t1 - t0).toFixed(1)} ms, points ${(t2 - t1).toFixed(1)} ms${slow ? ' (worker; static diagnostics first)' : ''}, total ${(performance.now() - t0).toFixed(1)} ms${how}`);
     }
   }
 }
 
+/** The texts of the parts files an analysis read, by address. */
+function partTexts(a: Analysis): Map<string, string> {
+  return new Map(a.documents.list.slice(1).map((x) => [x.uri, x.text] as const));
+}
 
 function sameDiagnostics(x: readonly Diagnostic[], y: readonly Diagnostic[] | undefined): boolean {
   if (!y || x.length !== y.length) return false;

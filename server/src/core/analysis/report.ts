@@ -20,6 +20,7 @@ import { Simulator } from './simulate';
 import { maxOf, pushAll } from '../arrays';
 import type { HoldMethod } from '../numeric/discretize';
 import { sampledModel } from './handoff/sampled';
+import { carefulLimit, fastLimit, SEARCH_RATIO, type LimitSearch } from './validitySearch';
 import { reducedModel } from './handoff/reduced';
 import { reducedPlain, sampledPlain, type ReducedPlain, type SampledPlain } from './handoff/plain';
 
@@ -36,6 +37,12 @@ export interface ReportOptions {
   title?: string;
   /** Samples of each step response (default 241). */
   samples?: number;
+  /**
+   * How the validity limits are searched: 'fast' (default) scouts with loose simulations and confirms next
+   * to the limit at the careful tolerance; 'careful' makes every trial at the careful tolerance. Both
+   * bracket each limit to a ratio of 1.04 between careful trials (analysis/validitySearch.ts).
+   */
+  validitySearch?: 'fast' | 'careful';
   /** Stop the validity search after this many milliseconds (default: no limit); what was found is kept. */
   validityBudgetMs?: number;
   /**
@@ -340,21 +347,26 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
       }
       const xScale = maxAbsCols(lr.x, n);
       const cache = new Map<number, ValiditySample & { message?: string }>();
-      const evaluate = (s: number): ValiditySample & { message?: string } => {
+      const looseCache = new Map<number, ValiditySample & { message?: string }>();
+      const evaluate = (s: number, careful: boolean): ValiditySample & { message?: string; careful: boolean } => {
         const hit = cache.get(s);
-        if (hit) return hit;
+        if (hit) return { ...hit, careful: true };
+        const lhit = careful ? undefined : looseCache.get(s);
+        if (lhit) return { ...lhit, careful: false };
         if (now() - t3 > budget) {
           outOfTime = true;
-          return { step: s, error: null, status: 'failed', message: 'not computed (time budget)' };
+          return { step: s, error: null, status: 'failed', message: 'not computed (time budget)', careful };
         }
         if (workLeft() < 1) {
           outOfWork = true;
-          return { step: s, error: null, status: 'failed', message: 'not computed (work budget)' };
+          return { step: s, error: null, status: 'failed', message: 'not computed (work budget)', careful };
         }
         const du = new Float64Array(m);
         du[j] = s;
-        // rtol 3e-5: a global error of about 4e-4 of the change, small against the tolerance
-        const r = sim.step({ du, horizon: T, times: vtimes, stateScale: xScale.map((v) => v * Math.abs(s)), rtol: 3e-5, maxSteps: Math.min(20000, workLeft()) });
+        // careful: rtol 3e-5, a global error of about 4e-4 of the change, small against the tolerance;
+        // loose (the fast search's scouting trials): rtol 1e-3, the error off by up to a tenth of itself
+        const rtol = careful ? 3e-5 : 1e-3;
+        const r = sim.step({ du, horizon: T, times: vtimes, stateScale: xScale.map((v) => v * Math.abs(s)), rtol, maxSteps: Math.min(20000, workLeft()) });
         spend(r);
         let error: number | null = null;
         if (r.status === 'ok') {
@@ -372,78 +384,51 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
           }
         }
         const smp = { step: s, error: error === null ? null : js(error), status: r.status, message: r.message };
-        cache.set(s, smp);
-        return smp;
+        (careful ? cache : looseCache).set(s, smp);
+        return { ...smp, careful };
       };
       const valid = (x: ValiditySample) => x.status === 'ok' && x.error !== null && x.error <= tolerance;
       const given = opts.steps && hasName(opts.steps, sys.inputs[j]) ? opts.steps[sys.inputs[j]] : undefined;
       const s0 = given !== undefined && Number.isFinite(given) && given !== 0 ? Math.abs(given) : 0.1 * basis;
       const cap = 10 * basis;
       const search = (sign: 1 | -1): ValidityLimit => {
-        let lo = 0; // largest valid magnitude
-        let hi = Infinity; // smallest invalid magnitude
-        let s = s0;
-        const first = evaluate(sign * s);
-        let domainMsg: string | undefined;
-        const note = (x: ValiditySample & { message?: string }, mag: number) => {
-          if (x.status === 'domain' && (domainMsg === undefined || mag <= hi)) domainMsg = x.message;
+        const spec: LimitSearch = {
+          tolerance, start: s0, cap, stopped: () => outOfTime || outOfWork,
+          trial: (mag, careful) => {
+            const x = evaluate(sign * mag, careful);
+            return { mag, error: x.error, status: x.status, message: x.message, careful: x.careful };
+          },
         };
-        // a smaller step shows how the difference falls off towards the point
-        evaluate((sign * s) / 2);
-        if (valid(first)) {
-          lo = s;
-          while (s < cap) {
-            s = Math.min(cap, 2 * s);
-            const x = evaluate(sign * s);
-            if (valid(x)) lo = s;
-            else {
-              hi = s;
-              note(x, s);
-              break;
-            }
-          }
-        } else {
-          hi = s;
-          note(first, s);
-          for (let k = 0; k < 16; k++) {
-            s /= 2;
-            const x = evaluate(sign * s);
-            if (valid(x)) {
-              lo = s;
-              break;
-            }
-            hi = s;
-            note(x, s);
-          }
-        }
-        if (lo > 0 && hi < Infinity) {
-          for (let k = 0; k < 12 && hi / lo > 1.04 && !outOfTime; k++) {
-            const mid = Math.sqrt(lo * hi);
-            const x = evaluate(sign * mid);
-            if (valid(x)) lo = mid;
-            else {
-              hi = mid;
-              note(x, mid);
-            }
-          }
-        }
+        const found = opts.validitySearch === 'careful' ? carefulLimit(spec) : fastLimit(spec);
+        let lo = found.lo;
+        let hi = found.hi;
         if (outOfTime) {
-          // only what was actually simulated counts
+          // only what was actually simulated (carefully) counts
           lo = 0;
           hi = Infinity;
           for (const x of cache.values()) {
-            if (Math.sign(x.step) !== sign) continue;
+            if (Math.sign(x.step) !== sign || x.message?.startsWith('not computed')) continue;
             const mag = Math.abs(x.step);
             if (valid(x)) lo = Math.max(lo, mag);
             else hi = Math.min(hi, mag);
           }
           if (hi <= lo) hi = Infinity;
         }
+        // the message of the smallest step found to leave the domain, up to the first invalid one
+        let domainMsg: string | undefined;
+        let domainMag = Infinity;
+        for (const x of cache.values()) {
+          const mag = Math.abs(x.step);
+          if (Math.sign(x.step) === sign && x.status === 'domain' && mag <= hi && mag < domainMag) {
+            domainMag = mag;
+            domainMsg = x.message;
+          }
+        }
         const firstInvalid = hi < Infinity ? hi : null;
         const inv = firstInvalid !== null ? cache.get(sign * firstInvalid) : undefined;
         let limitedBy: ValidityLimit['limitedBy'];
-        if (outOfTime && (lo === 0 || firstInvalid === null || firstInvalid / lo > 1.04)) limitedBy = 'time budget';
-        else if (outOfWork && (lo === 0 || firstInvalid === null || firstInvalid / lo > 1.04)) limitedBy = 'work budget';
+        if (outOfTime && (lo === 0 || firstInvalid === null || firstInvalid / lo > SEARCH_RATIO)) limitedBy = 'time budget';
+        else if (outOfWork && (lo === 0 || firstInvalid === null || firstInvalid / lo > SEARCH_RATIO)) limitedBy = 'work budget';
         else if (lo === 0) limitedBy = 'nothing valid';
         else if (firstInvalid === null) limitedBy = 'search limit';
         else limitedBy = inv && inv.status === 'domain' ? 'domain' : 'tolerance';
@@ -451,7 +436,9 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
       };
       rep.up = search(1);
       rep.down = search(-1);
-      rep.samples = [...cache.values()].map(({ step, error, status }) => ({ step, error, status })).sort((x, y) => x.step - y.step);
+      // the careful trials, and the loose ones where no careful trial was made (their errors a little rougher)
+      for (const [st, x] of looseCache) if (!cache.has(st)) cache.set(st, x);
+      rep.samples = [...cache.values()].filter((x) => !x.message?.startsWith('not computed')).map(({ step, error, status }) => ({ step, error, status })).sort((x, y) => x.step - y.step);
       if (outOfWork && !outOfTime) {
         rep.note = rep.samples.length ? 'The search stopped at its work budget: the range is at least as wide as shown.' : 'Not computed: the work budget ran out.';
         data.skipped.push(`Validity range of ${sys.inputs[j]}: ${rep.samples.length ? 'cut short' : 'not computed'} (work budget of ${budgetWork} integrator steps).`);

@@ -458,7 +458,7 @@ export class Simulator {
     }
     const outputTimes = Float64Array.from(tModel, (t) => t * ts);
     const t1 = outputTimes[outputTimes.length - 1];
-    const sol = integrateStiff({ n, f, jac }, { t0: 0, t1, x0: new Float64Array(n), rtol, atol, outputTimes, maxSteps: o.maxSteps ?? 20000 });
+    const sol = integrateStiff({ n, f, jac, autonomous: true }, { t0: 0, t1, x0: new Float64Array(n), rtol, atol, outputTimes, maxSteps: o.maxSteps ?? 20000 });
     stats.steps = sol.stats.steps;
     stats.rejected = sol.stats.rejected;
     stats.fEvals = sol.stats.fEvals;

@@ -177,7 +177,7 @@ export function checkStructure(lm: LoweredModel): StructureResult {
     const no = lm.algebraic.length - nv;
     const detail = `${nd} highest derivative(s), ${nv} var(s), ${no} output(s)`;
     const advice = nR > nC
-      ? `Remove ${nR - nC} equation(s) or declare ${nR - nC} more unknown(s); left over: ${unmatchedRows.map((r) => lm.equations[r].label).map((l) => `"${l}"`).join(', ')}.`
+      ? `Remove ${nR - nC} equation(s) or declare ${nR - nC} more unknown(s); left over: ${counted(unmatchedRows.map((r) => lm.equations[r].label))}.`
       : `Add ${nC - nR} equation(s) for ${listNames(unmatchedCols.map(slotName))}, or remove them.`;
     diagnostics.push(diag('P401', { start: 0, end: 0 }, { equations: nR, unknowns: nC, detail, advice }));
   }
@@ -199,4 +199,11 @@ export function checkStructure(lm: LoweredModel): StructureResult {
     diagnostics.push(diag('P404', lm.equations[lo.overRows[0]].span, { equations: eqs, unknowns: listNames(lo.overCols.map(slotName)), advice: 'these equations over-determine those unknowns while others have no equation' }));
   }
   return { ok: false, unknowns, diagnostics };
+}
+
+/** Equation texts in quotes, one line of an each block left over for several elements said once with its count. */
+function counted(labels: string[]): string {
+  const n = new Map<string, number>();
+  for (const l of labels) n.set(l, (n.get(l) ?? 0) + 1);
+  return [...n].map(([l, k]) => (k > 1 ? `"${l}" (${k} times, one per element)` : `"${l}"`)).join(', ');
 }

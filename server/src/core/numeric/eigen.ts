@@ -262,7 +262,7 @@ function tql1(d: Float64Array, e: Float64Array, n: number): boolean {
 // ------------------------------------------------------------ general blocks
 
 /** Balances h in place (D⁻¹ h D with power-of-two D); returns D's diagonal. Scaling only, no permutations. */
-function balance(h: Float64Array, n: number): Float64Array {
+export function balance(h: Float64Array, n: number): Float64Array {
   const scale = new Float64Array(n).fill(1);
   const RADIX = 2;
   const SQRDX = RADIX * RADIX;
@@ -316,7 +316,7 @@ function balance(h: Float64Array, n: number): Float64Array {
  * next reflection's pass, to each row just before that row gets the next right update. The column
  * the next reflection needs is brought up to date on its own first.
  */
-function orthes(h: Float64Array, n: number, ort: Float64Array, applied: Uint8Array): void {
+export function orthes(h: Float64Array, n: number, ort: Float64Array, applied: Uint8Array): void {
   const high = n - 1;
   let uPrev = new Float64Array(n);
   let uCur = new Float64Array(n);
@@ -431,7 +431,7 @@ function ortran(h: Float64Array, n: number, ort: Float64Array, applied: Uint8Arr
   return v;
 }
 
-function zeroBelowSubdiagonal(h: Float64Array, n: number): void {
+export function zeroBelowSubdiagonal(h: Float64Array, n: number): void {
   for (let i = 2; i < n; i++) {
     const row = i * n;
     for (let j = 0; j < i - 1; j++) h[row + j] = 0;
@@ -444,7 +444,7 @@ function zeroBelowSubdiagonal(h: Float64Array, n: number): void {
  * Results go to wr/wi at offset off. Returns false if some eigenvalue did not
  * converge (those entries are set to NaN).
  */
-function hqr(h: Float64Array, nn: number, wr: Float64Array, wi: Float64Array, off: number): boolean {
+export function hqr(h: Float64Array, nn: number, wr: Float64Array, wi: Float64Array, off: number): boolean {
   let norm = 0;
   for (let i = 0; i < nn; i++) {
     for (let j = Math.max(i - 1, 0); j < nn; j++) norm += Math.abs(h[i * nn + j]);

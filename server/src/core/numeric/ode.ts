@@ -30,6 +30,8 @@ export interface OdeProblem {
   f(t: number, x: Float64Array, dx: Float64Array): boolean;
   /** Dense row-major n×n ∂f/∂x. If absent, finite differences are used. */
   jac?(t: number, x: Float64Array, J: Float64Array): boolean;
+  /** f does not depend on t: ∂f/∂t is zero and is not estimated (saves one evaluation of f per Jacobian). */
+  autonomous?: boolean;
 }
 
 export interface OdeOptions {
@@ -421,6 +423,10 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
         if (!ok) return false;
         for (let i = 0; i < n; i++) J[i * n + j] = (tmp[i] - dy1[i]) / delt;
       }
+    }
+    if (p.autonomous) {
+      fx.fill(0);
+      return true;
     }
     let delt = Math.sqrt(EPS * Math.max(1e-5, Math.abs(t)));
     let tt = t + delt;

@@ -10,8 +10,9 @@ import { diag } from '../diagnostics';
 import { declaredValue, deviationEquations, linearize, type DeviationEquation, type LinearModel } from '../solve/linearizer';
 import { lower, type LoweredModel } from '../model/model';
 import { parse, type ParseResult } from '../syntax/parser';
-import { elaborate, type ElaborationResult, type Family, type PartDef } from '../semantics/elaborate';
+import { elaborate, type ElaborationResult, type Family, type PartDef, type PartScopes } from '../semantics/elaborate';
 import { loadParts, SourceDocuments } from './documents';
+import { explainMembers } from './memberNames';
 import { solvePoint, type PointSolution } from '../solve/pointSolver';
 import { sweepDiagnostics } from './sweepChecks';
 import { checkStructure, type StructureResult } from '../model/structure';
@@ -29,6 +30,14 @@ import { checkTolerances, type ToleranceFacts } from '../semantics/tolerances';
 
 export interface AnalyzeOptions {
   warnUnused?: boolean;
+}
+
+/** An edited text of an analysed document whose statements are the analysed ones, moved: `map` takes an offset of the analysed text to the edited one. */
+export interface EditedText {
+  text: string;
+  map(offset: number): number;
+  /** The comments of the edited text. */
+  comments: readonly { start: number; end: number }[];
 }
 
 export interface VariableValue {
@@ -89,11 +98,11 @@ export class Analysis {
     this.documents = loaded.documents;
     this.parts = loaded.parts;
     this.broughtBy = loaded.broughtBy;
-    const elab = elaborate(this.source.file, loaded.parts);
+    const elab = elaborate(this.source.file, loaded.parts, loaded.scopes);
     this.families = elab.families;
     this.instances = elab.instances;
     this.instanceFamilies = elab.instanceFamilies;
-    const before = [...this.source.diagnostics, ...loaded.diagnostics, ...elab.diagnostics, ...checkUnplacedParts(this.source.file, loaded.parts, elab, options)];
+    const before = [...this.source.diagnostics, ...loaded.diagnostics, ...elab.diagnostics, ...checkUnplacedParts(this.source.file, loaded.parts, elab, options, loaded.scopes)];
     this.parsed = elab.file === this.source.file && before.length === this.source.diagnostics.length ? this.source : { file: elab.file, diagnostics: before };
     this.bound = bind(this.parsed.file, { warnUnused: options.warnUnused, usedInIndices: elab.usedInIndices, indexRefs: elab.indexRefs });
     this.units = checkUnits(this.bound);
@@ -108,7 +117,7 @@ export class Analysis {
     this.structure = reduced.structure;
     this.indexPlan = reduced.plan;
     this.tolerances = checkTolerances(this.bound, this.units, allText);
-    this.diagnostics = this.attribute(unique([...this.parsed.diagnostics, ...this.bound.diagnostics, ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics, ...this.tolerances.diagnostics]));
+    this.diagnostics = this.attribute(unique([...this.parsed.diagnostics, ...explainMembers(this.bound.diagnostics, this.instances, (sp) => this.documents.slice(sp)), ...this.units.diagnostics, ...tables.diagnostics, ...this.structure.diagnostics, ...this.tolerances.diagnostics]));
     this.canSolve = this.structure.ok && !this.diagnostics.some((d) => d.severity === 'error' && !UNIT_ERRORS.has(d.code));
   }
 
@@ -243,22 +252,27 @@ export class Analysis {
    * Digest of the model and one point: a generated linear block is stale when it no longer matches.
    * It covers the model's text (without comments, points, linear and sweep blocks) and the lines of this
    * point that fix a value; guesses ("~") are left out, so solving a point does not make its block stale.
+   * `edited`: the digest of an edited text whose statements are those of this analysis with their spans
+   * moved (services/valueEdit.ts), without analysing it again.
    */
-  digest(point: string): string {
-    const cut: { start: number; end: number }[] = [...this.parsed.file.comments];
-    for (const st of this.parsed.file.statements) if (st.kind === 'linear' || st.kind === 'sweep' || st.kind === 'point') cut.push(st.span);
+  digest(point: string, edited?: EditedText): string {
+    const text = edited?.text ?? this.text;
+    const at = edited ? (sp: { start: number; end: number }) => ({ start: edited.map(sp.start), end: edited.map(sp.end) }) : (sp: { start: number; end: number }) => sp;
+    const cut: { start: number; end: number }[] = [...(edited?.comments ?? this.parsed.file.comments)];
+    for (const st of this.parsed.file.statements) if (st.kind === 'linear' || st.kind === 'sweep' || st.kind === 'point') cut.push(at(st.span));
     cut.sort((a, b) => a.start - b.start);
     let s = '';
     let pos = 0;
     for (const c of cut) {
-      if (c.start > pos) s += this.text.slice(pos, c.start);
+      if (c.start > pos) s += text.slice(pos, c.start);
       pos = Math.max(pos, c.end);
     }
-    s += this.text.slice(pos);
+    s += text.slice(pos);
     const block = this.pointBlock(point);
     const fixed = (block?.lines ?? [])
       .filter((l) => l.mode === 'fixed')
-      .map((l) => this.text.slice(l.span.start, l.span.end).replace(/#.*$/, '').replace(/\s+/g, ''))
+      .map((l) => at(l.span))
+      .map((sp) => text.slice(sp.start, sp.end).replace(/#.*$/, '').replace(/\s+/g, ''))
       .sort();
     // a table read from a file: its rows count too (a changed data sheet makes the block stale)
     const files = [...this.bound.tables.values()].filter((t) => t.file).map((t) => {
@@ -302,13 +316,13 @@ export class Analysis {
  * A part that nothing places (a library file opened on its own, a part just written) is still checked: its
  * lines as a model of their own, for names and units (not for balance: its inputs are tied where it is used).
  */
-function checkUnplacedParts(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>, elab: ElaborationResult, options: AnalyzeOptions): Diagnostic[] {
+function checkUnplacedParts(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>, elab: ElaborationResult, options: AnalyzeOptions, scopes: PartScopes): Diagnostic[] {
   const out: Diagnostic[] = [];
   const placed = new Set([...elab.instances.values()].map((i) => i.part.block));
   for (const st of file.statements) {
     if (st.kind !== 'part' || !st.name.name || placed.has(st) || parts.get(st.name.name)?.block !== st) continue;
     const place: A.PlaceStmt = { kind: 'place', part: st.name, name: { name: '', span: st.name.span }, overrides: [], span: st.headerSpan };
-    const e = elaborate({ statements: [place], comments: [], length: file.length }, parts);
+    const e = elaborate({ statements: [place], comments: [], length: file.length }, parts, scopes);
     const b = bind(e.file, { warnUnused: options.warnUnused, usedInIndices: e.usedInIndices, indexRefs: e.indexRefs });
     const u = checkUnits(b);
     for (const d of [...e.diagnostics, ...b.diagnostics, ...u.diagnostics]) {

@@ -14,7 +14,7 @@ import { diag, type Diagnostic } from '../diagnostics';
 import { parse, type ParseResult } from '../syntax/parser';
 import { LineMap, type Position, type Span } from '../text';
 import type { SourceHost } from '../sources';
-import type { PartDef } from '../semantics/elaborate';
+import type { PartDef, PartScopes } from '../semantics/elaborate';
 
 export interface SourceDocument {
   uri: string;
@@ -78,6 +78,8 @@ export interface LoadedParts {
   diagnostics: Diagnostic[];
   /** For each document other than the root: the span, in the root, of the parts line that brought it in first. */
   broughtBy: Map<string, Span>;
+  /** Where each document's place lines look parts up: its own parts and the ones its parts lines name. */
+  scopes: PartScopes;
 }
 
 /** `rel` resolved against the folder of `base` ('/' separated; `..` and `.` folded). Pure: no file system. */
@@ -140,10 +142,16 @@ export function loadParts(host: SourceHost, rootUri: string, rootText: string, r
     const d = docs.find((x) => x.uri === def.uri)!;
     return `${fileName(def.uri)} line ${d.lines.position(def.block.name.span.start - d.base).line + 1}`;
   };
-  const addParts = (doc: SourceDocument, only?: ReadonlySet<string>, at?: A.PartsFrom): void => {
+  const byUri = new Map<string, Map<string, PartDef>>();
+  /** The file-form parts lines with names of each document, and the document each brought in. */
+  const namedLines = new Map<string, { st: A.PartsFrom; uri: string }[]>();
+  /** Makes the parts of `doc` (only those in `only`, when given) placeable in the document `into`. */
+  const addParts = (into: string, doc: SourceDocument, only?: ReadonlySet<string>, at?: A.PartsFrom): void => {
+    let scope = byUri.get(into);
+    if (!scope) byUri.set(into, (scope = new Map()));
     for (const st of doc.parsed.file.statements) {
       if (st.kind !== 'part' || !st.name.name || (only && !only.has(st.name.name))) continue;
-      const prev = parts.get(st.name.name);
+      const prev = scope.get(st.name.name);
       if (prev && prev.block === st) continue;
       if (prev) {
         diagnostics.push(diag('P257', at ? at.path.span : st.name.span, { name: st.name.name, first: location(prev), second: location({ block: st, uri: doc.uri }) }, {
@@ -151,10 +159,12 @@ export function loadParts(host: SourceHost, rootUri: string, rootText: string, r
         }));
         continue;
       }
-      parts.set(st.name.name, { block: st, uri: doc.uri });
+      const def = { block: st, uri: doc.uri };
+      scope.set(st.name.name, def);
+      if (!parts.has(st.name.name)) parts.set(st.name.name, def);
     }
   };
-  addParts(docs[0]);
+  addParts(rootUri, docs[0]);
 
   const open = (uri: string): SourceDocument | undefined => {
     const had = docs.find((d) => d.uri === uri);
@@ -168,6 +178,7 @@ export function loadParts(host: SourceHost, rootUri: string, rootText: string, r
     const doc: SourceDocument = { uri, text, base, lines: new LineMap(text), parsed };
     docs.push(doc);
     for (const d of parsed.diagnostics) diagnostics.push(d);
+    addParts(uri, doc); // a file's parts may place one another
     return doc;
   };
 
@@ -202,12 +213,46 @@ export function loadParts(host: SourceHost, rootUri: string, rootText: string, r
             diagnostics.push(diag('P258', n.span, { file: fileName(d.uri), name: n.name, advice: list.length ? `its parts are ${list.join(', ')}` : 'it defines no part' }));
           }
         }
-        // every part of a file brought in may be placed (a named one may place its neighbours)
-        addParts(d, undefined, st);
+        // a parts line with names brings in those parts only (a named part still places its neighbours: the
+        // file's own scope); without names every part the file defines
+        addParts(doc.uri, d, st.names.length ? new Set(t.names.map((n) => n.name)) : undefined, st);
+        if (st.names.length && !folder) namedLines.set(doc.uri, [...(namedLines.get(doc.uri) ?? []), { st, uri: d.uri }]);
         if (!known) follow(d, [...chain, d.uri], line);
       }
     }
   };
   follow(docs[0], [rootUri], undefined);
-  return { documents: new SourceDocuments(docs), parts, diagnostics, broughtBy };
+  const hidden = (uri: string, name: A.Ident): Diagnostic | undefined => {
+    const def = docs.find((d) => d.parsed.file.statements.some((x) => x.kind === 'part' && x.name.name === name.name));
+    if (!def) return undefined;
+    const line = (namedLines.get(uri) ?? []).find((l) => l.uri === def.uri);
+    const here = docs.find((d) => d.uri === uri);
+    const foreign = here !== docs[0];
+    let fix: string;
+    let why: string;
+    let data: Record<string, unknown>;
+    if (line) {
+      const names = line.st.names.map((n) => n.name);
+      fix = `parts ${[...names, name.name].join(', ')} from "${line.st.path.text}"`;
+      why = `its parts line names only ${names.join(', ')}`;
+      data = { part: name.name, replace: line.st.span, text: fix };
+    } else {
+      fix = `parts ${name.name} from "${relativePath(uri, def.uri)}"`;
+      why = 'no parts line of this file names it';
+      data = { part: name.name, after: here?.parsed.file.statements.filter((x) => x.kind === 'parts').pop()?.span, text: fix };
+    }
+    return diag('P262', name.span, { name: name.name, file: fileName(def.uri), why, fix }, { data: foreign ? { part: name.name } : data });
+  };
+  return { documents: new SourceDocuments(docs), parts, diagnostics, broughtBy, scopes: { root: rootUri, byUri, hidden } };
+}
+
+/** The path of `to` relative to the folder of `from` ('/' separated), as a parts line writes it. */
+export function relativePath(from: string, to: string): string {
+  const split = (u: string) => u.replace(/\\/g, '/').split('/');
+  const a = split(from);
+  a.pop();
+  const b = split(to);
+  let k = 0;
+  while (k < a.length && k < b.length - 1 && a[k] === b[k]) k++;
+  return [...a.slice(k).map(() => '..'), ...b.slice(k)].join('/');
 }

@@ -6,6 +6,7 @@
  */
 import type * as A from '../syntax/ast';
 import { PREC_AND, PREC_COMPARE, PREC_OR } from '../syntax/lineParser';
+import type { Analysis } from '../pipeline/analysis';
 
 const PREC: Record<A.BinaryOp, number> = {
   '+': 1, '-': 1, '*': 2, '/': 2, '^': 4, or: PREC_OR, and: PREC_AND, '<': PREC_COMPARE, '<=': PREC_COMPARE, '>': PREC_COMPARE, '>=': PREC_COMPARE,
@@ -95,8 +96,20 @@ export function exprText(root: A.Expr): string {
   return out.join('');
 }
 
-/** The model text of a (flat) model file. */
-export function modelText(file: A.ModelFile): string {
+/**
+ * The expanded model of an analysis, as model text. A constant written only in sizes, ranges and indices
+ * (`n` of `state h[1..n]`) has no use left once every family is written out: it is kept as a comment, so
+ * that reading the text again gives no "declared but never used" warning the model itself does not have.
+ */
+export function expandedModelText(a: Analysis): string {
+  const used = new Set(a.bound.references.filter((r) => r.where !== 'index').map((r) => r.symbol.name));
+  const inIndices = new Set(a.bound.references.filter((r) => r.where === 'index').map((r) => r.symbol.name));
+  const sizesOnly = new Set([...inIndices].filter((n) => !used.has(n)));
+  return modelText(a.parsed.file, sizesOnly);
+}
+
+/** The model text of a (flat) model file; the constants in `asComments` are written as comments. */
+export function modelText(file: A.ModelFile, asComments: ReadonlySet<string> = new Set()): string {
   const lines: string[] = [];
   let lastKind = '';
   for (const st of file.statements) {
@@ -108,7 +121,8 @@ export function modelText(file: A.ModelFile): string {
         lines.push(`time${unitText(st.unit)}`);
         break;
       case 'const':
-        lines.push(`const ${st.name.name} = ${exprText(st.value)}`);
+        if (asComments.has(st.name.name)) lines.push(`# const ${st.name.name} = ${exprText(st.value)}   (used only in sizes and indices, written out here)`);
+        else lines.push(`const ${st.name.name} = ${exprText(st.value)}`);
         break;
       case 'input':
       case 'state':

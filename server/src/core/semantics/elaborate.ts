@@ -29,6 +29,14 @@ export interface Family {
   span: Span;
 }
 
+/** Where place lines look parts up, per document (built by pipeline/documents.ts). */
+export interface PartScopes {
+  root: string;
+  byUri: ReadonlyMap<string, ReadonlyMap<string, PartDef>>;
+  /** A part read but not brought in to the document `uri`: its diagnostic (P262), or undefined. */
+  hidden(uri: string, name: A.Ident): Diagnostic | undefined;
+}
+
 /** A part a model may place: its block and the document it is defined in. */
 export interface PartDef {
   block: A.PartBlock;
@@ -151,7 +159,7 @@ function usesFamilies(file: A.ModelFile): boolean {
  * Expands the families and the placed parts of a parsed model; a model without any returns the same tree.
  * `parts` are the parts the model may place (its own and those its `parts from` lines bring in).
  */
-export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef> = new Map()): ElaborationResult {
+export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef> = new Map(), scopes?: PartScopes): ElaborationResult {
   const families = new Map<string, Family>();
   const usedInIndices = new Set<string>();
   const indexRefs: { name: string; span: Span }[] = [];
@@ -460,8 +468,11 @@ export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>
 
   /** `place PART as NAME[range] with …`: the part's body once per instance, its names under the instance's. */
   const place = (st: A.PlaceStmt, bind: ReadonlyMap<string, number>, sink: A.Statement[], scope?: Scope): void => {
-    const def = parts.get(st.part.name);
-    if (!def) throw new ElabError(diag('P251', st.part.span, { name: st.part.name }));
+    // the parts of the document the place line is in: its own and those its parts lines name
+    const from = scope ? scope.part.uri : scopes?.root;
+    const reach = from !== undefined ? scopes?.byUri.get(from) : undefined;
+    const def = (reach ?? parts).get(st.part.name);
+    if (!def) throw new ElabError((from !== undefined && scopes?.hidden(from, st.part)) || diag('P251', st.part.span, { name: st.part.name }));
     const stack = scope?.stack ?? [];
     if (stack.includes(def.block.name.name)) {
       throw new ElabError(diag('P252', st.part.span, { name: def.block.name.name, chain: [...stack, def.block.name.name].join(' → ') }, { related: [{ span: def.block.name.span, message: `part ${def.block.name.name}` }] }));

@@ -46,9 +46,33 @@ export function parseUnit(text: string): UnitInfo | string {
   if (t === '' || t === '1' || t === '-') r = { ...ONE_UNIT, text: t || '1' };
   else if (t === '%') r = { text: '%', dims: DIMENSIONLESS, scale: 0.01, offset: 0 };
   else if (t === 'ppm') r = { text: 'ppm', dims: DIMENSIONLESS, scale: 1e-6, offset: 0 };
-  else r = scaledUnit(t) ?? parseUnitFast(t) ?? parseUnitMathjs(t);
+  else {
+    // mathjs's unit grammar has no power of a parenthesised group: (m^3/h)^2 is read as (m^6/h^2)
+    const u = /\)\s*\^/.test(t) ? distributePowers(t) : t;
+    r = scaledUnit(u) ?? parseUnitFast(u) ?? parseUnitMathjs(u);
+    if (typeof r === 'object' && u !== t) r = { ...r, text: t };
+  }
   cache.set(t, r);
   return r;
+}
+
+const POWER = /\(((?:[^()]|\([^()]*\))*)\)\s*\^\s*([+-]?\d+(?:\.\d+)?)/;
+
+/**
+ * Unit text with every power of a parenthesised group moved onto the units inside it, innermost first:
+ * `m/(m^3/h)^2` → `m/(m^6/h^2)`, `(kg*m/s^2)^0.5` → `(kg^0.5*m^0.5/s^1)`. A group holding a number is left
+ * as written (mathjs then words the error).
+ */
+export function distributePowers(text: string): string {
+  let t = text;
+  for (let guard = 0; guard < 100; guard++) {
+    const m = POWER.exec(t);
+    if (!m || /\d/.test(m[1].replace(/\^\s*[+-]?\d+(?:\.\d+)?/g, '').replace(/[\p{L}_][\p{L}\p{N}_]*/gu, ''))) return t;
+    const p = Number(m[2]);
+    const inner = m[1].replace(/([\p{L}_][\p{L}\p{N}_]*)(?:\s*\^\s*([+-]?\d+(?:\.\d+)?))?/gu, (_, name: string, e?: string) => `${name}^${Number(((e === undefined ? 1 : Number(e)) * p).toPrecision(12))}`);
+    t = t.slice(0, m.index) + `(${inner})` + t.slice(m.index + m[0].length);
+  }
+  return t;
 }
 
 /** A number written first in unit text ("1000" of "1000 kg/s"), as mathjs's unit grammar reads one. */

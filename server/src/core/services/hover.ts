@@ -28,6 +28,7 @@ import { maxOf, minOf, pushAll } from '../arrays';
 import { handoffHoverLines } from './handoffHover';
 import { memberAt } from './partMembers';
 import type { PartDef } from '../semantics/elaborate';
+import { headAt } from './headNames';
 import { modelParameters, rankedEffects, sensitivities } from '../analysis/sensitivity';
 import { DENSE_EIGENVECTORS_UP_TO } from '../analysis/sensitivity/eigenpairs';
 
@@ -128,6 +129,13 @@ function partHover(a: Analysis, offset: number): HoverResult | undefined {
       const def = a.parts.get(st.name.name);
       return def ? { markdown: summary(def), span: st.name.span } : undefined;
     }
+  }
+  // an instance's name (on its place line or before a member: `fill` of `fill[i].q`): the instance and its part
+  const head = headAt(a, offset);
+  if (head && head.kind === 'instance') {
+    const f = a.instanceFamilies.get(head.name);
+    const def = f?.part ?? a.instances.get(head.name)?.part;
+    if (def) return { markdown: `**instance** ${code(f ? `${head.name}[${f.from}..${f.to}]` : head.name)} of part ${code(def.block.name.name)}\n\n${summary(def)}`, span: head.span };
   }
   const m = memberAt(a, offset);
   if (!m || !within(m.part.block.span) || a.text[m.span.start - 1] === '.') return undefined;

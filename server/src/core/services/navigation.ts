@@ -14,9 +14,12 @@ import type { Span } from '../text';
 import { applyEdits, type TextEdit } from './edits';
 import { targetAt, type Target } from './locate';
 import { memberAt, memberOccurrences } from './partMembers';
+import { fromHead, headAt, headClash, headDeclaration, headOccurrences } from './headNames';
 
 /** Where the name at `offset` is declared (a point: its header name). */
 export function definition(a: Analysis, offset: number): Span[] {
+  const head = headAt(a, offset);
+  if (head) return [headDeclaration(a, head.name) ?? head.span];
   const t = targetAt(a, offset);
   if (!t) return [];
   if (t.kind === 'symbol') return [t.symbol.span];
@@ -30,6 +33,9 @@ export function references(a: Analysis, offset: number, includeDeclaration = tru
   // a name of a part: through every instance, in every document
   const member = memberAt(a, offset);
   if (member) return memberOccurrences(a, member, includeDeclaration);
+  // a family or an instance of the model: the written name in every element or qualified name
+  const head = headAt(a, offset);
+  if (head) return headOccurrences(a, head.name, includeDeclaration);
   const t = targetAt(a, offset);
   if (!t) return [];
   return occurrences(a, t, includeDeclaration);
@@ -60,8 +66,12 @@ export interface RenameTarget {
 export function prepareRename(a: Analysis, offset: number): RenameTarget | undefined {
   const member = memberAt(a, offset);
   if (member) return { span: member.span, placeholder: member.name };
+  const head = headAt(a, offset);
+  if (head) return { span: head.span, placeholder: head.name };
   const t = targetAt(a, offset);
   if (!t) return undefined;
+  // an element or a qualified name is renamed through its family's or instance's name, or its member's
+  if (t.kind === 'symbol' && fromHead(a, t.symbol.name)) return undefined;
   if (t.kind === 'symbol') return { span: t.span, placeholder: t.symbol.name };
   if (t.kind === 'point' && t.block) return { span: t.span, placeholder: t.name };
   if (t.kind === 'sweep') return { span: t.span, placeholder: t.block.name.name };
@@ -90,8 +100,16 @@ export function rename(a: Analysis, offset: number, newName: string): RenameResu
     if (partNamesOf(member.part.block).has(newName)) return { ok: false, message: `"${newName}" is already declared in part ${member.part.block.name.name}: choose another name.` };
     return { ok: true, edits: memberOccurrences(a, member, true).map((span) => ({ span, newText: newName })) };
   }
+  const head = headAt(a, offset);
+  if (head) {
+    if (newName === head.name) return { ok: true, edits: [] };
+    const bad = invalidName(newName) ?? headClash(a, newName);
+    if (bad) return { ok: false, message: bad };
+    return { ok: true, edits: withDigests(a, headOccurrences(a, head.name).map((span) => ({ span, newText: newName }))) };
+  }
   const t = targetAt(a, offset);
   const prep = prepareRename(a, offset);
+  if (t && !prep && t.kind === 'symbol' && fromHead(a, t.symbol.name)) return { ok: false, message: `Put the cursor on the family's or instance's name, or on the member's name after the dot, to rename it (not on ${t.symbol.name}'s index).` };
   if (!t || !prep) return { ok: false, message: 'Put the cursor on a declared name, a point name or a sweep name to rename it.' };
   if (newName === prep.placeholder) return { ok: true, edits: [] };
   const bad = invalidName(newName);
@@ -100,14 +118,15 @@ export function rename(a: Analysis, offset: number, newName: string): RenameResu
   if (t.kind === 'point' && a.pointNames.includes(newName)) return { ok: false, message: `There is already a point "${newName}".` };
   if (t.kind === 'sweep' && a.bound.sweeps.some((s) => s.name.name === newName)) return { ok: false, message: `There is already a sweep "${newName}".` };
   const edits: TextEdit[] = occurrences(a, t, true).map((span) => ({ span, newText: newName }));
-  // generated blocks that were up to date stay up to date: recompute their digests for the renamed model
+  return { ok: true, edits: withDigests(a, edits, t.kind === 'point' ? { from: t.name, to: newName } : undefined) };
+}
+
+/** The edits plus new digests for the generated blocks that were up to date, so they stay up to date. */
+function withDigests(a: Analysis, edits: TextEdit[], point?: { from: string; to: string }): TextEdit[] {
   const fresh = a.bound.linears.filter((lb) => lb.name.name && lb.digest && a.pointBlock(lb.name.name) && lb.digest.text.trim() === a.digest(lb.name.name));
   if (fresh.length) {
     const b = a.withText(applyEdits(a.text, edits));
-    for (const lb of fresh) {
-      const point = t.kind === 'point' && lb.name.name === t.name ? newName : lb.name.name;
-      edits.push({ span: lb.digest!.span, newText: b.digest(point) });
-    }
+    for (const lb of fresh) edits.push({ span: lb.digest!.span, newText: b.digest(point && lb.name.name === point.from ? point.to : lb.name.name) });
   }
-  return { ok: true, edits };
+  return edits;
 }

@@ -4,6 +4,7 @@
  *   that kind), or change it to a declared name / built-in function spelled nearly the same;
  * - P501 unbalanced point → fix the missing values with "=" (turning a "~" line into "=" or adding
  *   `name = 1 [unit]`), or free a fixed value (turning "=" into "~");
+ * - P262 a part of a file read but not named on the parts line → add it to that line (or write a parts line);
  * - P601 stale generated block → regenerate it.
  * Pure: returns titles and text edits.
  */
@@ -44,6 +45,7 @@ export function quickFixes(a: Analysis, diagnostics: readonly DiagnosticRef[], d
     switch (d.code) {
       case 'P201': pushAll(out, unknownName(a, d, data)); break;
       case 'P501': pushAll(out, unbalancedPoint(a, d, data)); break;
+      case 'P262': pushAll(out, partsLineFix(a, d, data)); break;
       case 'P601': {
         const point = typeof data.point === 'string' ? data.point : undefined;
         const r = point ? linearizeEdit(a, point, digits) : undefined;
@@ -53,6 +55,18 @@ export function quickFixes(a: Analysis, diagnostics: readonly DiagnosticRef[], d
     }
   }
   return out;
+}
+
+/** P262: the parts line with the part's name added, or a new parts line after the last one (in the model's own text). */
+function partsLineFix(a: Analysis, d: DiagnosticRef, data: Record<string, unknown>): QuickFix[] {
+  const text = typeof data.text === 'string' ? data.text : undefined;
+  const part = typeof data.part === 'string' ? data.part : '';
+  const span = (x: unknown): Span | undefined => (x && typeof x === 'object' && typeof (x as Span).start === 'number' && typeof (x as Span).end === 'number' && (x as Span).end <= a.text.length ? (x as Span) : undefined);
+  const replace = span(data.replace);
+  const after = span(data.after);
+  if (!text) return [];
+  const edit = replace ? { span: replace, newText: text } : after ? { span: { start: after.end, end: after.end }, newText: eol(a.text) + text } : { span: { start: 0, end: 0 }, newText: text + eol(a.text) };
+  return [{ title: catalogueText('P730', { name: part, line: text }), edits: [edit], isPreferred: true, diagnostic: d }];
 }
 
 function unknownName(a: Analysis, d: DiagnosticRef, data: Record<string, unknown>): QuickFix[] {

@@ -100,9 +100,17 @@ export function documentOutline(a: Analysis): OutlineItem[] {
     return { name, kind: 'instance' as const, span: st.span, selection: st.name.span, detail: `${st.part.name}${f ? ` ×${f.to - f.from + 1}` : ''}${withs ? ` with ${withs}` : ''}` };
   }));
   group('Equations', m.equations.filter((e) => !a.documents.foreign(e.span) && !inPart(e.span)).filter((e, k, all) => all.indexOf(e) === k && all.findIndex((x) => x.span.start === e.span.start) === k).map((e) => ({ name: oneLine(a.text.slice(e.span.start, e.span.end)), kind: 'equation', span: e.span, selection: e.eqSpan })));
+  // the lines as written: a family's line (`t.level ~ 1 [m]`) stands for one line per element, all on one span
+  const written = (p: A.PointBlock) => p.lines.filter((l, k, all) => all.findIndex((x) => x.span.start === l.span.start) === k);
   group('Points', m.points.filter((p) => p.name.name).map((p) => ({
-    name: p.name.name, kind: 'point', span: p.span, selection: p.name.span, detail: `${p.lines.length} line(s)`,
-    children: p.lines.map((l) => ({ name: l.name.name, kind: 'pointLine' as const, detail: `${l.mode === 'fixed' ? '=' : '~'} ${oneLine(a.text.slice(l.value.span.start, l.value.span.end))}`, span: l.span, selection: l.name.span })),
+    name: p.name.name, kind: 'point', span: p.span, selection: p.name.span, detail: `${written(p).length} line(s)`,
+    children: written(p).map((l) => {
+      // the name and the value as written (`h[2]`, `cell.level`, `{1, 2, 3} [m]`), not one element's
+      const w = /^\s*(.*?)\s*[=~]\s*([^]*)$/.exec(a.documents.foreign(l.span) ? '' : a.text.slice(l.span.start, l.span.end));
+      const name = w ? w[1] : l.name.name;
+      const value = w ? w[2] : a.text.slice(l.value.span.start, l.value.span.end);
+      return { name, kind: 'pointLine' as const, detail: `${l.mode === 'fixed' ? '=' : '~'} ${oneLine(value)}`, span: l.span, selection: l.name.span };
+    }),
   })));
   group('Linear blocks', m.linears.map((l) => ({ name: l.name.name || '(unnamed)', kind: 'linear', span: l.span, selection: l.name.name ? l.name.span : l.headerSpan, detail: `${l.equations.length} equation(s)` })));
   group('Sweeps', m.sweeps.map((s) => ({ name: s.name.name || '(unnamed)', kind: 'sweep', span: s.span, selection: s.name.name ? s.name.span : s.headerSpan, detail: s.point ? `from ${s.point.name}` : undefined })));

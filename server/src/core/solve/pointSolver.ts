@@ -110,7 +110,62 @@ export function pointSetup(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     if (!fixed.has(sl.id) && !guessed.has(sl.id)) values[sl.id] = sl.scale * 1 + sl.offset; // default guess: 1 in its unit
     if (!fixed.has(sl.id)) candidates.push(sl.id);
   }
+  // a start outside the model's domain (a residual not a number): unknowns tied to guessed values start there
+  if (outsideDomain(lm, values)) {
+    const before = Float64Array.from(values);
+    tiedGuesses(lm, values, fixed, guessed);
+    if (outsideDomain(lm, values) >= outsideDomain(lm, before)) values.set(before);
+  }
   return { values, fixed, unknowns: candidates, lineOf };
+}
+
+/**
+ * An unknown without a guess that an equation ties to one other value — `fill[1].p_up = p_header`: a
+ * part's input tied from outside; the user guessed the header, not the instances' copies of it — starts at
+ * that value instead of 1 in its unit, which can lie outside the model's domain (a square root of a
+ * negative pressure difference). Only copies `x = y` (two terms, each a bare value) whose other side is
+ * fixed, guessed or tied already; and only when the default start lies outside the model's domain and the
+ * tied start lies inside it more: laws keep their default start, so the solver's path elsewhere is unchanged.
+ */
+/** How many equations have no number as residual at these values (a square root of a negative, …). */
+function outsideDomain(lm: LoweredModel, values: Float64Array): number {
+  let n = 0;
+  for (const eq of lm.equations) if (Number.isNaN(E.evaluate(eq.residual, values))) n++;
+  return n;
+}
+
+function tiedGuesses(lm: LoweredModel, values: Float64Array, fixed: ReadonlySet<number>, guessed: ReadonlySet<number>): void {
+  const known = (id: number) => fixed.has(id) || guessed.has(id) || lm.slots[id].kind === 'const' || tied.has(id) || lm.slots[id].kind === 'deriv' || (lm.slots[id].kind === 'state' && lm.slots[id].order > 0);
+  const tied = new Set<number>();
+  const bare = (n: E.Node): { id: number; sign: number } | undefined => {
+    if (n.t === 'sym') return { id: n.id, sign: 1 };
+    if (n.t === 'mul' && n.args.length === 2 && n.args[0].t === 'num' && Math.abs(n.args[0].v) === 1 && n.args[1].t === 'sym') return { id: n.args[1].id, sign: n.args[0].v };
+    return undefined;
+  };
+  for (let pass = 0; pass < 4; pass++) {
+    let more = false;
+    for (const eq of lm.equations) {
+      const r = eq.residual;
+      if (r.t !== 'add' || r.args.length !== 2) continue; // a copy x = y only (a tie), not a law
+      let pick = -1;
+      let open = 0;
+      for (let k = 0; k < r.args.length; k++) {
+        for (const id of E.slots(r.args[k])) if (!known(id)) open++;
+        const b = bare(r.args[k]);
+        if (b && !known(b.id)) pick = k;
+      }
+      if (pick < 0 || open !== 1) continue; // exactly one unknown without a value, written alone
+      const b = bare(r.args[pick])!;
+      let rest = 0;
+      for (let k = 0; k < r.args.length; k++) if (k !== pick) rest += E.evaluate(r.args[k], values);
+      const v = -rest / b.sign;
+      if (!Number.isFinite(v)) continue;
+      values[b.id] = v;
+      tied.add(b.id);
+      more = true;
+    }
+    if (!more) break;
+  }
 }
 
 /** P512 for every point line whose value (SI) is not finite; a constant computed from others points at its declaration. */
@@ -333,7 +388,7 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     let accepted = false;
     const sig0 = switches.length ? signature() : '';
     for (let ls = 0; ls < 40; ls++) {
-      for (let j = 0; j < nU; j++) values[unknowns[j]] = x0[j] + alpha * dy[j] * xs[j];
+      for (let j = 0; j < nU; j++) values[unknowns[j]] = landed(x0[j], alpha * dy[j], xs[j]);
       const f = evalF();
       if (!Number.isNaN(f) && phi() <= (1 - 1e-4 * alpha) * phi0 + 1e-300) {
         fmax = f;
@@ -411,7 +466,7 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
       let moved = false;
       for (let j = 0; j < nU; j++) {
         x0[j] = values[unknowns[j]];
-        const v = x0[j] + dy[j] * xs[j];
+        const v = landed(x0[j], dy[j], xs[j]);
         if (Number.isFinite(v)) values[unknowns[j]] = v;
         if (values[unknowns[j]] !== x0[j]) moved = true;
       }
@@ -507,4 +562,14 @@ function lmStep(nR: number, nU: number, e: { rows: Int32Array; cols: Int32Array;
   const lu = sparseLU(nU, entries);
   if (!lu.ok) return null;
   return lu.solve(g);
+}
+
+/**
+ * x0 moved by the scaled step dy (in units of the unknown's size xs). A value that is exactly 0 (a spill on
+ * its zero branch) moved by a step below the resolution of its size (|dy| ≤ 64 ulps: noise of the coupled
+ * solve) stays 0: written as −1.034e-25 [m^3/h], such residue would change again at the next Solve. The
+ * solver's own residual measure (sizes of at least the unit) cannot tell such a value from 0 anyway.
+ */
+function landed(x0: number, dy: number, xs: number): number {
+  return x0 === 0 && Math.abs(dy) <= 64 * Number.EPSILON ? 0 : x0 + dy * xs;
 }

@@ -8,7 +8,8 @@
 import type { eigenvectors } from '../../numeric/eigen';
 import { blockEigenpairs } from './blockEigenpairs';
 import { eigenpairs } from './eigenpairs';
-import { luFactor } from '../../numeric/dense';
+import { sparseLU, type SparseLUResult } from '../../numeric/sparseLU';
+import type { CsrMatrix } from '../../numeric/csr';
 import type { Analysis } from '../../pipeline/analysis';
 import { linearSystem, perUnit } from '../dynamics/system';
 import { stabilityOf } from '../dynamics/modes';
@@ -50,8 +51,8 @@ export interface Sensitivities {
 /** Conditions beyond this mark an eigenvalue as (nearly) defective: its first-order derivative means little. */
 export const ILL_CONDITIONED = 1e8;
 
-/** `sparseEigenvectors`: the sparse inverse-iteration route at any size (tests compare it with the dense one). */
-export function sensitivities(a: Analysis, pointName?: string, params?: ParameterInfo[], opts: { sparseEigenvectors?: boolean } = {}): Sensitivities {
+/** `sparseEigenvectors`: the inverse-iteration route at any size, 'lu' without its band LU (tests compare the routes). */
+export function sensitivities(a: Analysis, pointName?: string, params?: ParameterInfo[], opts: { sparseEigenvectors?: boolean | 'lu' } = {}): Sensitivities {
   const pd = pointDerivatives(a, pointName, params);
   const empty = (problem: string): Sensitivities => ({ ok: false, problem, point: pd.point, timeUnit: '', parameters: [], modes: [], gains: [], axisTol: 0 });
   if (!pd.ok || !pd.lin) return empty(pd.problem ?? 'no linear model');
@@ -78,7 +79,7 @@ export function sensitivities(a: Analysis, pointName?: string, params?: Paramete
     const d = pd.derivatives.map((der) => eigenDerivative(der, ev, n, k));
     return { number: idx + 1, eigenvalue: { re: ev.re[k], im: ev.im[k] }, condition: Math.sqrt(nv * nw), d };
   });
-  return { ok: true, point: pd.point, timeUnit: lin.timeUnit, parameters, modes, gains: gainSensitivities(sys, pd.derivatives, n, m, p), axisTol };
+  return { ok: true, point: pd.point, timeUnit: lin.timeUnit, parameters, modes, gains: gainSensitivities(sys, pd.derivatives, n, m, p, lin.sparse.A), axisTol };
 }
 
 /** wᴴ·dA·v over the non-zeros of dA (w normalised so that wᴴv = 1), per declared unit of the parameter. */
@@ -97,25 +98,28 @@ function eigenDerivative(der: PointDerivative, ev: ReturnType<typeof eigenvector
   return { re: re * s, im: ev.im[k] === 0 ? 0 : im * s };
 }
 
-function gainSensitivities(sys: ReturnType<typeof linearSystem>, ders: PointDerivative[], n: number, m: number, p: number): GainSensitivity[] {
+function gainSensitivities(sys: ReturnType<typeof linearSystem>, ders: PointDerivative[], n: number, m: number, p: number, Acsr: CsrMatrix): GainSensitivity[] {
   if (!m || !p) return [];
-  const lu = n ? luFactor({ rows: n, cols: n, data: sys.A }) : undefined;
-  if (lu && !lu.ok) return [];
-  // Y = A⁻¹B (n×m, column j), Zᵀ = C·A⁻¹ (p×n, row i: Aᵀ z = c_iᵀ)
+  // one sparse LU of A serves both Y = A⁻¹B (n×m, column j) and Zᵀ = C·A⁻¹ (p×n, row i: Aᵀ z = c_iᵀ)
+  let lu: SparseLUResult | undefined;
+  if (n) {
+    const nnz = Acsr.rowPtr[n];
+    const rows = new Int32Array(nnz);
+    for (let i = 0; i < n; i++) rows.fill(i, Acsr.rowPtr[i], Acsr.rowPtr[i + 1]);
+    lu = sparseLU(n, { rows, cols: Int32Array.from(Acsr.colIdx.subarray(0, nnz)), vals: Float64Array.from(Acsr.values.subarray(0, nnz)), nnz });
+    if (!lu.ok) return [];
+  }
   const Y: Float64Array[] = [];
   for (let j = 0; j < m; j++) {
     const b = new Float64Array(n);
     for (let k = 0; k < n; k++) b[k] = sys.B[k * m + j];
     Y.push(lu ? lu.solve(b) : b);
   }
-  const At = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) At[j * n + i] = sys.A[i * n + j];
-  const luT = n ? luFactor({ rows: n, cols: n, data: At }) : undefined;
   const Z: Float64Array[] = [];
   for (let i = 0; i < p; i++) {
     const c = new Float64Array(n);
     for (let k = 0; k < n; k++) c[k] = sys.C[i * n + k];
-    Z.push(luT && luT.ok ? luT.solve(c) : c);
+    Z.push(lu ? lu.solveTranspose(c) : c);
   }
   const out: GainSensitivity[] = [];
   for (let i = 0; i < p; i++) {
