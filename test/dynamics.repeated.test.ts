@@ -127,3 +127,75 @@ describe('identical tanks in series: a defective double eigenvalue', () => {
     expect(formatReportText(buildReport(a, 'p', { validity: false, samples: 21 }))).toMatch(/\(×2, 1 eigenvector\)/);
   });
 });
+
+describe('twin carts on springs pushed in parallel: a complex pair loses a plane', () => {
+  // two identical carts (mass m, spring ks, damper c) each pushed by half of one force, the output their
+  // summed position: the difference x1 − x2, v1 − v2 moves as an undriven damped oscillator that no
+  // input moves and no output sees (common practice for identical subsystems in parallel). Its modes are
+  // the pair λ = −c/(2m) ± i·√(ks/m − (c/2m)²); what is lost is the real plane of Re w and Im w, here
+  // spanned by (x1 − x2)/√2 and (v1 − v2)/√2
+  const a = analyze(dedent(`
+    const m = 2 [kg]
+    const ks = 50 [N/m]
+    const c = 1 [N*s/m]
+    input push [N]
+    state x1, x2 [m]
+    state v1, v2 [m/s]
+    output sum [m] = x1 + x2
+    x1' = v1
+    x2' = v2
+    m*v1' = push/2 - ks*x1 - c*v1
+    m*v2' = push/2 - ks*x2 - c*v2
+    point p:
+      push = 10 [N]
+  `));
+  const lin = a.linear('p')!;
+  const dyn = analyzeDynamics(lin);
+  const order = ['x1', 'x2', 'v1', 'v2'];
+  const vec = (d: { state: string; weight: number }[]) => order.map((s) => d.find((t) => t.state === s)?.weight ?? 0);
+
+  it('names two orthonormal directions in the difference plane, for controllability and observability', () => {
+    for (const test of [dyn.controllability, dyn.observability]) {
+      expect(test.rank).toBe(2);
+      expect(test.failing).toHaveLength(1);
+      const f = test.failing[0];
+      expect(f.re).toBeCloseTo(-1 / 4, 12);
+      expect(f.im).toBeCloseTo(Math.sqrt(25 - 1 / 16), 12);
+      expect(f.directions).toHaveLength(2);
+      const [d1, d2] = f.directions.map(vec);
+      // in the plane: weight(x1) = −weight(x2), weight(v1) = −weight(v2); orthonormal; spanning it
+      for (const d of [d1, d2]) {
+        expect(d[0] + d[1]).toBeCloseTo(0, 3);
+        expect(d[2] + d[3]).toBeCloseTo(0, 3);
+        expect(Math.hypot(...d)).toBeCloseTo(1, 3);
+      }
+      expect(d1.reduce((s, x, i) => s + x * d2[i], 0)).toBeCloseTo(0, 3);
+      expect(Math.abs(d1[0] * d2[2] - d1[2] * d2[0])).toBeCloseTo(0.5, 3); // |det| of the plane's 2×2 coordinates
+      // turned to the plane's nearest direction to one state: (x1 − x2)/√2, then (v1 − v2)/√2
+      d1.forEach((x, i) => expect(x).toBeCloseTo([Math.SQRT1_2, -Math.SQRT1_2, 0, 0][i], 9));
+      d2.forEach((x, i) => expect(x).toBeCloseTo([0, 0, Math.SQRT1_2, -Math.SQRT1_2][i], 9));
+    }
+  });
+
+  it('independent route: the lost plane P has Pᵀ·B = 0 and Aᵀ maps P into P (from the linear model\'s own matrices)', () => {
+    const { A, B, n, m } = lin;
+    const P = dyn.controllability.failing[0].directions.map((d) => lin.states.map((s) => d.find((t) => t.state === s)?.weight ?? 0));
+    for (const w of P) {
+      for (let j = 0; j < m; j++) expect(Math.abs(w.reduce((s, x, i) => s + x * B[i * m + j], 0))).toBeLessThan(1e-9);
+      const At = Array.from({ length: n }, (_, j) => w.reduce((s, x, i) => s + x * A[i * n + j], 0));
+      // the residual of Aᵀw after projecting on P is zero
+      const r = At.slice();
+      for (const q of P) {
+        const d = q.reduce((s, x, i) => s + x * At[i], 0);
+        for (let i = 0; i < n; i++) r[i] -= d * q[i];
+      }
+      expect(Math.hypot(...r)).toBeLessThan(1e-6 * Math.hypot(...At));
+    }
+  });
+
+  it('the report text prints both directions', () => {
+    const text = formatReportText(buildReport(a, 'p', { validity: false, samples: 21 }));
+    expect(text).toContain('uncontrollable: mode 1 (directions 0.707·x1 − 0.707·x2; 0.707·v1 − 0.707·v2)');
+    expect(text).toContain('unobservable: mode 1 (directions 0.707·x1 − 0.707·x2; 0.707·v1 − 0.707·v2)');
+  });
+});

@@ -30,8 +30,8 @@ export function analyzeDynamics(linOrSys: LinearModel | LinearSystem, opts: Dyna
   const stability = verdict(sys, modes, rho, axisTol, raw);
   // the directions lost, from the unbalanced system (in declared units)
   const At = transpose(sys.A, n, n);
-  const controllability = rankTest(modes, ctrlDef, n, (md, d) => lostDirections(At, transpose(sys.B, n, sys.m), n, sys.m, md.re, d, sys.states));
-  const observability = rankTest(modes, obsDef, n, (md, d) => lostDirections(sys.A, sys.C, n, sys.p, md.re, d, sys.states));
+  const controllability = rankTest(modes, ctrlDef, n, (md, d) => lostDirections(At, transpose(sys.B, n, sys.m), n, sys.m, { re: md.re, im: md.im }, d, sys.states));
+  const observability = rankTest(modes, obsDef, n, (md, d) => lostDirections(sys.A, sys.C, n, sys.p, { re: md.re, im: md.im }, d, sys.states));
   const transfer = transferFunctions(sys, bal, rtol, rho, axisTol);
   const dcGain = dcGains(sys, transfer, modes);
   return { system: sys, eigenvalues: sp.eigenvalues, modes, stability, dcGain, transfer, controllability, observability, horizon: stepHorizon(modes, rho, sys.timeUnit) };

@@ -151,7 +151,7 @@ export function rankTest(modes: Mode[], def: number[], n: number, directions: (m
   let lost = 0;
   modes.forEach((md, k) => {
     if (def[k] > 0) {
-      failing.push({ mode: md.number, re: md.re, im: md.im, deficiency: def[k], directions: md.im === 0 ? directions(md, def[k]) : [] });
+      failing.push({ mode: md.number, re: md.re, im: md.im, deficiency: def[k], directions: directions(md, def[k]) });
       lost += def[k] * (md.im > 0 ? 2 : 1);
     }
   });
@@ -160,27 +160,77 @@ export function rankTest(modes: Mode[], def: number[], n: number, directions: (m
 }
 
 /**
- * The `count` directions lost at a real eigenvalue λ: the right singular vectors of the smallest singular
- * values of the (n + k) × n matrix [λI − A; K] (K = Bᵀ with A transposed for controllability: left null
- * vectors of [λI − A, B]; K = C for observability: right null vectors of [λI − A; C]), as combinations of the
- * named states. Row-major A (n × n), K (k × n).
+ * The directions lost at an eigenvalue λ: the right singular vectors of the smallest singular values of the
+ * (n + k) × n matrix [λI − A; K] (K = Bᵀ with A transposed for controllability: left null vectors of
+ * [λI − A, B]; K = C for observability: right null vectors of [λI − A; C]), as combinations of the named
+ * states. Row-major A (n × n), K (k × n). A real λ loses `count` directions. A complex λ (a pair) loses
+ * `count` complex vectors w, i.e. the real plane of Re w and Im w for each (what no input moves: the real
+ * and imaginary parts of wᴴx; or what no output sees): from the null vectors [x; y] of the real form
+ * [[Re M, −Im M], [Im M, Re M]] (x + iy is a complex null vector), x and y orthonormalised, 2·count
+ * directions.
  */
-export function lostDirections(A: Float64Array, K: Float64Array, n: number, k: number, lam: number, count: number, states: string[]): StateDirection[] {
+export function lostDirections(A: Float64Array, K: Float64Array, n: number, k: number, lam: number | Complex, count: number, states: string[]): StateDirection[] {
+  const l = typeof lam === 'number' ? { re: lam, im: 0 } : lam;
   const rows = n + k;
-  const M = new Float64Array(rows * n);
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j < n; j++) M[i * n + j] = -A[i * n + j];
-    M[i * n + i] += lam;
+  const named = (v: ArrayLike<number>): StateDirection => {
+    let norm = 0;
+    for (let i = 0; i < n; i++) norm += v[i] * v[i];
+    norm = Math.sqrt(norm) || 1;
+    const terms = states.map((state, i) => ({ state, weight: v[i] / norm })).filter((t) => Math.abs(t.weight) >= 1e-3);
+    const sign = terms.length && terms[0].weight < 0 ? -1 : 1;
+    return terms.map((t) => ({ state: t.state, weight: sign * t.weight + 0 }));
+  };
+  if (l.im === 0) {
+    const M = new Float64Array(rows * n);
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) M[i * n + j] = -A[i * n + j];
+      M[i * n + i] += l.re;
+    }
+    for (let r = 0; r < k; r++) for (let j = 0; j < n; j++) M[(n + r) * n + j] = K[r * n + j];
+    return rightSingularVectors(M, rows, n).slice(0, count).map(({ v }) => named(v));
   }
-  for (let r = 0; r < k; r++) for (let j = 0; j < n; j++) M[(n + r) * n + j] = K[r * n + j];
-  return rightSingularVectors(M, rows, n)
-    .slice(0, count)
-    .map(({ v }) => {
-      let norm = 0;
-      for (let i = 0; i < n; i++) norm += v[i] * v[i];
-      norm = Math.sqrt(norm) || 1;
-      const terms = states.map((state, i) => ({ state, weight: v[i] / norm })).filter((t) => Math.abs(t.weight) >= 1e-3);
-      const sign = terms.length && terms[0].weight < 0 ? -1 : 1;
-      return terms.map((t) => ({ state: t.state, weight: sign * t.weight + 0 }));
-    });
+  // the real form of the complex (n + k) × n matrix: 2(n + k) × 2n
+  const R = 2 * rows, C2 = 2 * n;
+  const M = new Float64Array(R * C2);
+  const put = (i: number, j: number, re: number, im: number) => {
+    M[i * C2 + j] = re;
+    M[i * C2 + n + j] = -im;
+    M[(rows + i) * C2 + j] = im;
+    M[(rows + i) * C2 + n + j] = re;
+  };
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) put(i, j, (i === j ? l.re : 0) - A[i * n + j], i === j ? l.im : 0);
+  for (let r = 0; r < k; r++) for (let j = 0; j < n; j++) put(n + r, j, K[r * n + j], 0);
+  // the null space of the real form has dimension 2·count; the x and y halves of its vectors span the plane(s)
+  const basis: Float64Array[] = [];
+  for (const { v } of rightSingularVectors(M, R, C2).slice(0, 2 * count)) {
+    for (const half of [v.slice(0, n), v.slice(n, 2 * n)]) {
+      const x = Float64Array.from(half);
+      for (const b of basis) {
+        let d = 0;
+        for (let i = 0; i < n; i++) d += x[i] * b[i];
+        for (let i = 0; i < n; i++) x[i] -= d * b[i];
+      }
+      let nx = 0;
+      for (let i = 0; i < n; i++) nx += x[i] * x[i];
+      nx = Math.sqrt(nx);
+      if (nx < 1e-6 || basis.length >= 2 * count) continue;
+      for (let i = 0; i < n; i++) x[i] /= nx;
+      basis.push(x);
+    }
+  }
+  if (basis.length === 2) {
+    // one plane: turn its basis so that the first direction is the plane's nearest to one state (the state
+    // with the most weight in the plane), the second at right angles to it, with no weight on that state
+    const [b1, b2] = basis;
+    let best = 0;
+    for (let i = 1; i < n; i++) if (b1[i] ** 2 + b2[i] ** 2 > b1[best] ** 2 + b2[best] ** 2 + 1e-12) best = i;
+    const c = b1[best], s2 = b2[best], h = Math.hypot(c, s2) || 1;
+    const d1 = new Float64Array(n), d2 = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      d1[i] = (c * b1[i] + s2 * b2[i]) / h;
+      d2[i] = (-s2 * b1[i] + c * b2[i]) / h;
+    }
+    return [named(d1), named(d2)];
+  }
+  return basis.map(named);
 }
