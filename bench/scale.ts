@@ -103,6 +103,13 @@ export function scaleBench(log: (s: string) => void = console.log): void {
     const memNote = n === 10000 ? `; peak memory under 500 MB: ${mark(rss < 500)}` : '';
     log(`${String(n).padEnd(8)} ${String(n).padStart(6)}  ${wall.toFixed(2).padStart(6)}  ${cpu.toFixed(2).padStart(6)}  ${rss.toFixed(0).padStart(8)}  ${(runs[0].bytes / 1e6).toFixed(1).padStart(9)}   ${tgt !== undefined ? `under ${tgt} s (cpu): ${mark(t < tgt)}` : ''}${memNote}`);
   }
+  // the same command asked for the eigenvalues too (computed unasked only up to Σ m² = 10⁷, docs/cli.md)
+  for (const n of sizes.filter((x) => x === 10000)) {
+    const file = path.join(os.tmpdir(), `poise-bench-chain-${n}.poise`);
+    const runs: Run[] = [];
+    for (let r = 0; r < 3; r++) runs.push(runChild([BIN, 'linearize', file, '--format', 'json', '--sparse', '--eigenvalues']));
+    log(`  N = ${n} with --eigenvalues (one coupled block of ${n}): wall ${median(runs.map((r) => r.wall)).toFixed(2)} s, cpu ${median(runs.map((r) => r.cpu)).toFixed(2)} s, peak ${median(runs.map((r) => r.rssMB)).toFixed(0)} MB`);
+  }
   const inRange = fit.filter((f) => f.n >= 1000 && f.n <= 100000);
   if (inRange.length >= 2) {
     const eCpu = growthExponent(inRange.map((f) => f.n), inRange.map((f) => f.cpu));
