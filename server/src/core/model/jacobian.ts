@@ -22,6 +22,36 @@ export interface CompiledModel {
 
 const compiledCache = new WeakMap<LoweredModel, CompiledModel>();
 
+/** The non-zero partial derivatives of one residual: ∂r/∂v[cols[k]] = nodes[k], cols ascending. */
+interface RowDerivatives {
+  slots: LoweredModel['slots'];
+  cols: number[];
+  nodes: E.Node[];
+}
+/**
+ * Derivatives per residual node (and slot table), so that a residual shared by two models — the steady
+ * model of the point keeps every equation without a derivative as it is — is differentiated once: the
+ * point solver's and the linearizer's Jacobians hold the same derivative nodes for it.
+ */
+const rowCache = new WeakMap<E.Node, RowDerivatives>();
+
+function rowDerivatives(lm: LoweredModel, residual: E.Node): RowDerivatives {
+  const hit = rowCache.get(residual);
+  if (hit && hit.slots === lm.slots) return hit;
+  const cols: number[] = [];
+  const nodes: E.Node[] = [];
+  const ids = [...E.slots(residual)].filter((s) => lm.slots[s].kind !== 'const').sort((a, b) => a - b);
+  for (const s of ids) {
+    const d = E.derivative(residual, s);
+    if (E.isNum(d, 0)) continue;
+    cols.push(s);
+    nodes.push(d);
+  }
+  const row: RowDerivatives = { slots: lm.slots, cols, nodes };
+  rowCache.set(residual, row);
+  return row;
+}
+
 export function compileModel(lm: LoweredModel): CompiledModel {
   const hit = compiledCache.get(lm);
   if (hit) return hit;
@@ -31,14 +61,12 @@ export function compileModel(lm: LoweredModel): CompiledModel {
   const rowEntries: number[][] = [];
   lm.equations.forEach((eq, r) => {
     const ent: number[] = [];
-    const ids = [...E.slots(eq.residual)].filter((s) => lm.slots[s].kind !== 'const').sort((a, b) => a - b);
-    for (const s of ids) {
-      const d = E.derivative(eq.residual, s);
-      if (E.isNum(d, 0)) continue;
+    const row = rowDerivatives(lm, eq.residual);
+    for (let k = 0; k < row.cols.length; k++) {
       ent.push(nodes.length);
       rows.push(r);
-      cols.push(s);
-      nodes.push(d);
+      cols.push(row.cols[k]);
+      nodes.push(row.nodes[k]);
     }
     rowEntries.push(ent);
   });

@@ -50,16 +50,16 @@ export function steadyModel(lm: LoweredModel): LoweredModel {
  * steady-state incidence of each active equation (column indices into `unknowns`).
  */
 export function steadyIncidence(sm: LoweredModel, unknowns: readonly number[]): { active: number[]; checks: number[]; adj: number[][] } {
-  const colOf = new Map<number, number>();
-  unknowns.forEach((s, i) => colOf.set(s, i));
+  const colOf = new Int32Array(sm.slots.length).fill(-1);
+  unknowns.forEach((s, i) => (colOf[s] = i));
   const active: number[] = [];
   const checks: number[] = [];
   const adj: number[][] = [];
   sm.equations.forEach((eq, r) => {
     const cols: number[] = [];
     for (const s of E.slots(eq.residual)) {
-      const c = colOf.get(s);
-      if (c !== undefined) cols.push(c);
+      const c = colOf[s];
+      if (c >= 0) cols.push(c);
     }
     if (cols.length) {
       active.push(r);

@@ -6,7 +6,7 @@
  * large model whose Jacobian is evaluated a handful of times (a point, a linearization) is cheaper
  * interpreted; `lazyVector` compiles once it has been called often (sweeps, simulations).
  */
-import { tableAt, type FnName, type Node } from '../algebra/expr';
+import { tableAt, type Fn, type FnName, type Node } from '../algebra/expr';
 import { compileVector, type VectorFn } from './compile';
 import { nameTable } from '../names';
 
@@ -24,9 +24,24 @@ const MATH: Readonly<Record<FnName, (...a: number[]) => number>> = nameTable({
   table: () => NaN,
 });
 
-const isLeaf = (n: Node) => n.t === 'num' || n.t === 'sym';
-/** The arguments of an inner node as the tape reads them (a special power reads its base only). */
-const kidsOf = (n: Node): Node[] => (n.t === 'pow' ? (n.exp.t === 'num' && special(n.exp.v) >= 0 ? [n.base] : [n.base, n.exp]) : (n as { args: Node[] }).args);
+/** The number of arguments of an inner node as the tape reads them (a special power reads its base only). */
+const kidCount = (n: Node): number => (n.t === 'pow' ? (n.exp.t === 'num' && special(n.exp.v) >= 0 ? 1 : 2) : (n as Fn).args.length);
+/** Argument k of an inner node (`kidCount` order). */
+const kidAt = (n: Node, k: number): Node => (n.t === 'pow' ? (k === 0 ? n.base : n.exp) : (n as Fn).args[k]);
+
+/** A growing list of 32-bit integers. */
+class Grow {
+  a = new Int32Array(256);
+  n = 0;
+  push(v: number): void {
+    if (this.n === this.a.length) {
+      const b = new Int32Array(2 * this.a.length);
+      b.set(this.a);
+      this.a = b;
+    }
+    this.a[this.n++] = v;
+  }
+}
 
 /** Evaluates out[i] = roots[i](v) by walking the graph's inner nodes in dependency order. */
 export class Tape {
@@ -42,29 +57,37 @@ export class Tape {
 
   constructor(roots: Node[]) {
     // one walk: inner nodes numbered in post-order (every node after its kids), their arguments written
-    // as they are numbered; a leaf's argument is a negative reference fixed up once the counts are known
+    // as they are numbered; a leaf's argument is a negative reference fixed up once the counts are known.
+    // Hot for large models (a 20,000-equation model has some 150,000 nodes): one map lookup per edge to
+    // an inner node, everything else in growing typed arrays.
     const cell = new Map<Node, number>();
-    const symCell: number[] = [];
-    const symIds: number[] = [];
+    let symCell = new Int32Array(64).fill(-1);
+    const symIds = new Grow();
     const numCell = new Map<number, number>();
     const numVals: number[] = [];
     const fnIndex = new Map<string, number>();
-    const op: number[] = [];
-    const fnOf: number[] = [];
-    const argStart: number[] = [0];
-    const arg: number[] = [];
-    const outRef: number[] = [];
-    const leafRef = (n: Node): number => {
-      if (n.t === 'sym') {
-        let c = symCell[n.id];
-        if (c === undefined) {
-          symCell[n.id] = c = symIds.length;
-          symIds.push(n.id);
-        }
-        return -1 - 2 * c;
+    const op = new Grow();
+    const fnOf = new Grow();
+    const argStart = new Grow();
+    argStart.push(0);
+    const arg = new Grow();
+    const outRef = new Grow();
+    const symRef = (id: number): number => {
+      if (id >= symCell.length) {
+        const b = new Int32Array(Math.max(2 * symCell.length, id + 1)).fill(-1);
+        b.set(symCell);
+        symCell = b;
       }
+      let c = symCell[id];
+      if (c < 0) {
+        symCell[id] = c = symIds.n;
+        symIds.push(id);
+      }
+      return -1 - 2 * c;
+    };
+    const numRef = (x: number): number => {
       // a literal of the generated code: -0 is written as (0)
-      const v = (n as { v: number }).v === 0 ? 0 : (n as { v: number }).v;
+      const v = x === 0 ? 0 : x;
       let c = numCell.get(v);
       if (c === undefined) {
         numCell.set(v, (c = numVals.length));
@@ -72,7 +95,7 @@ export class Tape {
       }
       return -2 - 2 * c;
     };
-    const number = (n: Node) => {
+    const number = (n: Node): number => {
       let o: number;
       let f = 0;
       switch (n.t) {
@@ -80,9 +103,9 @@ export class Tape {
         case 'mul': o = MUL; break;
         case 'pow': o = n.exp.t === 'num' && special(n.exp.v) >= 0 ? special(n.exp.v) : POW; break;
         default: {
-          const fn = (n as { fn: FnName }).fn;
-          const args = (n as { args: Node[] }).args;
-          const tab = n.t === 'fn' ? n.tab : undefined;
+          const fn = (n as Fn).fn;
+          const nArgs = (n as Fn).args.length;
+          const tab = (n as Fn).tab;
           let k = tab ? undefined : fnIndex.get(fn);
           if (tab) {
             // a lookup table (or one of its derivatives): the same interpolant the generated code calls
@@ -93,23 +116,27 @@ export class Tape {
             this.fns.push(MATH[fn]);
           }
           f = k;
-          o = fn === 'pick' && args.length === 4 ? PICK : args.length === 1 ? FN1 : args.length === 2 ? FN2 : FNN;
+          o = fn === 'pick' && nArgs === 4 ? PICK : nArgs === 1 ? FN1 : nArgs === 2 ? FN2 : FNN;
         }
       }
+      const c = op.n;
       op.push(o);
       fnOf.push(f);
-      cell.set(n, op.length - 1);
-      return op.length - 1;
+      cell.set(n, c);
+      return c;
     };
     // depth first; each open node's arguments gather on `pending` (one map lookup per edge, one entry per node)
     const stackNode: Node[] = [];
-    const stackKids: Node[][] = [];
-    const stackPos: number[] = [];
-    const stackPend: number[] = [];
-    const pending: number[] = [];
+    const stackPos = new Grow();
+    const stackPend = new Grow();
+    const pending = new Grow();
     for (const r of roots) {
-      if (isLeaf(r)) {
-        outRef.push(leafRef(r));
+      if (r.t === 'sym') {
+        outRef.push(symRef(r.id));
+        continue;
+      }
+      if (r.t === 'num') {
+        outRef.push(numRef(r.v));
         continue;
       }
       const hit = cell.get(r);
@@ -118,18 +145,22 @@ export class Tape {
         continue;
       }
       stackNode.push(r);
-      stackKids.push(kidsOf(r));
       stackPos.push(0);
       stackPend.push(0);
       while (stackNode.length) {
         const top = stackNode.length - 1;
-        const ks = stackKids[top];
-        let p = stackPos[top];
+        const nd = stackNode[top];
+        const nk = kidCount(nd);
+        let p = stackPos.a[top];
         let descended = false;
-        while (p < ks.length) {
-          const x = ks[p++];
-          if (isLeaf(x)) {
-            pending.push(leafRef(x));
+        while (p < nk) {
+          const x = kidAt(nd, p++);
+          if (x.t === 'sym') {
+            pending.push(symRef(x.id));
+            continue;
+          }
+          if (x.t === 'num') {
+            pending.push(numRef(x.v));
             continue;
           }
           const c = cell.get(x);
@@ -137,40 +168,47 @@ export class Tape {
             pending.push(c);
             continue;
           }
-          stackPos[top] = p;
+          stackPos.a[top] = p;
           stackNode.push(x);
-          stackKids.push(kidsOf(x));
           stackPos.push(0);
-          stackPend.push(pending.length);
+          stackPend.push(pending.n);
           descended = true;
           break;
         }
         if (descended) continue;
         // every argument known: the node gets its cell, which becomes an argument of its parent
-        const from = stackPend[top];
-        for (let k = from; k < pending.length; k++) arg.push(pending[k]);
-        argStart.push(arg.length);
-        pending.length = from;
-        const c = number(stackNode[top]);
+        const from = stackPend.a[top];
+        for (let k = from; k < pending.n; k++) arg.push(pending.a[k]);
+        argStart.push(arg.n);
+        pending.n = from;
+        const c = number(nd);
         stackNode.pop();
-        stackKids.pop();
-        stackPos.pop();
-        stackPend.pop();
+        stackPos.n--;
+        stackPend.n--;
         if (stackNode.length) pending.push(c);
         else outRef.push(c);
       }
     }
-    const nInner = op.length;
-    const nSym = symIds.length;
-    const place = (x: number) => (x >= 0 ? x : (x & 1) !== 0 ? nInner + (-1 - x) / 2 : nInner + nSym + (-2 - x) / 2);
-    this.val = new Float64Array(nInner + nSym + numVals.length);
-    for (let i = 0; i < numVals.length; i++) this.val[nInner + nSym + i] = numVals[i];
-    this.symSlot = Int32Array.from(symIds);
-    this.op = Uint8Array.from(op);
-    this.fnOf = Int32Array.from(fnOf);
-    this.argStart = Int32Array.from(argStart);
-    this.arg = Int32Array.from(arg, place);
-    this.outCell = Int32Array.from(outRef, place);
+    const nInner = op.n;
+    const nSym = symIds.n;
+    const numBase = nInner + nSym;
+    this.val = new Float64Array(numBase + numVals.length);
+    for (let i = 0; i < numVals.length; i++) this.val[numBase + i] = numVals[i];
+    this.symSlot = symIds.a.slice(0, nSym);
+    this.op = Uint8Array.from(op.a.subarray(0, nInner));
+    this.fnOf = fnOf.a.slice(0, nInner);
+    this.argStart = argStart.a.slice(0, argStart.n);
+    // leaf references to cells: a slot's after the inner nodes, a number's after the slots
+    const place = (ref: Grow): Int32Array => {
+      const out = ref.a.slice(0, ref.n);
+      for (let i = 0; i < out.length; i++) {
+        const x = out[i];
+        if (x < 0) out[i] = (x & 1) !== 0 ? nInner + (-1 - x) / 2 : numBase + (-2 - x) / 2;
+      }
+      return out;
+    };
+    this.arg = place(arg);
+    this.outCell = place(outRef);
   }
 
   run(v: Float64Array, out: Float64Array): void {

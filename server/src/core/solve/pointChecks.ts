@@ -110,14 +110,15 @@ export function switchNodes(roots: E.Node[]): E.Fn[] {
   const stack = [...roots];
   while (stack.length) {
     const n = stack.pop()!;
-    if (seen.has(n)) continue;
+    // leaves are never switches and have no arguments: only inner nodes are remembered
+    if (n.t === 'num' || n.t === 'sym' || seen.has(n)) continue;
     seen.add(n);
     if (n.t === 'fn' && (n.fn === 'pick' || n.fn === 'min' || n.fn === 'max')) {
       // min(a, b) and max(a, b) switch where a = b, as pick(a, b, …) does
       out.push(n.fn === 'pick' ? n : { t: 'fn', fn: 'pick', args: [n.args[0], n.args[1], E.ZERO, E.ZERO] });
     }
     if (n.t === 'pow') stack.push(n.base, n.exp);
-    else if (n.t !== 'num' && n.t !== 'sym') for (const a of n.args) stack.push(a);
+    else for (const a of n.args) stack.push(a);
   }
   return out;
 }

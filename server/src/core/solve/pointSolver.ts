@@ -209,8 +209,8 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
     return result;
   }
 
-  const colOf = new Map<number, number>();
-  unknowns.forEach((s, i) => colOf.set(s, i));
+  const colOf = new Int32Array(lm.slots.length).fill(-1);
+  unknowns.forEach((s, i) => (colOf[s] = i));
   // equations with unknowns (on the steady-state incidence) vs consistency checks
   const { active, checks, adj } = steadyIncidence(sm, unknowns);
   const nR = active.length;
@@ -283,30 +283,30 @@ export function solvePoint(m: BoundModel, lm: LoweredModel, block: A.PointBlock,
   // entCol[k]) of the point problem, or not part of it (-1)
   const entRow = new Int32Array(J.length).fill(-1);
   const entCol = new Int32Array(J.length).fill(-1);
+  let nnzP = 0;
   for (let k = 0; k < J.length; k++) {
     const i = activeIdx[cm.rows[k]];
-    const j = colOf.get(cm.cols[k]);
-    if (i < 0 || j === undefined) continue;
+    const j = colOf[cm.cols[k]];
+    if (i < 0 || j < 0) continue;
     entRow[k] = i;
     entCol[k] = j;
+    nnzP++;
   }
-  /** Scaled Jacobian entries (row i active, col j unknown). */
+  // the problem's entries in the compiled model's order: entry t is J[entK[t]] at (rows[t], cols[t])
+  const entK = new Int32Array(nnzP);
+  const ent = { rows: new Int32Array(nnzP), cols: new Int32Array(nnzP), vals: new Float64Array(nnzP), nnz: nnzP };
+  for (let k = 0, t = 0; k < J.length; k++) {
+    if (entRow[k] < 0) continue;
+    entK[t] = k;
+    ent.rows[t] = entRow[k];
+    ent.cols[t++] = entCol[k];
+  }
+  /** Scaled Jacobian entries (row i active, col j unknown); the values are rewritten by the next call. */
   const entries = (): { rows: Int32Array; cols: Int32Array; vals: Float64Array; nnz: number } => {
     cm.jacobian(values, J);
-    const rows = new Int32Array(J.length);
-    const cols = new Int32Array(J.length);
-    const vals = new Float64Array(J.length);
-    let nnz = 0;
-    for (let k = 0; k < J.length; k++) {
-      const i = entRow[k];
-      if (i < 0) continue;
-      const j = entCol[k];
-      rows[nnz] = i;
-      cols[nnz] = j;
-      vals[nnz] = J[k] * rowScale[i] * xs[j];
-      nnz++;
-    }
-    return { rows, cols, vals, nnz };
+    const { rows, cols, vals } = ent;
+    for (let t = 0; t < nnzP; t++) vals[t] = J[entK[t]] * rowScale[rows[t]] * xs[cols[t]];
+    return ent;
   };
 
   const tol = opts.tolerance ?? 1e-10;
