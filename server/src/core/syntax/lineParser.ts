@@ -34,20 +34,6 @@ export function describe(t: Token | undefined): string {
   return `"${t.text}"`;
 }
 
-export function splitLines(tokens: Token[]): Line[] {
-  const lines: Line[] = [];
-  let cur: Token[] = [];
-  for (const t of tokens) {
-    if (t.kind === 'newline' || t.kind === 'eof') {
-      if (cur.length) {
-        lines.push({ tokens: cur, indent: cur[0].indent ?? 0, span: { start: cur[0].span.start, end: cur[cur.length - 1].span.end } });
-      }
-      cur = [];
-    } else cur.push(t);
-  }
-  return lines;
-}
-
 /** Parses the tokens of one logical line. */
 export class LineParser {
   i = 0;
