@@ -69,15 +69,26 @@ export function lower(m: BoundModel, u: UnitFacts, text: string, tables: Readonl
   const slots: Slot[] = [];
   const index = new Map<ModelSymbol, number[]>();
   const tscale = u.time.scale;
+  /** The unit of a derivative of order k of a quantity in `base`: one object per unit and order (states in one unit share it). */
+  const derivUnits = new Map<UnitInfo, UnitInfo[]>();
+  const derivUnit = (base: UnitInfo, order: number, scale: number): UnitInfo => {
+    let byOrder = derivUnits.get(base);
+    if (!byOrder) derivUnits.set(base, (byOrder = []));
+    let unit = byOrder[order];
+    if (!unit) {
+      // dimensionless time (no unit text) leaves a derivative in the unit of its state: "1", not "1/1"
+      const unitText = !u.time.text ? base.text : `${base.text}/${u.time.text}${order > 1 ? '^' + order : ''}`;
+      byOrder[order] = unit = { text: unitText, dims: base.dims, scale, offset: 0 };
+    }
+    return unit;
+  };
   const add = (s: ModelSymbol, kind: SlotKind, order: number): number => {
     const base = u.units.get(s) ?? ONE_UNIT;
     const id = slots.length;
     const scale = base.scale / Math.pow(tscale, order);
-    // dimensionless time (no unit text) leaves a derivative in the unit of its state: "1", not "1/1"
-    const unitText = order === 0 || !u.time.text ? base.text : `${base.text}/${u.time.text}${order > 1 ? '^' + order : ''}`;
     slots.push({
       id, kind, symbol: s, order, name: primeName(s.name, order), scale, offset: order === 0 ? base.offset : 0,
-      unit: order === 0 ? base : { text: unitText, dims: base.dims, scale, offset: 0 },
+      unit: order === 0 ? base : derivUnit(base, order, scale),
     });
     let arr = index.get(s);
     if (!arr) index.set(s, (arr = []));
@@ -207,8 +218,22 @@ export function lower(m: BoundModel, u: UnitFacts, text: string, tables: Readonl
 }
 
 function oneLine(s: string): string {
-  const t = s.replace(/\s+/g, ' ').trim();
+  const t = plainLine(s) ? s : s.replace(/\s+/g, ' ').trim();
   return t.length > 60 ? t.slice(0, 57) + '…' : t;
+}
+
+/** Whether `s` is already one line with single spaces and no space at either end (printable ASCII only). */
+function plainLine(s: string): boolean {
+  let prevSpace = true; // a space at the start is not plain
+  for (let i = 0; i < s.length; i++) {
+    const c = s.charCodeAt(i);
+    if (c === 32) {
+      if (prevSpace) return false;
+      prevSpace = true;
+    } else if (c > 32 && c < 127) prevSpace = false;
+    else return false;
+  }
+  return !prevSpace || s.length === 0;
 }
 
 /** Lowers a constant expression (point values, sweep bounds) to SI with constants resolved from `values`. */
