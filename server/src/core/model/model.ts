@@ -63,11 +63,16 @@ export interface LoweredModel {
   timeUnit: string;
 }
 
+type SlotKindOfSymbol = ModelSymbol['kind'];
+
 const primeName = (n: string, k: number) => n + "'".repeat(k);
 
 export function lower(m: BoundModel, u: UnitFacts, text: string, tables: ReadonlyMap<string, E.TableSource> = new Map()): LoweredModel {
   const slots: Slot[] = [];
-  const index = new Map<ModelSymbol, number[]>();
+  // slot ids of each symbol by derivative order, found by the symbol's kind and place in its kind's list
+  // (an array per kind: no hashing of 10^4 symbols); `owners` says which symbol holds each place
+  const index: Record<SlotKindOfSymbol, number[][]> = { const: [], input: [], state: [], var: [], output: [] };
+  const owners: Record<SlotKindOfSymbol, ModelSymbol[]> = { const: [], input: [], state: [], var: [], output: [] };
   const tscale = u.time.scale;
   /** The unit of a derivative of order k of a quantity in `base`: one object per unit and order (states in one unit share it). */
   const derivUnits = new Map<UnitInfo, UnitInfo[]>();
@@ -90,8 +95,12 @@ export function lower(m: BoundModel, u: UnitFacts, text: string, tables: Readonl
       id, kind, symbol: s, order, name: primeName(s.name, order), scale, offset: order === 0 ? base.offset : 0,
       unit: order === 0 ? base : derivUnit(base, order, scale),
     });
-    let arr = index.get(s);
-    if (!arr) index.set(s, (arr = []));
+    const byKind = index[s.kind];
+    let arr = owners[s.kind][s.index] === s ? byKind[s.index] : undefined;
+    if (!arr) {
+      byKind[s.index] = arr = [];
+      owners[s.kind][s.index] = s;
+    }
     arr[order] = id;
     return id;
   };
@@ -112,7 +121,7 @@ export function lower(m: BoundModel, u: UnitFacts, text: string, tables: Readonl
   const algebraic = [...m.vars.map((s) => add(s, 'var', 0)), ...m.outputs.map((s) => add(s, 'output', 0))];
 
   const slotOf = (s: ModelSymbol, order = 0): number => {
-    const arr = index.get(s);
+    const arr = owners[s.kind]?.[s.index] === s ? index[s.kind][s.index] : undefined;
     if (!arr || arr[order] === undefined) return -1;
     return arr[order];
   };
