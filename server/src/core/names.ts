@@ -10,9 +10,19 @@ export function nameTable<T, K extends string = string>(entries: Record<K, T>): 
   return Object.freeze(t);
 }
 
+/** The names of each frozen table, as a set: a memo keyed by immutable objects (a set answers a name read
+ * from the text several times faster than a property lookup on a prototype-free object). */
+const frozenNames = new WeakMap<object, ReadonlySet<string>>();
+
 /** Whether `name` is an own entry of `table` (never something it inherits). */
 export function hasName(table: object, name: string): boolean {
-  return Object.prototype.hasOwnProperty.call(table, name);
+  let names = frozenNames.get(table);
+  if (names === undefined) {
+    if (!Object.isFrozen(table)) return Object.prototype.hasOwnProperty.call(table, name);
+    names = new Set(Object.getOwnPropertyNames(table));
+    frozenNames.set(table, names);
+  }
+  return names.has(name);
 }
 
 /** A prototype-free record to fill with entries keyed by users' names (e.g. JSON "values"). */

@@ -18,10 +18,15 @@ export function cover(a: Span, b: Span): Span {
   return { start: Math.min(a.start, b.start), end: Math.max(a.end, b.end) };
 }
 
-/** Maps offsets to line/character and back. */
+/** Maps offsets to line/character and back. The line starts are found on first use (a large model that
+ * reports nothing never needs them). */
 export class LineMap {
-  readonly lineStarts: number[];
-  constructor(readonly text: string) {
+  private starts: number[] | undefined;
+  constructor(readonly text: string) {}
+
+  get lineStarts(): number[] {
+    if (this.starts) return this.starts;
+    const text = this.text;
     const starts = [0];
     for (let i = 0; i < text.length; i++) {
       const ch = text.charCodeAt(i);
@@ -31,7 +36,8 @@ export class LineMap {
         starts.push(i + 1);
       }
     }
-    this.lineStarts = starts;
+    this.starts = starts;
+    return starts;
   }
 
   get lineCount(): number {
@@ -40,14 +46,15 @@ export class LineMap {
 
   position(offset: number): Position {
     const o = Math.max(0, Math.min(offset, this.text.length));
+    const starts = this.lineStarts;
     let lo = 0;
-    let hi = this.lineStarts.length - 1;
+    let hi = starts.length - 1;
     while (lo < hi) {
       const mid = (lo + hi + 1) >> 1;
-      if (this.lineStarts[mid] <= o) lo = mid;
+      if (starts[mid] <= o) lo = mid;
       else hi = mid - 1;
     }
-    return { line: lo, character: o - this.lineStarts[lo] };
+    return { line: lo, character: o - starts[lo] };
   }
 
   offset(pos: Position): number {

@@ -63,24 +63,44 @@ export interface LoweredModel {
   timeUnit: string;
 }
 
+type SlotKindOfSymbol = ModelSymbol['kind'];
+
 const primeName = (n: string, k: number) => n + "'".repeat(k);
 
 export function lower(m: BoundModel, u: UnitFacts, text: string, tables: ReadonlyMap<string, E.TableSource> = new Map()): LoweredModel {
   const slots: Slot[] = [];
-  const index = new Map<ModelSymbol, number[]>();
+  // slot ids of each symbol by derivative order, found by the symbol's kind and place in its kind's list
+  // (an array per kind: no hashing of 10^4 symbols); `owners` says which symbol holds each place
+  const index: Record<SlotKindOfSymbol, number[][]> = { const: [], input: [], state: [], var: [], output: [] };
+  const owners: Record<SlotKindOfSymbol, ModelSymbol[]> = { const: [], input: [], state: [], var: [], output: [] };
   const tscale = u.time.scale;
+  /** The unit of a derivative of order k of a quantity in `base`: one object per unit and order (states in one unit share it). */
+  const derivUnits = new Map<UnitInfo, UnitInfo[]>();
+  const derivUnit = (base: UnitInfo, order: number, scale: number): UnitInfo => {
+    let byOrder = derivUnits.get(base);
+    if (!byOrder) derivUnits.set(base, (byOrder = []));
+    let unit = byOrder[order];
+    if (!unit) {
+      // dimensionless time (no unit text) leaves a derivative in the unit of its state: "1", not "1/1"
+      const unitText = !u.time.text ? base.text : `${base.text}/${u.time.text}${order > 1 ? '^' + order : ''}`;
+      byOrder[order] = unit = { text: unitText, dims: base.dims, scale, offset: 0 };
+    }
+    return unit;
+  };
   const add = (s: ModelSymbol, kind: SlotKind, order: number): number => {
     const base = u.units.get(s) ?? ONE_UNIT;
     const id = slots.length;
     const scale = base.scale / Math.pow(tscale, order);
-    // dimensionless time (no unit text) leaves a derivative in the unit of its state: "1", not "1/1"
-    const unitText = order === 0 || !u.time.text ? base.text : `${base.text}/${u.time.text}${order > 1 ? '^' + order : ''}`;
     slots.push({
       id, kind, symbol: s, order, name: primeName(s.name, order), scale, offset: order === 0 ? base.offset : 0,
-      unit: order === 0 ? base : { text: unitText, dims: base.dims, scale, offset: 0 },
+      unit: order === 0 ? base : derivUnit(base, order, scale),
     });
-    let arr = index.get(s);
-    if (!arr) index.set(s, (arr = []));
+    const byKind = index[s.kind];
+    let arr = owners[s.kind][s.index] === s ? byKind[s.index] : undefined;
+    if (!arr) {
+      byKind[s.index] = arr = [];
+      owners[s.kind][s.index] = s;
+    }
     arr[order] = id;
     return id;
   };
@@ -101,7 +121,7 @@ export function lower(m: BoundModel, u: UnitFacts, text: string, tables: Readonl
   const algebraic = [...m.vars.map((s) => add(s, 'var', 0)), ...m.outputs.map((s) => add(s, 'output', 0))];
 
   const slotOf = (s: ModelSymbol, order = 0): number => {
-    const arr = index.get(s);
+    const arr = owners[s.kind]?.[s.index] === s ? index[s.kind][s.index] : undefined;
     if (!arr || arr[order] === undefined) return -1;
     return arr[order];
   };
@@ -207,8 +227,22 @@ export function lower(m: BoundModel, u: UnitFacts, text: string, tables: Readonl
 }
 
 function oneLine(s: string): string {
-  const t = s.replace(/\s+/g, ' ').trim();
+  const t = plainLine(s) ? s : s.replace(/\s+/g, ' ').trim();
   return t.length > 60 ? t.slice(0, 57) + '…' : t;
+}
+
+/** Whether `s` is already one line with single spaces and no space at either end (printable ASCII only). */
+function plainLine(s: string): boolean {
+  let prevSpace = true; // a space at the start is not plain
+  for (let i = 0; i < s.length; i++) {
+    const c = s.charCodeAt(i);
+    if (c === 32) {
+      if (prevSpace) return false;
+      prevSpace = true;
+    } else if (c > 32 && c < 127) prevSpace = false;
+    else return false;
+  }
+  return !prevSpace || s.length === 0;
 }
 
 /** Lowers a constant expression (point values, sweep bounds) to SI with constants resolved from `values`. */

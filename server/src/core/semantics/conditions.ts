@@ -21,10 +21,16 @@ function conditionWord(e: A.Expr): string {
 
 /** The diagnostics of one expression where a value (or, with `wantCondition`, a condition) is expected. */
 export function checkConditions(root: A.Expr, wantCondition = false, out: Diagnostic[] = []): Diagnostic[] {
-  // explicit stack: long sums are left-deep chains
-  const stack: [A.Expr, boolean][] = [[root, wantCondition]];
+  // explicit stack (of expressions, and whether each is to be a condition): long sums are left-deep chains
+  const stack: A.Expr[] = [root];
+  const conds: boolean[] = [wantCondition];
+  const push = (x: A.Expr, c: boolean): void => {
+    stack.push(x);
+    conds.push(c);
+  };
   while (stack.length) {
-    const [e, cond] = stack.pop()!;
+    const e = stack.pop()!;
+    const cond = conds.pop()!;
     if (cond && !isCondition(e)) {
       if (e.kind !== 'error') out.push(diag('P321', e.span));
       continue;
@@ -35,33 +41,34 @@ export function checkConditions(root: A.Expr, wantCondition = false, out: Diagno
     }
     switch (e.kind) {
       case 'unary':
-        stack.push([e.arg, e.op === 'not']);
+        push(e.arg, e.op === 'not');
         break;
       case 'binary':
         if (e.op === 'and' || e.op === 'or' || COMPARE.has(e.op)) {
           const logic = e.op === 'and' || e.op === 'or';
-          stack.push([e.left, logic], [e.right, logic]);
+          push(e.left, logic);
+          push(e.right, logic);
         } else {
           // down the chain of arithmetic to its first operand (which may be a condition: an error)
           let x: A.Expr = e;
           while (x.kind === 'binary' && !isCondition(x)) {
-            stack.push([x.right, false]);
+            push(x.right, false);
             x = x.left;
           }
-          stack.push([x, false]);
+          push(x, false);
         }
         break;
       case 'call':
-        e.args.forEach((a, k) => stack.push([a, e.fn === 'choose' && k % 2 === 0 && k < e.args.length - 1]));
+        e.args.forEach((a, k) => push(a, e.fn === 'choose' && k % 2 === 0 && k < e.args.length - 1));
         break;
       case 'list':
-        for (const a of e.items) stack.push([a, false]);
+        for (const a of e.items) push(a, false);
         break;
       case 'reduce':
-        stack.push([e.body, false]);
+        push(e.body, false);
         break;
       case 'name':
-        if (e.index) stack.push([e.index, false]);
+        if (e.index) push(e.index, false);
         break;
     }
   }

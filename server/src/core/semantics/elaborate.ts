@@ -19,6 +19,7 @@ import type { Span } from '../text';
 import { BUILTIN_CONSTANTS } from './binder';
 import { hasName } from '../names';
 import { balanced, evalIndex } from './indexArithmetic';
+import { usesFamilies } from './familyUse';
 
 export interface Family {
   name: string;
@@ -121,40 +122,6 @@ class ElabError {
   constructor(readonly d: Diagnostic) {}
 }
 
-function usesFamilies(file: A.ModelFile): boolean {
-  const exprHas = (e: A.Expr | undefined): boolean => {
-    // iterative: expressions may be very deep
-    const stack: (A.Expr | undefined)[] = [e];
-    while (stack.length) {
-      const x = stack.pop();
-      if (!x) continue;
-      switch (x.kind) {
-        case 'name': if (x.index || x.name.includes('.')) return true; break;
-        case 'list':
-        case 'reduce': return true;
-        case 'unary': stack.push(x.arg); break;
-        case 'binary': stack.push(x.left, x.right); break;
-        case 'call': for (const a of x.args) stack.push(a); break;
-      }
-    }
-    return false;
-  };
-  const identHas = (id: A.Ident): boolean => !!id.range || !!id.index || id.name.includes('.');
-  for (const st of file.statements) {
-    switch (st.kind) {
-      case 'each': case 'part': case 'place': case 'parts': return true;
-      case 'const': if (identHas(st.name) || exprHas(st.value)) return true; break;
-      case 'input': case 'state': case 'var': if (st.names.some(identHas)) return true; break;
-      case 'output': if (identHas(st.name) || exprHas(st.value)) return true; break;
-      case 'equation': if (exprHas(st.lhs) || exprHas(st.rhs)) return true; break;
-      case 'point': if (st.lines.some((l) => l.index || l.name.name.includes('.') || exprHas(l.value))) return true; break;
-      case 'sweep': if (st.vary?.name.index) return true; break;
-      case 'linear': if (st.at.some((x) => x.name.index) || st.equations.some((q) => exprHas(q.lhs) || exprHas(q.rhs)) || st.at.some((x) => exprHas(x.value))) return true; break;
-    }
-  }
-  return false;
-}
-
 /**
  * Expands the families and the placed parts of a parsed model; a model without any returns the same tree.
  * `parts` are the parts the model may place (its own and those its `parts from` lines bring in).
@@ -242,19 +209,19 @@ export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>
   };
 
   const expand = (root: A.Expr, bind: ReadonlyMap<string, number>, scope?: Scope): A.Expr => {
-    type Frame = { e: A.Expr; done: boolean };
-    const stack: Frame[] = [{ e: root, done: false }];
+    const stack: A.Expr[] = [root]; // with `dones`: whether each one's operands are done (no frame objects)
+    const dones: boolean[] = [false];
     const results: A.Expr[] = [];
     while (stack.length) {
-      const f = stack.pop()!;
-      const e = f.e;
-      if (!f.done) {
+      const e = stack.pop()!;
+      if (!dones.pop()) {
         switch (e.kind) {
-          case 'unary': stack.push({ e, done: true }, { e: e.arg, done: false }); continue;
-          case 'binary': stack.push({ e, done: true }, { e: e.right, done: false }, { e: e.left, done: false }); continue;
+          case 'unary': stack.push(e, e.arg); dones.push(true, false); continue;
+          case 'binary': stack.push(e, e.right, e.left); dones.push(true, false, false); continue;
           case 'call':
-            stack.push({ e, done: true });
-            for (let k = e.args.length - 1; k >= 0; k--) stack.push({ e: e.args[k], done: false });
+            stack.push(e);
+            dones.push(true);
+            for (let k = e.args.length - 1; k >= 0; k--) { stack.push(e.args[k]); dones.push(false); }
             continue;
         }
       }
@@ -530,6 +497,8 @@ export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>
 
   const eachBlock = (st: A.EachBlock, bind: ReadonlyMap<string, number>, sink: A.Statement[], scope?: Scope): void => {
     let count = 0;
+    // equations, outputs and each blocks keep no index values once expanded: one map per level serves every element
+    const reuse = st.body.every((b) => b.kind === 'equation' || b.kind === 'output' || b.kind === 'each');
     const loop = (level: number, cur: Map<string, number>): void => {
       if (level === st.indices.length) {
         if ((count += 1) > MAX_ELEMENTS) throw new ElabError(diag('P231', st.headerSpan, { what: 'the each block', count: `more than ${MAX_ELEMENTS}`, max: String(MAX_ELEMENTS) }));
@@ -538,8 +507,9 @@ export function elaborate(file: A.ModelFile, parts: ReadonlyMap<string, PartDef>
       }
       const ix = st.indices[level];
       const [from, to] = rangeOf(ix.range, cur, `the range of ${ix.name.name}`, scope);
+      const shared = reuse ? new Map(cur) : undefined;
       for (let k = from; k <= to; k++) {
-        const next = new Map(cur);
+        const next = shared ?? new Map(cur);
         next.set(ix.name.name, k);
         loop(level + 1, next);
       }

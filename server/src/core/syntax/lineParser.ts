@@ -34,20 +34,6 @@ export function describe(t: Token | undefined): string {
   return `"${t.text}"`;
 }
 
-export function splitLines(tokens: Token[]): Line[] {
-  const lines: Line[] = [];
-  let cur: Token[] = [];
-  for (const t of tokens) {
-    if (t.kind === 'newline' || t.kind === 'eof') {
-      if (cur.length) {
-        lines.push({ tokens: cur, indent: cur[0].indent ?? 0, span: { start: cur[0].span.start, end: cur[cur.length - 1].span.end } });
-      }
-      cur = [];
-    } else cur.push(t);
-  }
-  return lines;
-}
-
 /** Parses the tokens of one logical line. */
 export class LineParser {
   i = 0;
@@ -339,8 +325,11 @@ export class LineParser {
         primes++;
         end = p.span.end;
       }
-      const nameSpan = { start: t.delta ? t.span.start + 1 : t.span.start, end: nameEnd };
-      const ne: A.NameExpr = { kind: 'name', name: t.text, primes, delta: !!t.delta, span: { start: t.span.start, end }, nameSpan };
+      // a plain name (no Δ, index or primes) shares its token's span: one object for both (spans are never
+      // changed in place, except by shiftSpans, which moves each object once)
+      const ts = t.span;
+      const nameSpan = t.delta ? { start: ts.start + 1, end: nameEnd } : nameEnd === ts.end ? ts : { start: ts.start, end: nameEnd };
+      const ne: A.NameExpr = { kind: 'name', name: t.text, primes, delta: !!t.delta, span: end === ts.end ? ts : { start: ts.start, end }, nameSpan };
       if (index) ne.index = index;
       if (member) ne.member = member;
       return ne;

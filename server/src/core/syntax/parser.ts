@@ -4,12 +4,11 @@
  */
 import type * as A from './ast';
 import { diag, type Diagnostic } from '../diagnostics';
-import { lex } from './lexer';
-import { LineParser, SyntaxError_, splitLines, type Line } from './lineParser';
+import { Lexer, type Token } from './lexer';
+import { LineParser, SyntaxError_, type Line } from './lineParser';
 import { isTableLine, parseTable } from './tableParser';
 export { MAX_NESTING } from './lineParser';
 import type { Span } from '../text';
-import { pushAll } from '../arrays';
 
 export interface ParseResult {
   file: A.ModelFile;
@@ -24,26 +23,19 @@ export const KEYWORDS = new Set([
 export const RESERVED = new Set(['time', 'const', 'input', 'state', 'var', 'output', 'point', 'linear', 'sweep', 'each']);
 
 export function parse(text: string): ParseResult {
+  // the file is lexed line by line as the statements take it, so each line's tokens go once it is parsed
+  const lexer = new Lexer(text);
+  const lines = new LineReader(lexer);
   const diagnostics: Diagnostic[] = [];
-  let lexed;
-  try {
-    lexed = lex(text);
-  } catch {
-    return { file: { statements: [], comments: [], length: text.length }, diagnostics: [] };
-  }
-  pushAll(diagnostics, lexed.diagnostics);
-  const lines = splitLines(lexed.tokens);
   const statements: A.Statement[] = [];
 
-  let li = 0;
   const blockLines = (): Line[] => {
     const out: Line[] = [];
-    while (li < lines.length && lines[li].indent > 0) out.push(lines[li++]);
+    for (let l = lines.peek(); l && l.indent > 0; l = lines.peek()) out.push(lines.take()!);
     return out;
   };
 
-  while (li < lines.length) {
-    const line = lines[li++];
+  for (let line = lines.take(); line; line = lines.take()) {
     try {
       const p = new LineParser(line.tokens, line.span.end, text);
       const first = line.tokens[0];
@@ -55,9 +47,11 @@ export function parse(text: string): ParseResult {
           const d = block.digest.span;
           block.digest.text = text.slice(d.start, d.end);
           // a hex digest such as 436e7389 lexes as a (too large) number: it is a digest, not a malformed number
-          for (let k = diagnostics.length - 1; k >= 0; k--) {
-            const x = diagnostics[k];
-            if (x.code === 'P108' && x.span.start >= d.start && x.span.end <= d.end) diagnostics.splice(k, 1);
+          for (const ds of [lexer.diagnostics, diagnostics]) {
+            for (let k = ds.length - 1; k >= 0; k--) {
+              const x = ds[k];
+              if (x.code === 'P108' && x.span.start >= d.start && x.span.end <= d.end) ds.splice(k, 1);
+            }
           }
         }
         statements.push(block);
@@ -90,7 +84,42 @@ export function parse(text: string): ParseResult {
       else diagnostics.push(diag('P101', line.span, { found: 'text', expected: 'a statement' }));
     }
   }
-  return { file: { statements, comments: lexed.comments, length: text.length }, diagnostics };
+  // the lexer's diagnostics first, then the statements' (as when the whole file was lexed before parsing)
+  const all = lexer.diagnostics.length ? [...lexer.diagnostics, ...diagnostics] : diagnostics;
+  return { file: { statements, comments: lexer.comments, length: text.length }, diagnostics: all };
+}
+
+/** The logical lines of a file (a line's tokens without its newline), read from the lexer one at a time. */
+class LineReader {
+  private ahead: Line | undefined;
+  private done = false;
+  constructor(private readonly lexer: Lexer) {}
+
+  peek(): Line | undefined {
+    if (!this.ahead && !this.done) this.ahead = this.read();
+    return this.ahead;
+  }
+
+  take(): Line | undefined {
+    const l = this.peek();
+    this.ahead = undefined;
+    return l;
+  }
+
+  private read(): Line | undefined {
+    let cur: Token[] = [];
+    for (;;) {
+      const t = this.lexer.next();
+      if (t.kind === 'newline' || t.kind === 'eof') {
+        if (cur.length) return { tokens: cur, indent: cur[0].indent ?? 0, span: { start: cur[0].span.start, end: cur[cur.length - 1].span.end } };
+        if (t.kind === 'eof') {
+          this.done = true;
+          return undefined;
+        }
+        cur = [];
+      } else cur.push(t);
+    }
+  }
 }
 
 /** `each i in A..B[, j in C..D]:` followed by indented statements, or one statement after the colon. */
