@@ -183,7 +183,7 @@ function linearJsonChunks(lin: LinearModel, values: VariableValue[], o: ExportOp
         emit(` ${jstr(name)}: [`);
         for (let i = 0; i < M.rows; i++) {
           emit(`  [${rowText(M, i, jnum, ', ')}]${i < M.rows - 1 ? ',' : ''}`);
-          if (i % 256 === 255) yield;
+          if (i % 256 === 255 || M.cols > 256) yield; // a wide row is a piece by itself: pieces leave as they fill
         }
         emit(' ],');
       }
