@@ -33,6 +33,7 @@
  */
 import { CsrMatrix, csrFromDense } from './csr';
 import { complexSolve, DenseMatrix } from './dense';
+import { hessenbergBlocked } from './hessenberg';
 import { symTridiagEigenvalues } from './symTridiag';
 
 export interface EigenResult {
@@ -1173,13 +1174,20 @@ function hqrAed(h: Float64Array, nn: number, wr: Float64Array, wi: Float64Array,
   return ok;
 }
 
+/** Blocks from this size are reduced to Hessenberg form by panels (LAPACK's crossover nx = 128). */
+const BLOCKED_HESSENBERG_MIN = 128;
+
 /** Eigenvalues of a general m×m block (destroyed), written at offset off. */
 function generalBlock(b: Float64Array, m: number, wr: Float64Array, wi: Float64Array, off: number): boolean {
   balance(b, m);
-  const ort = new Float64Array(m);
-  const applied = new Uint8Array(m);
-  orthes(b, m, ort, applied);
-  zeroBelowSubdiagonal(b, m);
+  if (m >= BLOCKED_HESSENBERG_MIN) {
+    hessenbergBlocked(b, m);
+  } else {
+    const ort = new Float64Array(m);
+    const applied = new Uint8Array(m);
+    orthes(b, m, ort, applied);
+    zeroBelowSubdiagonal(b, m);
+  }
   return m >= AED_NMIN ? hqrAed(b, m, wr, wi, off) : hqr(b, m, wr, wi, off);
 }
 
