@@ -423,7 +423,11 @@ export function dependsOn(n: Node, id: number): boolean {
     case 'num': return false;
     case 'sym': return n.id === id;
     case 'pow': return dependsOn(n.base, id) || dependsOn(n.exp, id);
-    default: return n.args.some((a) => dependsOn(a, id));
+    default: {
+      const args = n.args;
+      for (let k = 0; k < args.length; k++) if (dependsOn(args[k], id)) return true;
+      return false;
+    }
   }
 }
 
@@ -433,15 +437,23 @@ export function derivative(n: Node, id: number): Node {
   switch (n.t) {
     case 'num': return ZERO;
     case 'sym': return n.id === id ? ONE : ZERO;
-    case 'add': return add(n.args.map((a) => derivative(a, id)));
+    case 'add': {
+      const ds: Node[] = [];
+      for (let k = 0; k < n.args.length; k++) ds.push(derivative(n.args[k], id));
+      return add(ds);
+    }
     case 'mul': {
+      // the product rule: one term per factor that depends on the slot, the other factors in order, then its derivative
+      const args = n.args;
       const terms: Node[] = [];
-      n.args.forEach((a, i) => {
-        const da = derivative(a, id);
-        if (isNum(da, 0)) return;
-        const others = n.args.filter((_, j) => j !== i);
-        terms.push(mul([...others, da]));
-      });
+      for (let i = 0; i < args.length; i++) {
+        const da = derivative(args[i], id);
+        if (isNum(da, 0)) continue;
+        const factors: Node[] = [];
+        for (let j = 0; j < args.length; j++) if (j !== i) factors.push(args[j]);
+        factors.push(da);
+        terms.push(mul(factors));
+      }
       return add(terms);
     }
     case 'pow': {

@@ -312,502 +312,26 @@ export function sparseLU(
     for (let j = 0; j < n; j++) cs[j] = pow2Inverse(cmax[j]);
   }
 
-  // ------------------------------------------------------- active structure
-  const rowActive = new Uint8Array(n);
-  const colActive = new Uint8Array(n);
-  const rStart = new Int32Array(n);
-  const rLen = new Int32Array(n);
-  const rCap = new Int32Array(n);
-  const cStart = new Int32Array(n);
-  const cLen = new Int32Array(n);
-  const cCap = new Int32Array(n);
-  const rowMax = new Float64Array(n);
-  const hist = new Float64Array(n);
-
+  // ------------------------------------------------------------ eliminate
   const singularRows: number[] = [];
   const singularCols: number[] = [];
-
-  // column counts first
-  const colCnt = new Int32Array(n);
-  let nnz0 = 0;
-  for (let i = 0; i < n; i++) {
-    if (badRow[i]) continue;
-    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
-      const j = csrCol[p];
-      if (badCol[j]) continue;
-      colCnt[j]++;
-      nnz0++;
-    }
-  }
-  let rIdx = new Int32Array(Math.max(16, 2 * nnz0 + 4 * n));
-  let rVal = new Float64Array(rIdx.length);
-  let rTop = 0;
-  let cIdx = new Int32Array(Math.max(16, 2 * nnz0 + 4 * n));
-  let cTop = 0;
-  for (let j = 0; j < n; j++) {
-    if (badCol[j]) continue;
-    const cap = colCnt[j] + 2 + (colCnt[j] >> 1);
-    cStart[j] = cTop;
-    cCap[j] = cap;
-    cTop += cap;
-    colActive[j] = 1;
-  }
-  let activeNnz = 0;
-  for (let i = 0; i < n; i++) {
-    if (badRow[i]) continue;
-    rowActive[i] = 1;
-    let len = 0;
-    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) if (!badCol[csrCol[p]]) len++;
-    const cap = len + 2 + (len >> 1);
-    rStart[i] = rTop;
-    rCap[i] = cap;
-    let mx = 0;
-    let t = rTop;
-    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
-      const j = csrCol[p];
-      if (badCol[j]) continue;
-      const v = csrVal[p] * rs[i] * cs[j];
-      rIdx[t] = j;
-      rVal[t] = v;
-      t++;
-      const av = Math.abs(v);
-      if (av > mx) mx = av;
-      cIdx[cStart[j] + cLen[j]++] = i;
-    }
-    rLen[i] = len;
-    rTop += cap;
-    rowMax[i] = mx;
-    hist[i] = mx;
-    activeNnz += len;
-  }
-  let nAR = 0, nAC = 0;
-  for (let i = 0; i < n; i++) {
-    if (badRow[i]) singularRows.push(i);
-    else nAR++;
-    if (badCol[i]) singularCols.push(i);
-    else nAC++;
-  }
-
-  // rows and columns in buckets by their current count of entries
-  const rowBuckets = new CountBuckets(n);
-  const colBuckets = new CountBuckets(n);
-  const rHead = rowBuckets.head, rNext = rowBuckets.next;
-  const cHead = colBuckets.head, cNext = colBuckets.next;
-  const unlinkRow = (i: number): void => rowBuckets.unlink(i);
-  const linkRow = (i: number): void => rowBuckets.link(i, rLen[i]);
-  const unlinkCol = (j: number): void => colBuckets.unlink(j);
-  const linkCol = (j: number): void => colBuckets.link(j, cLen[j]);
-  for (let j = n - 1; j >= 0; j--) if (colActive[j]) linkCol(j);
-  for (let i = n - 1; i >= 0; i--) if (rowActive[i]) linkRow(i);
-
-  // pool management -------------------------------------------------------
-  const compactRows = (extra: number): void => {
-    let live = extra;
-    for (let i = 0; i < n; i++) if (rowActive[i]) live += rCap[i];
-    const size = Math.max(rIdx.length, 2 * live + 16);
-    const ni = new Int32Array(size);
-    const nv = new Float64Array(size);
-    let top = 0;
-    for (let i = 0; i < n; i++) {
-      if (!rowActive[i]) continue;
-      const s = rStart[i], l = rLen[i];
-      ni.set(rIdx.subarray(s, s + l), top);
-      nv.set(rVal.subarray(s, s + l), top);
-      rStart[i] = top;
-      top += rCap[i];
-    }
-    rIdx = ni;
-    rVal = nv;
-    rTop = top;
-  };
-  const growRow = (i: number, need: number): void => {
-    const want = rLen[i] + need;
-    if (want <= rCap[i]) return;
-    const cap = Math.max(want + (want >> 1), 2 * rCap[i], 4);
-    if (rTop + cap > rIdx.length) compactRows(cap);
-    const s = rStart[i], l = rLen[i];
-    rIdx.copyWithin(rTop, s, s + l);
-    rVal.copyWithin(rTop, s, s + l);
-    rStart[i] = rTop;
-    rCap[i] = cap;
-    rTop += cap;
-  };
-  const compactCols = (extra: number): void => {
-    let live = extra;
-    for (let j = 0; j < n; j++) if (colActive[j]) live += cCap[j];
-    const size = Math.max(cIdx.length, 2 * live + 16);
-    const ni = new Int32Array(size);
-    let top = 0;
-    for (let j = 0; j < n; j++) {
-      if (!colActive[j]) continue;
-      const s = cStart[j], l = cLen[j];
-      ni.set(cIdx.subarray(s, s + l), top);
-      cStart[j] = top;
-      top += cCap[j];
-    }
-    cIdx = ni;
-    cTop = top;
-  };
-  const colAppend = (j: number, i: number): void => {
-    if (cLen[j] === cCap[j]) {
-      const cap = Math.max(2 * cCap[j], 4);
-      if (cTop + cap > cIdx.length) compactCols(cap);
-      const s = cStart[j], l = cLen[j];
-      cIdx.copyWithin(cTop, s, s + l);
-      cStart[j] = cTop;
-      cCap[j] = cap;
-      cTop += cap;
-    }
-    cIdx[cStart[j] + cLen[j]++] = i;
-  };
-  const colRemove = (j: number, i: number): void => {
-    const s = cStart[j];
-    const e = s + cLen[j] - 1;
-    for (let t = s; t <= e; t++) {
-      if (cIdx[t] === i) {
-        cIdx[t] = cIdx[e];
-        cLen[j]--;
-        return;
-      }
-    }
-  };
-  /** Removes entry j from row i (if present) and returns its value (0 if absent). */
-  const rowRemove = (i: number, j: number): number => {
-    const s = rStart[i];
-    const e = s + rLen[i] - 1;
-    for (let t = s; t <= e; t++) {
-      if (rIdx[t] === j) {
-        const v = rVal[t];
-        rIdx[t] = rIdx[e];
-        rVal[t] = rVal[e];
-        rLen[i]--;
-        activeNnz--;
-        return v;
-      }
-    }
-    return 0;
-  };
-  const recomputeRowMax = (i: number): void => {
-    let mx = 0;
-    const s = rStart[i], e = s + rLen[i];
-    for (let t = s; t < e; t++) {
-      const av = Math.abs(rVal[t]);
-      if (av > mx) mx = av;
-    }
-    rowMax[i] = mx;
-  };
-
-  const dropRow = (i: number): void => {
-    // row i cannot be pivoted: remove it from the active submatrix
-    const s = rStart[i], e = s + rLen[i];
-    for (let t = s; t < e; t++) {
-      const j = rIdx[t];
-      colRemove(j, i);
-      linkCol(j);
-    }
-    activeNnz -= rLen[i];
-    rLen[i] = 0;
-    unlinkRow(i);
-    rowActive[i] = 0;
-    nAR--;
-    singularRows.push(i);
-  };
-  const dropCol = (j: number): void => {
-    const s = cStart[j], e = s + cLen[j];
-    for (let t = s; t < e; t++) {
-      const i = cIdx[t];
-      rowRemove(i, j);
-      recomputeRowMax(i);
-      linkRow(i);
-    }
-    cLen[j] = 0;
-    unlinkCol(j);
-    colActive[j] = 0;
-    nAC--;
-    singularCols.push(j);
-  };
-
-  // factors ---------------------------------------------------------------
-  const pivRowB = new I32Buf(n);
-  const pivColB = new I32Buf(n);
-  const pivValB = new F64Buf(n);
-  const Lptr = new I32Buf(n + 1);
-  const Li = new I32Buf(2 * nnz0 + 16);
-  const Lv = new F64Buf(2 * nnz0 + 16);
-  const Uptr = new I32Buf(n + 1);
-  const Ui = new I32Buf(2 * nnz0 + 16);
-  const Uv = new F64Buf(2 * nnz0 + 16);
-  Lptr.push(0);
-  Uptr.push(0);
-
-  // work arrays
-  const pivPos = new Int32Array(n).fill(-1);
-  const seen = new Int32Array(n);
-  let stamp = 0;
-  const pCols = new Int32Array(n);
-  const pVals = new Float64Array(n);
-  const fillBuf = new Int32Array(n);
-  const colRowsTmp = new Int32Array(n);
-  const pendRows: number[] = [];
-  const pendCols: number[] = [];
-
-  let P = -1, Q = -1;
-
-  /** Finds a pivot; returns false when no acceptable pivot remains. */
-  const findPivot = (): boolean => {
-    for (;;) {
-      while (rHead[0] >= 0) dropRow(rHead[0]);
-      while (cHead[0] >= 0) dropCol(cHead[0]);
-      if (nAR === 0 || nAC === 0) return false;
-      let bestP = -1, bestQ = -1, bestCost = Infinity, bestRatio = 0;
-      let searched = 0;
-      pendRows.length = 0;
-      pendCols.length = 0;
-      outer: for (let k = 1; k <= n; k++) {
-        const km1 = k - 1;
-        for (let j = cHead[k]; j >= 0; j = cNext[j]) {
-          let any = false;
-          const cs0 = cStart[j], ce = cs0 + cLen[j];
-          for (let t = cs0; t < ce; t++) {
-            const i = cIdx[t];
-            // value of (i, j)
-            const s = rStart[i], e = s + rLen[i];
-            let v = 0;
-            for (let q = s; q < e; q++) {
-              if (rIdx[q] === j) {
-                v = rVal[q];
-                break;
-              }
-            }
-            const av = Math.abs(v);
-            if (!(av > singTol * hist[i])) continue;
-            any = true;
-            if (av >= u * rowMax[i]) {
-              const cost = (rLen[i] - 1) * km1;
-              const ratio = av / rowMax[i];
-              if (cost < bestCost || (cost === bestCost && ratio > bestRatio)) {
-                bestCost = cost;
-                bestRatio = ratio;
-                bestP = i;
-                bestQ = j;
-              }
-            }
-          }
-          if (!any) pendCols.push(j);
-          searched++;
-          if (bestP >= 0 && (bestCost <= km1 * km1 || searched >= SEARCH_LIMIT)) break outer;
-        }
-        for (let i = rHead[k]; i >= 0; i = rNext[i]) {
-          const rm = rowMax[i];
-          const negl = singTol * hist[i];
-          if (!(rm > negl)) {
-            pendRows.push(i);
-            continue;
-          }
-          const thr = Math.max(u * rm, negl);
-          const s = rStart[i], e = s + rLen[i];
-          for (let q = s; q < e; q++) {
-            const av = Math.abs(rVal[q]);
-            if (av >= thr && av > negl) {
-              const cost = km1 * (cLen[rIdx[q]] - 1);
-              const ratio = av / rm;
-              if (cost < bestCost || (cost === bestCost && ratio > bestRatio)) {
-                bestCost = cost;
-                bestRatio = ratio;
-                bestP = i;
-                bestQ = rIdx[q];
-              }
-            }
-          }
-          searched++;
-          if (bestP >= 0 && (bestCost <= km1 * km1 || searched >= SEARCH_LIMIT)) break outer;
-        }
-      }
-      if (pendRows.length > 0 || pendCols.length > 0) {
-        for (const i of pendRows) if (rowActive[i]) dropRow(i);
-        // a column whose entries are all negligible stays so (later updates only subtract
-        // bounded multiples of negligible pivot-row entries): it cannot be pivoted
-        for (const j of pendCols) if (colActive[j]) dropCol(j);
-        continue;
-      }
-      if (bestP < 0) return false;
-      P = bestP;
-      Q = bestQ;
-      return true;
-    }
-  };
-
-  const eliminate = (p: number, q: number): void => {
-    // pivot row: record U entries, scatter
-    const ps = rStart[p], pe = ps + rLen[p];
-    let piv = 0;
-    let np = 0;
-    for (let t = ps; t < pe; t++) {
-      const j = rIdx[t];
-      const v = rVal[t];
-      if (j === q) piv = v;
-      else {
-        pCols[np] = j;
-        pVals[np] = v;
-        pivPos[j] = np;
-        np++;
-        Ui.push(j);
-        Uv.push(v);
-      }
-      colRemove(j, p);
-    }
-    pivRowB.push(p);
-    pivColB.push(q);
-    pivValB.push(piv);
-    Uptr.push(Ui.n);
-    activeNnz -= rLen[p];
-    rLen[p] = 0;
-    unlinkRow(p);
-    rowActive[p] = 0;
-    nAR--;
-    const histP = hist[p];
-    // rows to update
-    const nq = cLen[q];
-    colRowsTmp.set(cIdx.subarray(cStart[q], cStart[q] + nq));
-    cLen[q] = 0;
-    unlinkCol(q);
-    colActive[q] = 0;
-    nAC--;
-    for (let r = 0; r < nq; r++) {
-      const i = colRowsTmp[r];
-      const aiq = rowRemove(i, q);
-      const l = aiq / piv;
-      Li.push(i);
-      Lv.push(l);
-      stamp++;
-      let s = rStart[i];
-      let len = rLen[i];
-      let mx = 0;
-      for (let t = s; t < s + len; t++) {
-        const m = pivPos[rIdx[t]];
-        let v = rVal[t];
-        if (m >= 0) {
-          v -= l * pVals[m];
-          rVal[t] = v;
-          seen[m] = stamp;
-        }
-        const av = Math.abs(v);
-        if (av > mx) mx = av;
-      }
-      let nf = 0;
-      for (let m = 0; m < np; m++) if (seen[m] !== stamp) fillBuf[nf++] = m;
-      if (nf > 0) {
-        growRow(i, nf);
-        s = rStart[i];
-        for (let f = 0; f < nf; f++) {
-          const m = fillBuf[f];
-          const j = pCols[m];
-          const v = -l * pVals[m];
-          rIdx[s + len] = j;
-          rVal[s + len] = v;
-          len++;
-          const av = Math.abs(v);
-          if (av > mx) mx = av;
-          colAppend(j, i);
-        }
-        rLen[i] = len;
-        activeNnz += nf;
-      }
-      rowMax[i] = mx;
-      let h = hist[i];
-      if (mx > h) h = mx;
-      const g = Math.abs(l) * histP;
-      if (g > h) h = g;
-      hist[i] = h;
-      linkRow(i);
-    }
-    Lptr.push(Li.n);
-    for (let m = 0; m < np; m++) {
-      const j = pCols[m];
-      pivPos[j] = -1;
-      linkCol(j);
-    }
-  };
-
-  const densePhase = (): void => {
-    const R: number[] = [];
-    const C: number[] = [];
-    for (let i = 0; i < n; i++) if (rowActive[i]) R.push(i);
-    for (let j = 0; j < n; j++) if (colActive[j]) C.push(j);
-    const nr = R.length, nc = C.length;
-    const loc = pivPos; // reuse as column -> local index map
-    for (let c = 0; c < nc; c++) loc[C[c]] = c;
-    const M = new Float64Array(nr * nc);
-    const h = new Float64Array(nr);
-    for (let r = 0; r < nr; r++) {
-      const i = R[r];
-      const s = rStart[i], e = s + rLen[i];
-      for (let t = s; t < e; t++) M[r * nc + loc[rIdx[t]]] = rVal[t];
-      h[r] = hist[i];
-    }
-    for (let c = 0; c < nc; c++) loc[C[c]] = -1;
-    const res = denseBlockLU(M, nr, nc, h, singTol);
-    // record the steps in the common sparse format
-    const k = res.pr.length;
-    for (let s = 0; s < k; s++) {
-      const p = res.pr[s], c = res.pc[s];
-      const po = p * nc;
-      pivRowB.push(R[p]);
-      pivColB.push(C[c]);
-      pivValB.push(M[po + c]);
-      for (let c2 = c + 1; c2 < nc; c2++) {
-        const v = M[po + c2];
-        if (v !== 0) {
-          Ui.push(C[c2]);
-          Uv.push(v);
-        }
-      }
-      Uptr.push(Ui.n);
-      // rows live at step s: rows pivoted later, and rows never pivoted
-      for (let r = 0; r < nr; r++) {
-        const st = res.rowStep[r];
-        if (st > s || st === -1) {
-          const l = M[r * nc + c];
-          if (l !== 0) {
-            Li.push(R[r]);
-            Lv.push(l);
-          }
-        }
-      }
-      Lptr.push(Li.n);
-    }
-    for (let c = 0; c < nc; c++) if (res.colStep[c] < 0) singularCols.push(C[c]);
-    for (let r = 0; r < nr; r++) if (res.rowStep[r] < 0) singularRows.push(R[r]);
-    for (let r = 0; r < nr; r++) rowActive[R[r]] = 0;
-    for (let c = 0; c < nc; c++) colActive[C[c]] = 0;
-    nAR = 0;
-    nAC = 0;
-  };
-
-  // ------------------------------------------------------------ main loop
-  for (;;) {
-    if (nAR === 0 || nAC === 0) break;
-    if (activeNnz > DENSE_SWITCH * nAR * nAC) {
-      densePhase();
-      break;
-    }
-    if (!findPivot()) break;
-    eliminate(P, Q);
-  }
+  const el = new Elimination(n, u, singTol, rowPtr, csrCol, csrVal, rs, cs, badRow, badCol, singularRows, singularCols);
+  el.run();
+  const { rowActive, colActive } = el;
   for (let i = 0; i < n; i++) if (rowActive[i]) singularRows.push(i);
   for (let j = 0; j < n; j++) if (colActive[j]) singularCols.push(j);
   singularRows.sort((x, y) => x - y);
   singularCols.sort((x, y) => x - y);
 
-  const pivRow = pivRowB.trim();
-  const pivCol = pivColB.trim();
-  const pivVal = pivValB.trim();
-  const lp = Lptr.trim();
-  const li = Li.trim();
-  const lv = Lv.trim();
-  const up = Uptr.trim();
-  const ui = Ui.trim();
-  const uv = Uv.trim();
+  const pivRow = el.pivRowB.trim();
+  const pivCol = el.pivColB.trim();
+  const pivVal = el.pivValB.trim();
+  const lp = el.Lptr.trim();
+  const li = el.Li.trim();
+  const lv = el.Lv.trim();
+  const up = el.Uptr.trim();
+  const ui = el.Ui.trim();
+  const uv = el.Uv.trim();
   const rank = pivRow.length;
   const ok = rank === n && !anyBad;
 
@@ -919,6 +443,581 @@ export function sparseLU(
     factorNnz: li.length + ui.length + rank,
     factors: { n, rank, rs, cs, pivRow, pivCol, pivVal, lp, li, lv, up, ui, uv },
   };
+}
+
+/**
+ * The right-looking elimination of one factorisation (Markowitz pivots, threshold test, dense switch): the
+ * active submatrix, its buckets and the factors as they grow. A class rather than closures inside
+ * `sparseLU`, so that every factorisation calls the same functions: the engine's optimised code of the
+ * first factorisation serves the next ones (closures made afresh per call are new call targets, and code
+ * that inlined the last call's closures is thrown away at each call).
+ */
+class Elimination {
+  readonly rowActive: Uint8Array;
+  readonly colActive: Uint8Array;
+  readonly rStart: Int32Array;
+  readonly rLen: Int32Array;
+  readonly rCap: Int32Array;
+  readonly cStart: Int32Array;
+  readonly cLen: Int32Array;
+  readonly cCap: Int32Array;
+  readonly rowMax: Float64Array;
+  readonly hist: Float64Array;
+  rIdx: Int32Array;
+  rVal: Float64Array;
+  rTop = 0;
+  cIdx: Int32Array;
+  cTop = 0;
+  activeNnz = 0;
+  nAR = 0;
+  nAC = 0;
+  readonly rowBuckets: CountBuckets;
+  readonly colBuckets: CountBuckets;
+  // factors
+  readonly pivRowB: I32Buf;
+  readonly pivColB: I32Buf;
+  readonly pivValB: F64Buf;
+  readonly Lptr: I32Buf;
+  readonly Li: I32Buf;
+  readonly Lv: F64Buf;
+  readonly Uptr: I32Buf;
+  readonly Ui: I32Buf;
+  readonly Uv: F64Buf;
+  // work arrays
+  readonly pivPos: Int32Array;
+  readonly seen: Int32Array;
+  stamp = 0;
+  readonly pCols: Int32Array;
+  readonly pVals: Float64Array;
+  readonly fillBuf: Int32Array;
+  readonly colRowsTmp: Int32Array;
+  readonly pendRows: number[] = [];
+  readonly pendCols: number[] = [];
+  P = -1;
+  Q = -1;
+
+  constructor(
+    readonly n: number,
+    readonly u: number,
+    readonly singTol: number,
+    rowPtr: Int32Array,
+    csrCol: Int32Array,
+    csrVal: Float64Array,
+    rs: Float64Array,
+    cs: Float64Array,
+    badRow: Uint8Array,
+    badCol: Uint8Array,
+    readonly singularRows: number[],
+    readonly singularCols: number[],
+  ) {
+    this.rowActive = new Uint8Array(n);
+    this.colActive = new Uint8Array(n);
+    this.rStart = new Int32Array(n);
+    this.rLen = new Int32Array(n);
+    this.rCap = new Int32Array(n);
+    this.cStart = new Int32Array(n);
+    this.cLen = new Int32Array(n);
+    this.cCap = new Int32Array(n);
+    this.rowMax = new Float64Array(n);
+    this.hist = new Float64Array(n);
+    const { rowActive, colActive, rStart, rLen, rCap, cStart, cLen, cCap, rowMax, hist } = this;
+
+    // column counts first
+    const colCnt = new Int32Array(n);
+    let nnz0 = 0;
+    for (let i = 0; i < n; i++) {
+      if (badRow[i]) continue;
+      for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
+        const j = csrCol[p];
+        if (badCol[j]) continue;
+        colCnt[j]++;
+        nnz0++;
+      }
+    }
+    const rIdx = (this.rIdx = new Int32Array(Math.max(16, 2 * nnz0 + 4 * n)));
+    const rVal = (this.rVal = new Float64Array(rIdx.length));
+    let rTop = 0;
+    const cIdx = (this.cIdx = new Int32Array(Math.max(16, 2 * nnz0 + 4 * n)));
+    let cTop = 0;
+    for (let j = 0; j < n; j++) {
+      if (badCol[j]) continue;
+      const cap = colCnt[j] + 2 + (colCnt[j] >> 1);
+      cStart[j] = cTop;
+      cCap[j] = cap;
+      cTop += cap;
+      colActive[j] = 1;
+    }
+    let activeNnz = 0;
+    for (let i = 0; i < n; i++) {
+      if (badRow[i]) continue;
+      rowActive[i] = 1;
+      let len = 0;
+      for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) if (!badCol[csrCol[p]]) len++;
+      const cap = len + 2 + (len >> 1);
+      rStart[i] = rTop;
+      rCap[i] = cap;
+      let mx = 0;
+      let t = rTop;
+      for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
+        const j = csrCol[p];
+        if (badCol[j]) continue;
+        const v = csrVal[p] * rs[i] * cs[j];
+        rIdx[t] = j;
+        rVal[t] = v;
+        t++;
+        const av = Math.abs(v);
+        if (av > mx) mx = av;
+        cIdx[cStart[j] + cLen[j]++] = i;
+      }
+      rLen[i] = len;
+      rTop += cap;
+      rowMax[i] = mx;
+      hist[i] = mx;
+      activeNnz += len;
+    }
+    this.rTop = rTop;
+    this.cTop = cTop;
+    this.activeNnz = activeNnz;
+    let nAR = 0, nAC = 0;
+    for (let i = 0; i < n; i++) {
+      if (badRow[i]) singularRows.push(i);
+      else nAR++;
+      if (badCol[i]) singularCols.push(i);
+      else nAC++;
+    }
+    this.nAR = nAR;
+    this.nAC = nAC;
+
+    // rows and columns in buckets by their current count of entries
+    this.rowBuckets = new CountBuckets(n);
+    this.colBuckets = new CountBuckets(n);
+    for (let j = n - 1; j >= 0; j--) if (colActive[j]) this.colBuckets.link(j, cLen[j]);
+    for (let i = n - 1; i >= 0; i--) if (rowActive[i]) this.rowBuckets.link(i, rLen[i]);
+
+    this.pivRowB = new I32Buf(n);
+    this.pivColB = new I32Buf(n);
+    this.pivValB = new F64Buf(n);
+    this.Lptr = new I32Buf(n + 1);
+    this.Li = new I32Buf(2 * nnz0 + 16);
+    this.Lv = new F64Buf(2 * nnz0 + 16);
+    this.Uptr = new I32Buf(n + 1);
+    this.Ui = new I32Buf(2 * nnz0 + 16);
+    this.Uv = new F64Buf(2 * nnz0 + 16);
+    this.Lptr.push(0);
+    this.Uptr.push(0);
+
+    this.pivPos = new Int32Array(n).fill(-1);
+    this.seen = new Int32Array(n);
+    this.pCols = new Int32Array(n);
+    this.pVals = new Float64Array(n);
+    this.fillBuf = new Int32Array(n);
+    this.colRowsTmp = new Int32Array(n);
+  }
+
+  /** The elimination to its end: sparse steps, then the dense kernel once the active submatrix fills in. */
+  run(): void {
+    for (;;) {
+      if (this.nAR === 0 || this.nAC === 0) break;
+      if (this.activeNnz > DENSE_SWITCH * this.nAR * this.nAC) {
+        this.densePhase();
+        break;
+      }
+      if (!this.findPivot()) break;
+      this.eliminate(this.P, this.Q);
+    }
+  }
+
+  // pool management -------------------------------------------------------
+  compactRows(extra: number): void {
+    const { n, rowActive, rCap, rStart, rLen } = this;
+    const rIdx = this.rIdx, rVal = this.rVal;
+    let live = extra;
+    for (let i = 0; i < n; i++) if (rowActive[i]) live += rCap[i];
+    const size = Math.max(rIdx.length, 2 * live + 16);
+    const ni = new Int32Array(size);
+    const nv = new Float64Array(size);
+    let top = 0;
+    for (let i = 0; i < n; i++) {
+      if (!rowActive[i]) continue;
+      const s = rStart[i], l = rLen[i];
+      ni.set(rIdx.subarray(s, s + l), top);
+      nv.set(rVal.subarray(s, s + l), top);
+      rStart[i] = top;
+      top += rCap[i];
+    }
+    this.rIdx = ni;
+    this.rVal = nv;
+    this.rTop = top;
+  }
+
+  growRow(i: number, need: number): void {
+    const { rLen, rCap, rStart } = this;
+    const want = rLen[i] + need;
+    if (want <= rCap[i]) return;
+    const cap = Math.max(want + (want >> 1), 2 * rCap[i], 4);
+    if (this.rTop + cap > this.rIdx.length) this.compactRows(cap);
+    const s = rStart[i], l = rLen[i];
+    const rTop = this.rTop;
+    this.rIdx.copyWithin(rTop, s, s + l);
+    this.rVal.copyWithin(rTop, s, s + l);
+    rStart[i] = rTop;
+    rCap[i] = cap;
+    this.rTop = rTop + cap;
+  }
+
+  compactCols(extra: number): void {
+    const { n, colActive, cCap, cStart, cLen } = this;
+    const cIdx = this.cIdx;
+    let live = extra;
+    for (let j = 0; j < n; j++) if (colActive[j]) live += cCap[j];
+    const size = Math.max(cIdx.length, 2 * live + 16);
+    const ni = new Int32Array(size);
+    let top = 0;
+    for (let j = 0; j < n; j++) {
+      if (!colActive[j]) continue;
+      const s = cStart[j], l = cLen[j];
+      ni.set(cIdx.subarray(s, s + l), top);
+      cStart[j] = top;
+      top += cCap[j];
+    }
+    this.cIdx = ni;
+    this.cTop = top;
+  }
+
+  colAppend(j: number, i: number): void {
+    const { cLen, cCap, cStart } = this;
+    if (cLen[j] === cCap[j]) {
+      const cap = Math.max(2 * cCap[j], 4);
+      if (this.cTop + cap > this.cIdx.length) this.compactCols(cap);
+      const s = cStart[j], l = cLen[j];
+      const cTop = this.cTop;
+      this.cIdx.copyWithin(cTop, s, s + l);
+      cStart[j] = cTop;
+      cCap[j] = cap;
+      this.cTop = cTop + cap;
+    }
+    this.cIdx[cStart[j] + cLen[j]++] = i;
+  }
+
+  colRemove(j: number, i: number): void {
+    const cIdx = this.cIdx, cLen = this.cLen;
+    const s = this.cStart[j];
+    const e = s + cLen[j] - 1;
+    for (let t = s; t <= e; t++) {
+      if (cIdx[t] === i) {
+        cIdx[t] = cIdx[e];
+        cLen[j]--;
+        return;
+      }
+    }
+  }
+
+  /** Removes entry j from row i (if present) and returns its value (0 if absent). */
+  rowRemove(i: number, j: number): number {
+    const rIdx = this.rIdx, rVal = this.rVal, rLen = this.rLen;
+    const s = this.rStart[i];
+    const e = s + rLen[i] - 1;
+    for (let t = s; t <= e; t++) {
+      if (rIdx[t] === j) {
+        const v = rVal[t];
+        rIdx[t] = rIdx[e];
+        rVal[t] = rVal[e];
+        rLen[i]--;
+        this.activeNnz--;
+        return v;
+      }
+    }
+    return 0;
+  }
+
+  recomputeRowMax(i: number): void {
+    const rVal = this.rVal;
+    let mx = 0;
+    const s = this.rStart[i], e = s + this.rLen[i];
+    for (let t = s; t < e; t++) {
+      const av = Math.abs(rVal[t]);
+      if (av > mx) mx = av;
+    }
+    this.rowMax[i] = mx;
+  }
+
+  /** Row i cannot be pivoted: removed from the active submatrix. */
+  dropRow(i: number): void {
+    const { rStart, rLen, cLen, colBuckets } = this;
+    const rIdx = this.rIdx;
+    const s = rStart[i], e = s + rLen[i];
+    for (let t = s; t < e; t++) {
+      const j = rIdx[t];
+      this.colRemove(j, i);
+      colBuckets.link(j, cLen[j]);
+    }
+    this.activeNnz -= rLen[i];
+    rLen[i] = 0;
+    this.rowBuckets.unlink(i);
+    this.rowActive[i] = 0;
+    this.nAR--;
+    this.singularRows.push(i);
+  }
+
+  dropCol(j: number): void {
+    const { cStart, cLen, rLen, rowBuckets } = this;
+    const cIdx = this.cIdx;
+    const s = cStart[j], e = s + cLen[j];
+    for (let t = s; t < e; t++) {
+      const i = cIdx[t];
+      this.rowRemove(i, j);
+      this.recomputeRowMax(i);
+      rowBuckets.link(i, rLen[i]);
+    }
+    cLen[j] = 0;
+    this.colBuckets.unlink(j);
+    this.colActive[j] = 0;
+    this.nAC--;
+    this.singularCols.push(j);
+  }
+
+  /** Finds a pivot (P, Q); returns false when no acceptable pivot remains. */
+  findPivot(): boolean {
+    const { n, u, singTol, rStart, rLen, cStart, cLen, rowMax, hist, rowActive, colActive, pendRows, pendCols } = this;
+    const rHead = this.rowBuckets.head, rNext = this.rowBuckets.next;
+    const cHead = this.colBuckets.head, cNext = this.colBuckets.next;
+    for (;;) {
+      while (rHead[0] >= 0) this.dropRow(rHead[0]);
+      while (cHead[0] >= 0) this.dropCol(cHead[0]);
+      if (this.nAR === 0 || this.nAC === 0) return false;
+      // the pools do not move during the search
+      const rIdx = this.rIdx, rVal = this.rVal, cIdx = this.cIdx;
+      let bestP = -1, bestQ = -1, bestCost = Infinity, bestRatio = 0;
+      let searched = 0;
+      pendRows.length = 0;
+      pendCols.length = 0;
+      outer: for (let k = 1; k <= n; k++) {
+        const km1 = k - 1;
+        for (let j = cHead[k]; j >= 0; j = cNext[j]) {
+          let any = false;
+          const cs0 = cStart[j], ce = cs0 + cLen[j];
+          for (let t = cs0; t < ce; t++) {
+            const i = cIdx[t];
+            // value of (i, j)
+            const s = rStart[i], e = s + rLen[i];
+            let v = 0;
+            for (let q = s; q < e; q++) {
+              if (rIdx[q] === j) {
+                v = rVal[q];
+                break;
+              }
+            }
+            const av = Math.abs(v);
+            if (!(av > singTol * hist[i])) continue;
+            any = true;
+            if (av >= u * rowMax[i]) {
+              const cost = (rLen[i] - 1) * km1;
+              const ratio = av / rowMax[i];
+              if (cost < bestCost || (cost === bestCost && ratio > bestRatio)) {
+                bestCost = cost;
+                bestRatio = ratio;
+                bestP = i;
+                bestQ = j;
+              }
+            }
+          }
+          if (!any) pendCols.push(j);
+          searched++;
+          if (bestP >= 0 && (bestCost <= km1 * km1 || searched >= SEARCH_LIMIT)) break outer;
+        }
+        for (let i = rHead[k]; i >= 0; i = rNext[i]) {
+          const rm = rowMax[i];
+          const negl = singTol * hist[i];
+          if (!(rm > negl)) {
+            pendRows.push(i);
+            continue;
+          }
+          const thr = Math.max(u * rm, negl);
+          const s = rStart[i], e = s + rLen[i];
+          for (let q = s; q < e; q++) {
+            const av = Math.abs(rVal[q]);
+            if (av >= thr && av > negl) {
+              const cost = km1 * (cLen[rIdx[q]] - 1);
+              const ratio = av / rm;
+              if (cost < bestCost || (cost === bestCost && ratio > bestRatio)) {
+                bestCost = cost;
+                bestRatio = ratio;
+                bestP = i;
+                bestQ = rIdx[q];
+              }
+            }
+          }
+          searched++;
+          if (bestP >= 0 && (bestCost <= km1 * km1 || searched >= SEARCH_LIMIT)) break outer;
+        }
+      }
+      if (pendRows.length > 0 || pendCols.length > 0) {
+        for (const i of pendRows) if (rowActive[i]) this.dropRow(i);
+        // a column whose entries are all negligible stays so (later updates only subtract
+        // bounded multiples of negligible pivot-row entries): it cannot be pivoted
+        for (const j of pendCols) if (colActive[j]) this.dropCol(j);
+        continue;
+      }
+      if (bestP < 0) return false;
+      this.P = bestP;
+      this.Q = bestQ;
+      return true;
+    }
+  }
+
+  eliminate(p: number, q: number): void {
+    const { rStart, rLen, cStart, cLen, rowMax, hist, pivPos, seen, pCols, pVals, fillBuf, colRowsTmp, Li, Lv, Ui, Uv, rowBuckets, colBuckets } = this;
+    // pivot row: record U entries, scatter
+    let rIdx = this.rIdx, rVal = this.rVal;
+    const ps = rStart[p], pe = ps + rLen[p];
+    let piv = 0;
+    let np = 0;
+    for (let t = ps; t < pe; t++) {
+      const j = rIdx[t];
+      const v = rVal[t];
+      if (j === q) piv = v;
+      else {
+        pCols[np] = j;
+        pVals[np] = v;
+        pivPos[j] = np;
+        np++;
+        Ui.push(j);
+        Uv.push(v);
+      }
+      this.colRemove(j, p);
+    }
+    this.pivRowB.push(p);
+    this.pivColB.push(q);
+    this.pivValB.push(piv);
+    this.Uptr.push(Ui.n);
+    this.activeNnz -= rLen[p];
+    rLen[p] = 0;
+    rowBuckets.unlink(p);
+    this.rowActive[p] = 0;
+    this.nAR--;
+    const histP = hist[p];
+    // rows to update
+    const nq = cLen[q];
+    colRowsTmp.set(this.cIdx.subarray(cStart[q], cStart[q] + nq));
+    cLen[q] = 0;
+    colBuckets.unlink(q);
+    this.colActive[q] = 0;
+    this.nAC--;
+    for (let r = 0; r < nq; r++) {
+      const i = colRowsTmp[r];
+      const aiq = this.rowRemove(i, q);
+      const l = aiq / piv;
+      Li.push(i);
+      Lv.push(l);
+      const stamp = ++this.stamp;
+      let s = rStart[i];
+      let len = rLen[i];
+      let mx = 0;
+      for (let t = s; t < s + len; t++) {
+        const m = pivPos[rIdx[t]];
+        let v = rVal[t];
+        if (m >= 0) {
+          v -= l * pVals[m];
+          rVal[t] = v;
+          seen[m] = stamp;
+        }
+        const av = Math.abs(v);
+        if (av > mx) mx = av;
+      }
+      let nf = 0;
+      for (let m = 0; m < np; m++) if (seen[m] !== stamp) fillBuf[nf++] = m;
+      if (nf > 0) {
+        this.growRow(i, nf);
+        // the row may have moved, and the pool with it
+        rIdx = this.rIdx;
+        rVal = this.rVal;
+        s = rStart[i];
+        for (let f = 0; f < nf; f++) {
+          const m = fillBuf[f];
+          const j = pCols[m];
+          const v = -l * pVals[m];
+          rIdx[s + len] = j;
+          rVal[s + len] = v;
+          len++;
+          const av = Math.abs(v);
+          if (av > mx) mx = av;
+          this.colAppend(j, i);
+        }
+        rLen[i] = len;
+        this.activeNnz += nf;
+      }
+      rowMax[i] = mx;
+      let h = hist[i];
+      if (mx > h) h = mx;
+      const g = Math.abs(l) * histP;
+      if (g > h) h = g;
+      hist[i] = h;
+      rowBuckets.link(i, rLen[i]);
+    }
+    this.Lptr.push(Li.n);
+    for (let m = 0; m < np; m++) {
+      const j = pCols[m];
+      pivPos[j] = -1;
+      colBuckets.link(j, cLen[j]);
+    }
+  }
+
+  densePhase(): void {
+    const { n, rowActive, colActive, rStart, rLen, hist, pivRowB, pivColB, pivValB, Li, Lv, Ui, Uv, Lptr, Uptr, singularRows, singularCols } = this;
+    const rIdx = this.rIdx, rVal = this.rVal;
+    const R: number[] = [];
+    const C: number[] = [];
+    for (let i = 0; i < n; i++) if (rowActive[i]) R.push(i);
+    for (let j = 0; j < n; j++) if (colActive[j]) C.push(j);
+    const nr = R.length, nc = C.length;
+    const loc = this.pivPos; // reuse as column -> local index map
+    for (let c = 0; c < nc; c++) loc[C[c]] = c;
+    const M = new Float64Array(nr * nc);
+    const h = new Float64Array(nr);
+    for (let r = 0; r < nr; r++) {
+      const i = R[r];
+      const s = rStart[i], e = s + rLen[i];
+      for (let t = s; t < e; t++) M[r * nc + loc[rIdx[t]]] = rVal[t];
+      h[r] = hist[i];
+    }
+    for (let c = 0; c < nc; c++) loc[C[c]] = -1;
+    const res = denseBlockLU(M, nr, nc, h, this.singTol);
+    // record the steps in the common sparse format
+    const k = res.pr.length;
+    for (let s = 0; s < k; s++) {
+      const p = res.pr[s], c = res.pc[s];
+      const po = p * nc;
+      pivRowB.push(R[p]);
+      pivColB.push(C[c]);
+      pivValB.push(M[po + c]);
+      for (let c2 = c + 1; c2 < nc; c2++) {
+        const v = M[po + c2];
+        if (v !== 0) {
+          Ui.push(C[c2]);
+          Uv.push(v);
+        }
+      }
+      Uptr.push(Ui.n);
+      // rows live at step s: rows pivoted later, and rows never pivoted
+      for (let r = 0; r < nr; r++) {
+        const st = res.rowStep[r];
+        if (st > s || st === -1) {
+          const l = M[r * nc + c];
+          if (l !== 0) {
+            Li.push(R[r]);
+            Lv.push(l);
+          }
+        }
+      }
+      Lptr.push(Li.n);
+    }
+    for (let c = 0; c < nc; c++) if (res.colStep[c] < 0) singularCols.push(C[c]);
+    for (let r = 0; r < nr; r++) if (res.rowStep[r] < 0) singularRows.push(R[r]);
+    for (let r = 0; r < nr; r++) rowActive[R[r]] = 0;
+    for (let c = 0; c < nc; c++) colActive[C[c]] = 0;
+    this.nAR = 0;
+    this.nAC = 0;
+  }
 }
 
 /** Panel width of the blocked dense LU. */
