@@ -165,6 +165,42 @@ export function checkUnits(m: BoundModel): UnitFacts {
     if (checked) diagnostics.push(d);
   };
 
+  /** The dims of one binary node from those of its operands (one function for every chain: no closure per node). */
+  const combine = (e: A.BinaryExpr, a: Dims | null, b: Dims | null): Dims | null => {
+    switch (e.op) {
+      case '<':
+      case '<=':
+      case '>':
+      case '>=':
+        if (a && b && !dimsEqual(a, b)) report(diag('P322', e.span, { left: formatDims(a), right: formatDims(b) }));
+        return null; // a condition has no unit
+      case 'and':
+      case 'or':
+        return null;
+      case '+':
+      case '-':
+        if (a && b && !dimsEqual(a, b)) {
+          report(diag('P304', e.span, { left: formatDims(a), right: formatDims(b) }));
+          return null;
+        }
+        return a ?? b;
+      case '*': return a && b ? dimsMul(a, b) : a && isZeroLit(e.right) ? a : null;
+      case '/': return a && b ? dimsDiv(a, b) : null;
+      case '^': {
+        if (b && !isDimensionless(b)) report(diag('P306', e.right.span, { unit: formatDims(b) }));
+        if (!a) return null;
+        if (isDimensionless(a)) return DIMENSIONLESS;
+        const p = constValue(e.right);
+        if (!Number.isFinite(p)) {
+          report(diag('P305', e.span));
+          return null;
+        }
+        return dimsPow(a, p);
+      }
+    }
+    return null;
+  };
+
   /** Infers dims; null means unknown (after an error) or a bare 0 that fits anything. */
   const infer = (e: A.Expr): Dims | null => {
     switch (e.kind) {
@@ -185,40 +221,7 @@ export function checkUnits(m: BoundModel): UnitFacts {
         const a = infer(e.arg);
         return e.op === 'not' ? null : a;
       }
-      case 'binary': return foldChain(e, infer, (e, a, b) => {
-        switch (e.op) {
-          case '<':
-          case '<=':
-          case '>':
-          case '>=':
-            if (a && b && !dimsEqual(a, b)) report(diag('P322', e.span, { left: formatDims(a), right: formatDims(b) }));
-            return null; // a condition has no unit
-          case 'and':
-          case 'or':
-            return null;
-          case '+':
-          case '-':
-            if (a && b && !dimsEqual(a, b)) {
-              report(diag('P304', e.span, { left: formatDims(a), right: formatDims(b) }));
-              return null;
-            }
-            return a ?? b;
-          case '*': return a && b ? dimsMul(a, b) : a && isZeroLit(e.right) ? a : null;
-          case '/': return a && b ? dimsDiv(a, b) : null;
-          case '^': {
-            if (b && !isDimensionless(b)) report(diag('P306', e.right.span, { unit: formatDims(b) }));
-            if (!a) return null;
-            if (isDimensionless(a)) return DIMENSIONLESS;
-            const p = constValue(e.right);
-            if (!Number.isFinite(p)) {
-              report(diag('P305', e.span));
-              return null;
-            }
-            return dimsPow(a, p);
-          }
-        }
-        return null;
-      });
+      case 'binary': return foldChain(e, infer, combine);
       case 'call': {
         const args = e.args.map(infer);
         const [a, b] = args;
