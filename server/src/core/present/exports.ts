@@ -93,31 +93,19 @@ export function linearExportJson(lin: LinearModel, values: VariableValue[], solv
 /** Gathers lines into pieces of about this many characters. */
 const CHUNK = 1 << 16;
 
-class Lines {
-  private buf: string[] = [];
-  private size = 0;
-  /** Adds a line; returns a piece of text when enough has gathered. */
-  push(line: string): string | undefined {
-    this.buf.push(line);
-    this.size += line.length + 1;
-    return this.size >= CHUNK ? this.flush() : undefined;
-  }
-  flush(): string | undefined {
-    if (!this.buf.length) return undefined;
-    const s = this.buf.join('\n') + '\n';
-    this.buf = [];
-    this.size = 0;
-    return s;
-  }
-}
-
-/** Runs a line producer and yields the gathered pieces. */
+/**
+ * Runs a line producer and yields the gathered pieces. The producer yields between groups of lines (a
+ * wide matrix row is a group by itself), so the pieces leave while they are young.
+ */
 function* gathered(produce: (emit: (line: string) => void) => Iterable<void>): Generator<string> {
-  const L = new Lines();
+  let piece = '';
   let ready: string[] = [];
   const emit = (line: string) => {
-    const c = L.push(line);
-    if (c !== undefined) ready.push(c);
+    piece += line + '\n';
+    if (piece.length >= CHUNK) {
+      ready.push(piece);
+      piece = '';
+    }
   };
   for (const _ of produce(emit)) {
     void _;
@@ -127,8 +115,7 @@ function* gathered(produce: (emit: (line: string) => void) => Iterable<void>): G
     }
   }
   yield* ready;
-  const last = L.flush();
-  if (last !== undefined) yield last;
+  if (piece) yield piece;
 }
 
 /**
@@ -150,7 +137,9 @@ export function rowText(M: CsrMatrix, i: number, num: (v: number) => string, sep
 
 /** JSON text of a number; JSON has no NaN or Infinity: they become null. */
 const jnum = (v: number) => (Number.isFinite(v) ? String(v) : 'null');
-const jstr = (s: string) => JSON.stringify(s);
+/** A string that JSON writes as it is between quotes (no quote, backslash, control character or surrogate). */
+const JSON_PLAIN = /^[^"\\\u0000-\u001f\ud800-\udfff]*$/;
+const jstr = (s: string) => (JSON_PLAIN.test(s) ? `"${s}"` : JSON.stringify(s));
 const jlist = (xs: string[]) => `[${xs.map(jstr).join(', ')}]`;
 
 /**
@@ -164,7 +153,14 @@ function linearJsonChunks(lin: LinearModel, values: VariableValue[], o: ExportOp
     emit(` "point": ${jstr(lin.point)},`);
     emit(' "values": {');
     const shown = values.filter((x) => x.kind !== 'const');
-    shown.forEach((x, k) => emit(`  ${jstr(x.name)}: {"value": ${jnum(x.value)}, "unit": ${jstr(x.unit)}}${k < shown.length - 1 ? ',' : ''}`));
+    const unitJson = new Map<string, string>(); // a model has few units and many values
+    for (let k = 0; k < shown.length; k++) {
+      const x = shown[k];
+      let u = unitJson.get(x.unit);
+      if (u === undefined) unitJson.set(x.unit, (u = jstr(x.unit)));
+      emit(`  ${jstr(x.name)}: {"value": ${jnum(x.value)}, "unit": ${u}}${k < shown.length - 1 ? ',' : ''}`);
+      if (k % 1024 === 1023) yield;
+    }
     emit(' },');
     emit(` "states": ${jlist(lin.states)},`);
     emit(` "inputs": ${jlist(lin.inputs)},`);
@@ -202,7 +198,10 @@ function linearJsonChunks(lin: LinearModel, values: VariableValue[], o: ExportOp
     yield;
     const eqs = o.equations ?? deviationEquations(lin, 6);
     emit(' "equations": [');
-    eqs.forEach((e, k) => emit(`  ${jstr(e.text)}${k < eqs.length - 1 ? ',' : ''}`));
+    for (let k = 0; k < eqs.length; k++) {
+      emit(`  ${jstr(eqs[k].text)}${k < eqs.length - 1 ? ',' : ''}`);
+      if (k % 1024 === 1023) yield;
+    }
     emit(' ],');
     if (o.solve) emit(` "solve": {"iterations": ${o.solve.iterations}, "residual": ${jnum(o.solve.residual)}},`);
     if (lin.reduction) emit(` "indexReduction": ${JSON.stringify(lin.reduction)},`); // a constrained model: differentiated equations, chosen states

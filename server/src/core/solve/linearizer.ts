@@ -227,22 +227,66 @@ export function linearize(lm: LoweredModel, unknownSlots: number[], values: Floa
  * model whose coefficients span many orders of magnitude keeps every entry (no row-wide threshold).
  */
 class Triplets {
-  r: number[] = [];
-  c: number[] = [];
-  v: number[] = [];
+  r = new Int32Array(64);
+  c = new Int32Array(64);
+  v = new Float64Array(64);
+  count = 0;
   push(i: number, j: number, v: number, bound: number): void {
     if (v === 0 || Math.abs(v) < CHOP * bound) return;
-    this.r.push(i);
-    this.c.push(j);
-    this.v.push(v);
+    const k = this.count;
+    if (k === this.r.length) {
+      const grow = <A extends Int32Array | Float64Array>(a: A, make: (n: number) => A): A => {
+        const b = make(2 * k);
+        b.set(a);
+        return b;
+      };
+      this.r = grow(this.r, (n) => new Int32Array(n));
+      this.c = grow(this.c, (n) => new Int32Array(n));
+      this.v = grow(this.v, (n) => new Float64Array(n));
+    }
+    this.r[k] = i;
+    this.c[k] = j;
+    this.v[k] = v;
+    this.count = k + 1;
   }
+  /**
+   * [M N] split at column c1 into two CSR matrices. The entries come column by column (and a row's
+   * entries in ascending columns), without repeats, so a stable bucketing by row gives each row's
+   * columns in order; any other input goes through csrFromTriplets (sorts, sums repeats).
+   */
   toCsr(rows: number, c1: number, c2: number): [CsrMatrix, CsrMatrix] {
-    const left: number[] = [];
-    const right: number[] = [];
-    for (let k = 0; k < this.r.length; k++) (this.c[k] < c1 ? left : right).push(k);
-    const pick = (ks: number[], off: number, cols: number) =>
-      csrFromTriplets(rows, cols, ks.map((k) => this.r[k]), ks.map((k) => this.c[k] - off), ks.map((k) => this.v[k]));
-    return [pick(left, 0, c1), pick(right, c1, c2)];
+    const { r, c, v, count } = this;
+    const ptrL = new Int32Array(rows + 1);
+    const ptrR = new Int32Array(rows + 1);
+    for (let k = 0; k < count; k++) (c[k] < c1 ? ptrL : ptrR)[r[k] + 1]++;
+    for (let i = 0; i < rows; i++) {
+      ptrL[i + 1] += ptrL[i];
+      ptrR[i + 1] += ptrR[i];
+    }
+    const L: CsrMatrix = { rows, cols: c1, rowPtr: ptrL, colIdx: new Int32Array(ptrL[rows]), values: new Float64Array(ptrL[rows]) };
+    const R: CsrMatrix = { rows, cols: c2, rowPtr: ptrR, colIdx: new Int32Array(ptrR[rows]), values: new Float64Array(ptrR[rows]) };
+    const atL = ptrL.slice(0, rows);
+    const atR = ptrR.slice(0, rows);
+    let ordered = true;
+    for (let k = 0; k < count; k++) {
+      const i = r[k];
+      const left = c[k] < c1;
+      const M = left ? L : R;
+      const at = left ? atL : atR;
+      const w = at[i]++;
+      const j = left ? c[k] : c[k] - c1;
+      if (w > M.rowPtr[i] && M.colIdx[w - 1] >= j) ordered = false;
+      M.colIdx[w] = j;
+      M.values[w] = v[k];
+    }
+    if (ordered) return [L, R];
+    const pick = (left: boolean) => {
+      const ks: number[] = [];
+      for (let k = 0; k < count; k++) if (c[k] < c1 === left) ks.push(k);
+      const off = left ? 0 : c1;
+      return csrFromTriplets(rows, left ? c1 : c2, ks.map((k) => r[k]), ks.map((k) => c[k] - off), ks.map((k) => v[k]));
+    };
+    return [pick(true), pick(false)];
   }
 }
 
@@ -267,32 +311,50 @@ export interface DeviationEquation {
  */
 export function deviationEquations(lin: LinearModel, digits = 4): DeviationEquation[] {
   const out: DeviationEquation[] = [];
-  const { n, p } = lin;
+  const { n, p, states, inputs } = lin;
   const { A, B, C, D } = lin.sparse;
+  // a coefficient's magnitude as text: for digits ≤ 15 rounding is idempotent (the double nearest a
+  // 15-digit decimal prints back to it), so it is the signed text without its sign
+  const exactMag = digits <= 15;
   const row = (lhs: string, M: CsrMatrix, N: CsrMatrix, i: number, kind: 'state' | 'output') => {
     const terms: { coef: number; name: string }[] = [];
-    for (let t = M.rowPtr[i]; t < M.rowPtr[i + 1]; t++) if (M.values[t] !== 0) terms.push({ coef: M.values[t], name: lin.states[M.colIdx[t]] });
-    for (let t = N.rowPtr[i]; t < N.rowPtr[i + 1]; t++) if (N.values[t] !== 0) terms.push({ coef: N.values[t], name: lin.inputs[N.colIdx[t]] });
     let text = '';
-    terms.forEach((t, k) => {
-      const c = Number(formatNumber(t.coef, digits));
-      const mag = Math.abs(c);
-      const coefText = mag === 1 ? '' : `${formatNumber(mag, digits)}*`;
-      const sign = c < 0 ? (k === 0 ? '-' : ' - ') : k === 0 ? '' : ' + ';
-      text += `${sign}${coefText}Δ${t.name}`;
-    });
+    const add = (coef: number, name: string) => {
+      const k = terms.length;
+      terms.push({ coef, name });
+      const signed = formatNumber(coef, digits);
+      const neg = coef < 0;
+      const magText = !neg ? signed : exactMag ? signed.slice(1) : formatNumber(Math.abs(Number(signed)), digits);
+      const coefText = magText === '1' ? '' : `${magText}*`;
+      const sign = neg ? (k === 0 ? '-' : ' - ') : k === 0 ? '' : ' + ';
+      text += `${sign}${coefText}Δ${name}`;
+    };
+    for (let t = M.rowPtr[i], e = M.rowPtr[i + 1]; t < e; t++) if (M.values[t] !== 0) add(M.values[t], states[M.colIdx[t]]);
+    for (let t = N.rowPtr[i], e = N.rowPtr[i + 1]; t < e; t++) if (N.values[t] !== 0) add(N.values[t], inputs[N.colIdx[t]]);
     out.push({ lhs, terms, text: `${lhs} = ${text || '0'}`, kind, index: i });
   };
-  const stateIndex = new Map<string, number>();
-  lin.states.forEach((s, i) => stateIndex.set(s, i));
   for (let i = 0; i < n; i++) {
-    const next = lin.states[i] + "'";
-    const j = stateIndex.get(next);
-    if (j !== undefined && impliedShift(lin.sparse, i, j)) continue;
+    const next = states[i] + "'";
+    // Δx' = Δx' rows are implied: row i is only a non-zero in the column of the state named x'
+    const j = soleColumn(lin.sparse, i);
+    if (j >= 0 && states[j] === next) continue;
     row(`Δ${next}`, A, B, i, 'state');
   }
   for (let i = 0; i < p; i++) row(`Δ${lin.outputs[i]}`, C, D, i, 'output');
   return out;
+}
+
+/** The one column of A in which row i of [A B] has non-zeros (−1 when there are none, several, or some in B). */
+function soleColumn(s: LinearSparse, i: number): number {
+  const { A, B } = s;
+  let j = -1;
+  for (let t = A.rowPtr[i]; t < A.rowPtr[i + 1]; t++) {
+    if (A.values[t] === 0) continue;
+    if (j >= 0 && A.colIdx[t] !== j) return -1;
+    j = A.colIdx[t];
+  }
+  for (let t = B.rowPtr[i]; t < B.rowPtr[i + 1]; t++) if (B.values[t] !== 0) return -1;
+  return j;
 }
 
 /** Whether row i of [A B] is only a non-zero in column j (exactly `one` there when given). */
