@@ -102,7 +102,9 @@ export class Simulator {
   /** ∂X'/∂X in its sparse pattern (built at the first simulation). */
   private rj: ReducedJacobian | undefined;
   /** ∂X'/∂X for the integrator and its iteration matrix, kept from one simulation to the next. */
-  private ode: { sparseJac: SparseJacobian; matrix: StiffMatrix } | undefined;
+  private ode: { f: (t: number, xi: Float64Array, dxi: Float64Array) => boolean; sparseJac: SparseJacobian; matrix: StiffMatrix } | undefined;
+  /** Latest time the right-hand side was evaluated at in the current simulation (for a domain message). */
+  private tGood = 0;
   private f0: Float64Array;
   private z0: Float64Array;
   private newtonCount = 0;
@@ -432,15 +434,8 @@ export class Simulator {
     }
     const zAfter = new Float64Array(this.N);
     for (let k = 0; k < this.N; k++) zAfter[k] = v[this.unknowns[k]];
-    let tGood = 0;
+    this.tGood = 0;
 
-    const f = (t: number, xi: Float64Array, dxi: Float64Array): boolean => {
-      this.setStates(v, xi);
-      if (!this.solve(v)) return false;
-      this.deriv(v, dxi);
-      if (t > tGood) tGood = t;
-      return true;
-    };
     if (!this.ode) {
       const jp = this.reduced().pattern;
       const sparseJac: SparseJacobian = {
@@ -454,9 +449,17 @@ export class Simulator {
           return true;
         },
       };
-      this.ode = { sparseJac, matrix: stiffMatrix(n, sparseJac) };
+      // X' at a state deviation (one function for every simulation: the engine keeps its optimised integrator)
+      const f = (t: number, xi: Float64Array, dxi: Float64Array): boolean => {
+        this.setStates(this.values, xi);
+        if (!this.solve(this.values)) return false;
+        this.deriv(this.values, dxi);
+        if (t > this.tGood) this.tGood = t;
+        return true;
+      };
+      this.ode = { f, sparseJac, matrix: stiffMatrix(n, sparseJac) };
     }
-    const { sparseJac, matrix } = this.ode;
+    const { f, sparseJac, matrix } = this.ode;
 
     const record = (xi: Float64Array, states: number[][], outputs: number[][]): boolean => {
       this.setStates(v, xi);
@@ -504,7 +507,7 @@ export class Simulator {
     const reached = tOut.length ? tOut[tOut.length - 1] : 0;
     if (sol.status === 'ok' && tOut.length === tModel.length) return { status: 'ok', t: tOut, states, outputs, reached, stats };
     if (this.badValues) {
-      return { status: 'domain', message: this.domainMessage(tGood / ts), t: tOut, states, outputs, reached, stats };
+      return { status: 'domain', message: this.domainMessage(this.tGood / ts), t: tOut, states, outputs, reached, stats };
     }
     return {
       status: 'failed', t: tOut, states, outputs, reached, stats,

@@ -152,6 +152,11 @@ function allFinite(v: Float64Array, len: number): boolean {
   return true;
 }
 
+/** The continuous output of the last step: the state at the fraction s ∈ [0, 1] of it. */
+interface Interpolant {
+  at(s: number, out: Float64Array): void;
+}
+
 /** Collects either every accepted step or the requested output times. */
 class Recorder {
   private readonly ts: number[] = [];
@@ -177,7 +182,7 @@ class Recorder {
   }
 
   /** Record the step [tOld, tOld + h] that ended at tNew with state yNew. */
-  accept(tOld: number, h: number, tNew: number, yNew: Float64Array, interp: (s: number, out: Float64Array) => void): void {
+  accept(tOld: number, h: number, tNew: number, yNew: Float64Array, interp: Interpolant): void {
     const times = this.times;
     if (!times) {
       this.ts.push(tNew);
@@ -191,7 +196,7 @@ class Recorder {
         xk = Float64Array.from(yNew);
       } else {
         xk = new Float64Array(this.n);
-        interp((tk - tOld) / h, xk);
+        interp.at((tk - tOld) / h, xk);
       }
       this.ts.push(tk);
       this.xs.push(xk);
@@ -251,31 +256,38 @@ function makeStats(): OdeStats {
 }
 
 /** One run of either integrator: the checked set-up, the statistics, the recorder and the counted right-hand side. */
-interface Run {
-  s: Setup;
-  stats: OdeStats;
-  rec: Recorder;
+/**
+ * One run (a class, so that its methods are the same functions in every run: the engine's optimised
+ * integrators are not thrown away when the next run brings new closures).
+ */
+class Run {
+  readonly s: Setup;
+  readonly stats: OdeStats;
+  readonly rec: Recorder;
+
+  constructor(private readonly p: OdeProblem, o: OdeOptions) {
+    this.s = setup(p, o);
+    this.stats = makeStats();
+    this.rec = new Recorder(this.s.n, this.s.outputTimes, this.s.t0, o.x0);
+  }
+
   /** f(tt, xx) into out; false when xx or the result is not finite or the model refuses the state. */
-  F(tt: number, xx: Float64Array, out: Float64Array): boolean;
+  F(tt: number, xx: Float64Array, out: Float64Array): boolean {
+    const n = this.s.n;
+    this.stats.fEvals++;
+    if (!allFinite(xx, n)) return false;
+    return this.p.f(tt, xx, out) === true && allFinite(out, n);
+  }
+
   /** The solution recorded so far, with this status. */
-  finish(status: Status, message?: string): OdeSolution;
+  finish(status: Status, message?: string): OdeSolution {
+    const r = this.rec.result();
+    return { status, message, t: r.t, x: r.x, stats: this.stats };
+  }
 }
 
 function startRun(p: OdeProblem, o: OdeOptions): Run {
-  const s = setup(p, o);
-  const n = s.n;
-  const stats = makeStats();
-  const rec = new Recorder(n, s.outputTimes, s.t0, o.x0);
-  const F = (tt: number, xx: Float64Array, out: Float64Array): boolean => {
-    stats.fEvals++;
-    if (!allFinite(xx, n)) return false;
-    return p.f(tt, xx, out) === true && allFinite(out, n);
-  };
-  const finish = (status: Status, message?: string): OdeSolution => {
-    const r = rec.result();
-    return { status, message, t: r.t, x: r.x, stats };
-  };
-  return { s, stats, rec, F, finish };
+  return new Run(p, o);
 }
 
 /**
@@ -422,14 +434,19 @@ function stageRhs(k: Float64Array, f: Float64Array, ft: Float64Array, hd: number
   }
 }
 
-/** Rodas4's order-3 continuous output at s ∈ [0, 1] of the step from y to ynew. */
-function rodasDense(sv: number, y: Float64Array, ynew: Float64Array, K: Float64Array[], out: Float64Array, n: number): void {
-  const [k1, k2, k3, k4, k5] = K;
-  const s1 = 1 - sv;
-  for (let i = 0; i < n; i++) {
-    const c2 = R_D21 * k1[i] + R_D22 * k2[i] + R_D23 * k3[i] + R_D24 * k4[i] + R_D25 * k5[i];
-    const c3 = R_D31 * k1[i] + R_D32 * k2[i] + R_D33 * k3[i] + R_D34 * k4[i] + R_D35 * k5[i];
-    out[i] = y[i] * s1 + sv * (ynew[i] + s1 * (c2 + sv * c3));
+/** Rodas4's order-3 continuous output at s ∈ [0, 1] of the step from y to ynew (read before y moves on). */
+class RodasDense implements Interpolant {
+  constructor(private readonly y: Float64Array, private readonly ynew: Float64Array, private readonly K: Float64Array[], private readonly n: number) {}
+
+  at(sv: number, out: Float64Array): void {
+    const { y, ynew, K, n } = this;
+    const k1 = K[0], k2 = K[1], k3 = K[2], k4 = K[3], k5 = K[4];
+    const s1 = 1 - sv;
+    for (let i = 0; i < n; i++) {
+      const c2 = R_D21 * k1[i] + R_D22 * k2[i] + R_D23 * k3[i] + R_D24 * k4[i] + R_D25 * k5[i];
+      const c3 = R_D31 * k1[i] + R_D32 * k2[i] + R_D33 * k3[i] + R_D34 * k4[i] + R_D35 * k5[i];
+      out[i] = y[i] * s1 + sv * (ynew[i] + s1 * (c2 + sv * c3));
+    }
   }
 }
 
@@ -501,7 +518,7 @@ function evalJacobian(p: OdeProblem, run: Run, W: StiffMatrix, t: number, y: Flo
  */
 export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   const run = startRun(p, o);
-  const { s, stats, rec, F, finish } = run;
+  const { s, stats, rec } = run;
   const { n, t1, span, rtol, atol } = s;
   const M = RODAS4;
 
@@ -514,7 +531,7 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   const ynew = new Float64Array(n);
   const dynew = new Float64Array(n);
   const tmp = new Float64Array(n);
-  const interp = (sv: number, out: Float64Array): void => rodasDense(sv, y, ynew, K, out, n);
+  const interp = new RodasDense(y, ynew, K, n);
 
   let t = s.t0;
   const early = firstCall(run, y, dy1);
@@ -540,7 +557,7 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     }
 
     if (needJac) {
-      if (!evalJacobian(p, run, W, t, y, dy1, h, fx, tmp)) return finish('domain', `the state left the model's domain at t = ${fmt(t)}`);
+      if (!evalJacobian(p, run, W, t, y, dy1, h, fx, tmp)) return run.finish('domain', `the state left the model's domain at t = ${fmt(t)}`);
       needJac = false;
     }
 
@@ -548,7 +565,7 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     if (!W.factor(1 / (h * M.gamma))) {
       nsing++;
       if (nsing >= 5) {
-        return finish('stepTooSmall', `the iteration matrix is repeatedly singular at t = ${fmt(t)}`);
+        return run.finish('stepTooSmall', `the iteration matrix is repeatedly singular at t = ${fmt(t)}`);
       }
       h *= 0.5;
       reject = true;
@@ -560,7 +577,7 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     for (let st = 0; st < M.stages && stagesOk; st++) {
       if (st > 0) {
         combine(ynew, y, K, M.a[st], n);
-        if (!F(t + M.alpha[st] * h, ynew, dy)) {
+        if (!run.F(t + M.alpha[st] * h, ynew, dy)) {
           stagesOk = false;
           break;
         }
@@ -590,7 +607,7 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     let hnew = h / facc;
 
     const tNew = last ? t1 : t + h;
-    if (err <= 1 && !F(tNew, ynew, dynew)) {
+    if (err <= 1 && !run.F(tNew, ynew, dynew)) {
       // the new state itself is outside the domain
       stats.rejected++;
       lastWasDomain = true;
@@ -619,7 +636,7 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
       needJac = true;
       nsing = 0;
       lastWasDomain = false;
-      if (last) return finish('ok');
+      if (last) return run.finish('ok');
       h = nextStep(hnew, h, span, reject);
       reject = false;
     } else {
@@ -681,7 +698,7 @@ const DP_FAC_MAX = 10; // hnew/h <= 10
 /** Explicit integration with Dormand–Prince 5(4); for non-stiff models. */
 export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   const run = startRun(p, o);
-  const { s, stats, rec, F, finish } = run;
+  const { s, stats, rec } = run;
   const { n, t1, span, rtol, atol } = s;
 
   const y = Float64Array.from(o.x0);
@@ -708,7 +725,7 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     const g = firstGuess(y, k1, rtol, atol, n);
     let h0 = Math.min(g.h, span);
     for (let i = 0; i < n; i++) ystage[i] = y[i] + h0 * k1[i];
-    if (F(t + h0, ystage, k2)) {
+    if (run.F(t + h0, ystage, k2)) {
       let der2 = 0;
       for (let i = 0; i < n; i++) {
         const sk = atol[i] + rtol * Math.abs(y[i]);
@@ -739,32 +756,32 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
 
     let ok = true;
     for (let i = 0; i < n; i++) ystage[i] = y[i] + h * DP_A21 * k1[i];
-    ok = F(t + DP_C2 * h, ystage, k2);
+    ok = run.F(t + DP_C2 * h, ystage, k2);
     if (ok) {
       for (let i = 0; i < n; i++) ystage[i] = y[i] + h * (DP_A31 * k1[i] + DP_A32 * k2[i]);
-      ok = F(t + DP_C3 * h, ystage, k3);
+      ok = run.F(t + DP_C3 * h, ystage, k3);
     }
     if (ok) {
       for (let i = 0; i < n; i++) ystage[i] = y[i] + h * (DP_A41 * k1[i] + DP_A42 * k2[i] + DP_A43 * k3[i]);
-      ok = F(t + DP_C4 * h, ystage, k4);
+      ok = run.F(t + DP_C4 * h, ystage, k4);
     }
     if (ok) {
       for (let i = 0; i < n; i++) {
         ystage[i] = y[i] + h * (DP_A51 * k1[i] + DP_A52 * k2[i] + DP_A53 * k3[i] + DP_A54 * k4[i]);
       }
-      ok = F(t + DP_C5 * h, ystage, k5);
+      ok = run.F(t + DP_C5 * h, ystage, k5);
     }
     if (ok) {
       for (let i = 0; i < n; i++) {
         ystage[i] = y[i] + h * (DP_A61 * k1[i] + DP_A62 * k2[i] + DP_A63 * k3[i] + DP_A64 * k4[i] + DP_A65 * k5[i]);
       }
-      ok = F(tNew, ystage, k6);
+      ok = run.F(tNew, ystage, k6);
     }
     if (ok) {
       for (let i = 0; i < n; i++) {
         y1[i] = y[i] + h * (DP_A71 * k1[i] + DP_A73 * k3[i] + DP_A74 * k4[i] + DP_A75 * k5[i] + DP_A76 * k6[i]);
       }
-      ok = F(tNew, y1, k7);
+      ok = run.F(tNew, y1, k7);
     }
     if (!ok) {
       stats.rejected++;
@@ -794,7 +811,7 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
       stats.steps++;
       const tOld = t;
       const hStep = h;
-      rec.accept(tOld, hStep, tNew, y1, (th, out) => {
+      rec.accept(tOld, hStep, tNew, y1, { at: (th: number, out: Float64Array): void => {
         const th1 = 1 - th;
         for (let i = 0; i < n; i++) {
           const ydiff = y1[i] - y[i];
@@ -805,12 +822,12 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
             (DP_D1 * k1[i] + DP_D3 * k3[i] + DP_D4 * k4[i] + DP_D5 * k5[i] + DP_D6 * k6[i] + DP_D7 * k7[i]);
           out[i] = y[i] + th * (ydiff + th1 * (bspl + th * (r4 + th1 * r5)));
         }
-      });
+      } });
       y.set(y1);
       k1.set(k7);
       t = tNew;
       lastWasDomain = false;
-      if (last) return finish('ok');
+      if (last) return run.finish('ok');
       h = nextStep(hnew, h, span, reject);
       reject = false;
     } else {
