@@ -263,10 +263,23 @@ export function buildReport(a: Analysis, point: string, opts: ReportOptions = {}
     const tf = dyn.transfer.find((x) => x.outputIndex === i && x.inputIndex === j);
     return !!tf && !tf.identicallyZero;
   };
-  const unitResp = (j: number, tt: number[]) => {
+  // the linear response to a unit step of each input, at the step responses' times; the validity search's
+  // coarser times are taken from it when they are every r-th of those exactly (the default 241 and 121)
+  const unitCache = new Map<number, ReturnType<typeof linearStepResponse>>();
+  const unitResp = (j: number, tt: number[]): ReturnType<typeof linearStepResponse> => {
     const u = new Float64Array(m);
     u[j] = 1;
-    return linearStepResponse(sys.A, sys.B, sys.C, sys.D, n, m, p, u, Float64Array.from(tt));
+    const full = unitCache.get(j);
+    if (full && tt.length > 1 && (full.t.length - 1) % (tt.length - 1) === 0) {
+      const r = (full.t.length - 1) / (tt.length - 1);
+      if (tt.every((x, k) => full.t[k * r] === x)) {
+        const pick = <T>(a: T[]) => tt.map((_, k) => a[k * r]);
+        return { t: Float64Array.from(tt), x: pick(full.x), y: pick(full.y) };
+      }
+    }
+    const lr = linearStepResponse(sys.A, sys.B, sys.C, sys.D, n, m, p, u, Float64Array.from(tt));
+    if (!full) unitCache.set(j, lr);
+    return lr;
   };
   const opValue = (j: number) => declaredValue(a.lowered.slots[lin.inputSlots[j]], sol.values[lin.inputSlots[j]]);
   const outputSeries = (r: ReturnType<Simulator['step']>): number[][] => (sys.outputsAreStates ? r.states : r.outputs);

@@ -8,9 +8,13 @@
  * analytic Jacobian, warm-started from the previous solution (a chord iteration that refactors when it
  * contracts poorly), and X' = (the next state component for the shift rows, w for the highest
  * derivatives). The Jacobian for the stiff integrator is analytic: ∂(w, z)/∂X = −M⁻¹·F_X with
- * M = ∂F/∂(w, z) at the converged point, the same elimination the linearizer makes. Integration is Rodas4
- * (numeric/ode.ts). The drift of f at the point itself (the round-off the point solver left) is
- * subtracted, so an exact steady state stays put.
+ * M = ∂F/∂(w, z) at the converged point, the same elimination the linearizer makes, kept in its sparse
+ * pattern (numeric/reducedJacobian.ts). M is factorised by numeric/patternLU.ts: one pivot order and fill
+ * pattern, refactorised in place while the pivots stay acceptable. When M depends on constants only (F
+ * affine in the unknowns, e.g. every var given explicitly) it is factorised once, one Newton step solves
+ * F = 0 and the rows of M⁻¹ the Jacobian needs are kept. Integration is Rodas4 (numeric/ode.ts), its
+ * iteration matrix factorised sparse and kept from one simulation to the next. The drift of f at the
+ * point itself (the round-off the point solver left) is subtracted, so an exact steady state stays put.
  *
  * A trial state outside the model's domain (√ of a negative, log of zero, …) makes f return false; the
  * integrator shrinks its step, and when it cannot get past, the result has status 'domain' with a message
@@ -20,10 +24,12 @@ import { timeUnitLabel } from '../semantics/units';
 import type { Analysis } from '../pipeline/analysis';
 import { compileModel, type CompiledModel } from '../model/jacobian';
 import type { LoweredModel } from '../model/model';
-import { integrateStiff } from '../numeric/ode';
-import { sparseLU, type SparseLUResult } from '../numeric/sparseLU';
+import { integrateStiff, stiffMatrix, type SparseJacobian, type StiffMatrix } from '../numeric/ode';
+import { PatternLU } from '../numeric/patternLU';
+import { ReducedJacobian } from '../numeric/reducedJacobian';
 import { pointChecks } from '../solve/pointSolver';
 import { formatShort } from '../numbers';
+import * as E from '../algebra/expr';
 import { unitText } from '../semantics/units';
 
 export interface StepOptions {
@@ -82,9 +88,23 @@ export class Simulator {
   /** Jacobian entries that belong to M (unknown columns) and to F_X (state columns). */
   private readonly mEnt: Int32Array;
   private readonly xEnt: Int32Array;
-  /** Entries of F_X by state component. */
-  private readonly xCols: number[][];
-  private lu: SparseLUResult | undefined;
+  /** M's entries as triplets (rows: equations, cols: unknowns); the values rewritten at each factorisation. */
+  private readonly mRows: Int32Array;
+  private readonly mCols: Int32Array;
+  private readonly mVals: Float64Array;
+  /** M's factors: the pivot order kept while it stays acceptable, values refactorised in place. */
+  private lu: PatternLU | undefined;
+  /**
+   * M depends on constants only: F is affine in the unknowns, one Newton step from any start solves it,
+   * M is factorised once and the rows of M⁻¹ the Jacobian needs are kept.
+   */
+  private readonly mConstant: boolean;
+  /** ∂X'/∂X in its sparse pattern (built at the first simulation). */
+  private rj: ReducedJacobian | undefined;
+  /** ∂X'/∂X for the integrator and its iteration matrix, kept from one simulation to the next. */
+  private ode: { f: (t: number, xi: Float64Array, dxi: Float64Array) => boolean; sparseJac: SparseJacobian; matrix: StiffMatrix } | undefined;
+  /** Latest time the right-hand side was evaluated at in the current simulation (for a domain message). */
+  private tGood = 0;
   private f0: Float64Array;
   private z0: Float64Array;
   private newtonCount = 0;
@@ -119,8 +139,10 @@ export class Simulator {
     }
     this.mEnt = Int32Array.from(mEnt);
     this.xEnt = Int32Array.from(xEnt);
-    this.xCols = Array.from({ length: this.n }, () => [] as number[]);
-    for (const k of xEnt) this.xCols[this.stateIdx[this.cm.cols[k]]].push(k);
+    this.mRows = Int32Array.from(mEnt, (k) => this.cm.rows[k]);
+    this.mCols = Int32Array.from(mEnt, (k) => this.colOf[this.cm.cols[k]]);
+    this.mVals = new Float64Array(mEnt.length);
+    this.mConstant = mEnt.every((k) => [...E.slots(this.cm.nodes[k])].every((id) => lm.slots[id].kind === 'const'));
     const scales = naturalScales(this.cm, this.base, this.colOf, this.N, unknowns.map((id) => lm.slots[id].scale));
     this.natural = scales.natural;
     this.eqScale = scales.equation;
@@ -158,9 +180,24 @@ export class Simulator {
     }
     const start = this.zStart;
     for (let k = 0; k < N; k++) start[k] = v[unknowns[k]];
-    if (this.solveChord(v)) return true;
+    if (this.mConstant && this.lu ? this.solveAffine(v) : this.solveChord(v)) return true;
     for (let k = 0; k < N; k++) v[unknowns[k]] = start[k];
     return this.solveDamped(v);
+  }
+
+  /** F affine in the unknowns (constant M, factorised): one Newton step. False when something is not finite. */
+  private solveAffine(v: Float64Array): boolean {
+    const { N, F, dx, cm, unknowns } = this;
+    cm.residual(v, F);
+    for (let k = 0; k < N; k++) dx[k] = -F[k];
+    const step = this.lu!.solve(dx, dx);
+    this.newtonCount++;
+    for (let k = 0; k < N; k++) {
+      const a = step[k];
+      if (!Number.isFinite(a)) return false;
+      v[unknowns[k]] += a;
+    }
+    return true;
   }
 
   /**
@@ -179,7 +216,7 @@ export class Simulator {
         fresh = true;
       }
       for (let k = 0; k < N; k++) dx[k] = -F[k];
-      const step = this.lu!.solve(dx);
+      const step = this.lu!.solve(dx, dx);
       let conv = 0;
       let tight = true;
       for (let k = 0; k < N; k++) {
@@ -193,7 +230,7 @@ export class Simulator {
       }
       this.newtonCount++;
       if (!Number.isFinite(conv)) return false;
-      if (tight) return true;
+      if (tight || this.mConstant) return true; // F affine in the unknowns: one step solves it
       if (it >= 1 && conv >= 0.25 * prev) {
         if (fresh) return conv <= 1e-9; // round-off floor reached (or no convergence)
         if (!this.factor(v)) return false;
@@ -231,7 +268,7 @@ export class Simulator {
     for (let it = 0; it < 100; it++) {
       if (!this.factor(v)) return false;
       for (let k = 0; k < N; k++) this.dx[k] = -F[k];
-      const step = this.lu!.solve(this.dx);
+      const step = this.lu!.solve(this.dx, this.dx);
       // limit the correction to LIMIT natural sizes of each unknown (scaled step limiting)
       let lim = 1;
       let conv = 0;
@@ -283,66 +320,50 @@ export class Simulator {
     return false;
   }
 
-  /** Sparse LU of M = ∂F/∂(w, z) at v. */
+  /**
+   * LU of M = ∂F/∂(w, z) at v: the last factorisation's pivot order and pattern with the new values while
+   * its pivots stay acceptable (numeric/patternLU.ts), else a new order; the last good factors stay when
+   * M is singular.
+   */
   private factor(v: Float64Array): boolean {
-    const { cm, Jv, mEnt, colOf } = this;
+    const { cm, Jv, mEnt, mVals } = this;
     cm.jacobian(v, Jv);
+    if (this.mConstant && this.lu) return true;
     const nnz = mEnt.length;
-    const rows = new Int32Array(nnz);
-    const cols = new Int32Array(nnz);
-    const vals = new Float64Array(nnz);
     for (let q = 0; q < nnz; q++) {
-      const k = mEnt[q];
-      rows[q] = cm.rows[k];
-      cols[q] = colOf[cm.cols[k]];
-      vals[q] = Jv[k];
-      if (!Number.isFinite(vals[q])) {
+      const x = Jv[mEnt[q]];
+      mVals[q] = x;
+      if (!Number.isFinite(x)) {
         this.badValues = Float64Array.from(v);
         return false;
       }
     }
-    const lu = sparseLU(this.N, { rows, cols, vals, nnz });
     this.factorCount++;
-    if (!lu.ok) return false;
+    if (this.lu && this.lu.refactor(mVals)) return true;
+    const lu = PatternLU.analyse(this.N, { rows: this.mRows, cols: this.mCols, vals: mVals, nnz });
+    if (!lu) return false;
     this.lu = lu;
     return true;
   }
 
-  /**
-   * ∂X'/∂X at the point of the last factorisation (Jv and lu current): shift rows are unit entries; the
-   * rows of the highest derivatives are −(M⁻¹F_X) restricted to w, found either column by column
-   * (one solve per state component) or row by row (one transposed solve per highest derivative, then a
-   * sparse product with F_X), whichever needs fewer solves.
-   */
-  private fillJacobian(J: Float64Array): void {
-    const { n, lm, cm, Jv, colOf, stateIdx } = this;
-    const cd = lm.componentDerivative;
-    J.fill(0);
-    const wRows: number[] = [];
-    for (let i = 0; i < n; i++) {
-      const si = stateIdx[cd[i]];
-      if (si >= 0) J[i * n + si] = 1;
-      else wRows.push(i);
+  /** ∂X'/∂X's pattern and filling (built once). */
+  private reduced(): ReducedJacobian {
+    if (!this.rj) {
+      const { n, cm, xEnt, stateIdx, colOf } = this;
+      const cd = this.lm.componentDerivative;
+      const shiftCol = Int32Array.from({ length: n }, (_, i) => stateIdx[cd[i]]);
+      this.rj = new ReducedJacobian({
+        n, N: this.N, mRows: this.mRows, mCols: this.mCols,
+        xEnt, xRows: Int32Array.from(xEnt, (k) => cm.rows[k]), xCols: Int32Array.from(xEnt, (k) => stateIdx[cm.cols[k]]),
+        shiftCol, unknownCol: Int32Array.from({ length: n }, (_, i) => (shiftCol[i] >= 0 ? -1 : colOf[cd[i]])),
+      });
     }
-    if (!wRows.length) return;
-    const lu = this.lu!;
-    const rhs = new Float64Array(this.N);
-    if (wRows.length < n) {
-      // row i of J: −e_wᵀ M⁻¹ F_X = −(M⁻ᵀ e_w)ᵀ F_X
-      for (const i of wRows) {
-        rhs.fill(0);
-        rhs[colOf[cd[i]]] = 1;
-        const y = lu.solveTranspose(rhs);
-        for (const k of this.xEnt) J[i * n + stateIdx[cm.cols[k]]] -= y[cm.rows[k]] * Jv[k];
-      }
-      return;
-    }
-    for (let j = 0; j < n; j++) {
-      rhs.fill(0);
-      for (const k of this.xCols[j]) rhs[cm.rows[k]] -= Jv[k];
-      const y = lu.solve(rhs);
-      for (const i of wRows) J[i * n + j] = y[colOf[cd[i]]];
-    }
+    return this.rj;
+  }
+
+  /** ∂X'/∂X at the point of the last factorisation (Jv and lu current), into `vals` in the pattern's order. */
+  private fillJacobian(vals: Float64Array): void {
+    this.reduced().fill(vals, this.Jv, this.lu!, this.mConstant);
   }
 
   /** X' from solved values (SI per second), minus the drift at the point when `relative`. */
@@ -413,22 +434,32 @@ export class Simulator {
     }
     const zAfter = new Float64Array(this.N);
     for (let k = 0; k < this.N; k++) zAfter[k] = v[this.unknowns[k]];
-    let tGood = 0;
+    this.tGood = 0;
 
-    const f = (t: number, xi: Float64Array, dxi: Float64Array): boolean => {
-      this.setStates(v, xi);
-      if (!this.solve(v)) return false;
-      this.deriv(v, dxi);
-      if (t > tGood) tGood = t;
-      return true;
-    };
-    const jac = (_t: number, xi: Float64Array, J: Float64Array): boolean => {
-      this.setStates(v, xi);
-      if (!this.solve(v)) return false;
-      if (!this.factor(v)) return false;
-      this.fillJacobian(J);
-      return true;
-    };
+    if (!this.ode) {
+      const jp = this.reduced().pattern;
+      const sparseJac: SparseJacobian = {
+        rowPtr: jp.rowPtr,
+        colIdx: jp.colIdx,
+        values: (_t: number, xi: Float64Array, vals: Float64Array): boolean => {
+          this.setStates(this.values, xi);
+          if (!this.solve(this.values)) return false;
+          if (!this.factor(this.values)) return false;
+          this.fillJacobian(vals);
+          return true;
+        },
+      };
+      // X' at a state deviation (one function for every simulation: the engine keeps its optimised integrator)
+      const f = (t: number, xi: Float64Array, dxi: Float64Array): boolean => {
+        this.setStates(this.values, xi);
+        if (!this.solve(this.values)) return false;
+        this.deriv(this.values, dxi);
+        if (t > this.tGood) this.tGood = t;
+        return true;
+      };
+      this.ode = { f, sparseJac, matrix: stiffMatrix(n, sparseJac) };
+    }
+    const { f, sparseJac, matrix } = this.ode;
 
     const record = (xi: Float64Array, states: number[][], outputs: number[][]): boolean => {
       this.setStates(v, xi);
@@ -458,7 +489,7 @@ export class Simulator {
     }
     const outputTimes = Float64Array.from(tModel, (t) => t * ts);
     const t1 = outputTimes[outputTimes.length - 1];
-    const sol = integrateStiff({ n, f, jac, autonomous: true }, { t0: 0, t1, x0: new Float64Array(n), rtol, atol, outputTimes, maxSteps: o.maxSteps ?? 20000 });
+    const sol = integrateStiff({ n, f, sparseJac, matrix, autonomous: true }, { t0: 0, t1, x0: new Float64Array(n), rtol, atol, outputTimes, maxSteps: o.maxSteps ?? 20000 });
     stats.steps = sol.stats.steps;
     stats.rejected = sol.stats.rejected;
     stats.fEvals = sol.stats.fEvals;
@@ -476,7 +507,7 @@ export class Simulator {
     const reached = tOut.length ? tOut[tOut.length - 1] : 0;
     if (sol.status === 'ok' && tOut.length === tModel.length) return { status: 'ok', t: tOut, states, outputs, reached, stats };
     if (this.badValues) {
-      return { status: 'domain', message: this.domainMessage(tGood / ts), t: tOut, states, outputs, reached, stats };
+      return { status: 'domain', message: this.domainMessage(this.tGood / ts), t: tOut, states, outputs, reached, stats };
     }
     return {
       status: 'failed', t: tOut, states, outputs, reached, stats,
@@ -535,8 +566,11 @@ export class Simulator {
     this.setInputs(v, du);
     this.setStates(v, Float64Array.from(xi));
     if (!this.solve(v) || !this.factor(v)) return undefined;
+    const { rowPtr, colIdx } = this.reduced().pattern;
+    const vals = new Float64Array(rowPtr[this.n]);
+    this.fillJacobian(vals);
     const J = new Float64Array(this.n * this.n);
-    this.fillJacobian(J);
+    for (let i = 0; i < this.n; i++) for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) J[i * this.n + colIdx[p]] = vals[p];
     return J;
   }
 

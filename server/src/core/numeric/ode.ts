@@ -22,7 +22,9 @@
  * output times, ...).
  */
 
-import { luFactorInPlace, luSolveInPlace } from './flatlu';
+import { stiffMatrix, type SparseJacobian, type StiffMatrix } from './stiffMatrix';
+
+export { stiffMatrix, type SparseJacobian, type StiffMatrix } from './stiffMatrix';
 
 export interface OdeProblem {
   n: number;
@@ -30,6 +32,16 @@ export interface OdeProblem {
   f(t: number, x: Float64Array, dx: Float64Array): boolean;
   /** Dense row-major n×n ∂f/∂x. If absent, finite differences are used. */
   jac?(t: number, x: Float64Array, J: Float64Array): boolean;
+  /**
+   * ∂f/∂x as a sparse pattern and its values (used in place of `jac` by the stiff integrator; when J is
+   * sparse enough the iteration matrix is factorised sparse, its pivot order kept from step to step).
+   */
+  sparseJac?: SparseJacobian;
+  /**
+   * The iteration matrix's storage from `stiffMatrix(n, sparseJac)`, kept by the caller to integrate the
+   * same problem again without choosing a pivot order afresh (made here when absent).
+   */
+  matrix?: StiffMatrix;
   /** f does not depend on t: ∂f/∂t is zero and is not estimated (saves one evaluation of f per Jacobian). */
   autonomous?: boolean;
 }
@@ -140,6 +152,11 @@ function allFinite(v: Float64Array, len: number): boolean {
   return true;
 }
 
+/** The continuous output of the last step: the state at the fraction s ∈ [0, 1] of it. */
+interface Interpolant {
+  at(s: number, out: Float64Array): void;
+}
+
 /** Collects either every accepted step or the requested output times. */
 class Recorder {
   private readonly ts: number[] = [];
@@ -165,7 +182,7 @@ class Recorder {
   }
 
   /** Record the step [tOld, tOld + h] that ended at tNew with state yNew. */
-  accept(tOld: number, h: number, tNew: number, yNew: Float64Array, interp: (s: number, out: Float64Array) => void): void {
+  accept(tOld: number, h: number, tNew: number, yNew: Float64Array, interp: Interpolant): void {
     const times = this.times;
     if (!times) {
       this.ts.push(tNew);
@@ -179,7 +196,7 @@ class Recorder {
         xk = Float64Array.from(yNew);
       } else {
         xk = new Float64Array(this.n);
-        interp((tk - tOld) / h, xk);
+        interp.at((tk - tOld) / h, xk);
       }
       this.ts.push(tk);
       this.xs.push(xk);
@@ -239,31 +256,38 @@ function makeStats(): OdeStats {
 }
 
 /** One run of either integrator: the checked set-up, the statistics, the recorder and the counted right-hand side. */
-interface Run {
-  s: Setup;
-  stats: OdeStats;
-  rec: Recorder;
+/**
+ * One run (a class, so that its methods are the same functions in every run: the engine's optimised
+ * integrators are not thrown away when the next run brings new closures).
+ */
+class Run {
+  readonly s: Setup;
+  readonly stats: OdeStats;
+  readonly rec: Recorder;
+
+  constructor(private readonly p: OdeProblem, o: OdeOptions) {
+    this.s = setup(p, o);
+    this.stats = makeStats();
+    this.rec = new Recorder(this.s.n, this.s.outputTimes, this.s.t0, o.x0);
+  }
+
   /** f(tt, xx) into out; false when xx or the result is not finite or the model refuses the state. */
-  F(tt: number, xx: Float64Array, out: Float64Array): boolean;
+  F(tt: number, xx: Float64Array, out: Float64Array): boolean {
+    const n = this.s.n;
+    this.stats.fEvals++;
+    if (!allFinite(xx, n)) return false;
+    return this.p.f(tt, xx, out) === true && allFinite(out, n);
+  }
+
   /** The solution recorded so far, with this status. */
-  finish(status: Status, message?: string): OdeSolution;
+  finish(status: Status, message?: string): OdeSolution {
+    const r = this.rec.result();
+    return { status, message, t: r.t, x: r.x, stats: this.stats };
+  }
 }
 
 function startRun(p: OdeProblem, o: OdeOptions): Run {
-  const s = setup(p, o);
-  const n = s.n;
-  const stats = makeStats();
-  const rec = new Recorder(n, s.outputTimes, s.t0, o.x0);
-  const F = (tt: number, xx: Float64Array, out: Float64Array): boolean => {
-    stats.fEvals++;
-    if (!allFinite(xx, n)) return false;
-    return p.f(tt, xx, out) === true && allFinite(out, n);
-  };
-  const finish = (status: Status, message?: string): OdeSolution => {
-    const r = rec.result();
-    return { status, message, t: r.t, x: r.x, stats };
-  };
-  return { s, stats, rec, F, finish };
+  return new Run(p, o);
 }
 
 /**
@@ -356,91 +380,162 @@ const R_FAC_MAX = 6;
 const R_SAFE = 0.9;
 
 /**
+ * A Rosenbrock method in the transformed form of Hairer & Wanner (II, Sect. IV.7, (7.25)), which needs no
+ * product with the Jacobian: stage i solves E·k_i = f(t + α_i h, y + Σ_j a_ij k_j) + Σ_j (c_ij/h) k_j
+ * + h d_i f_t with E = I/(hγ) − J; the solution is y + Σ_j m_j k_j, the error estimate k of stage `err`.
+ */
+interface Rosenbrock {
+  stages: number;
+  gamma: number;
+  /** Rows of a and c below the diagonal (row i has i entries). */
+  a: readonly (readonly number[])[];
+  c: readonly (readonly number[])[];
+  alpha: readonly number[];
+  d: readonly number[];
+  m: readonly number[];
+  err: number;
+}
+
+/** Rodas4: stage 6 starts from stage 5's point plus k5, the solution is stage 6's point plus k6 (stiffly accurate), k6 the error. */
+const RODAS4: Rosenbrock = {
+  stages: 6,
+  gamma: R_GAMMA,
+  a: [[], [R_A21], [R_A31, R_A32], [R_A41, R_A42, R_A43], [R_A51, R_A52, R_A53, R_A54], [R_A51, R_A52, R_A53, R_A54, 1]],
+  c: [[], [R_C21], [R_C31, R_C32], [R_C41, R_C42, R_C43], [R_C51, R_C52, R_C53, R_C54], [R_C61, R_C62, R_C63, R_C64, R_C65]],
+  alpha: [0, R_C2, R_C3, R_C4, 1, 1],
+  d: [R_D1, R_D2, R_D3, R_D4, 0, 0],
+  m: [R_A51, R_A52, R_A53, R_A54, 1, 1],
+  err: 5,
+};
+
+/**
+ * out = y + Σ_j a[j]·K[j], summed left to right (zero coefficients skipped). Small kernels like this one
+ * keep the step function itself small, so the engine optimises it quickly.
+ */
+function combine(out: Float64Array, y: Float64Array, K: Float64Array[], a: readonly number[], n: number): void {
+  for (let i = 0; i < n; i++) out[i] = y[i];
+  for (let j = 0; j < a.length; j++) {
+    const c = a[j];
+    if (c === 0) continue;
+    const kj = K[j];
+    for (let i = 0; i < n; i++) out[i] += c * kj[i];
+  }
+}
+
+/** k = f + hd·f_t + Σ_j (c[j]/h)·K[j], summed left to right. */
+function stageRhs(k: Float64Array, f: Float64Array, ft: Float64Array, hd: number, K: Float64Array[], c: readonly number[], h: number, n: number): void {
+  if (hd !== 0) for (let i = 0; i < n; i++) k[i] = f[i] + hd * ft[i];
+  else for (let i = 0; i < n; i++) k[i] = f[i];
+  for (let j = 0; j < c.length; j++) {
+    if (c[j] === 0) continue;
+    const hc = c[j] / h;
+    const kj = K[j];
+    for (let i = 0; i < n; i++) k[i] += hc * kj[i];
+  }
+}
+
+/** Rodas4's order-3 continuous output at s ∈ [0, 1] of the step from y to ynew (read before y moves on). */
+class RodasDense implements Interpolant {
+  constructor(private readonly y: Float64Array, private readonly ynew: Float64Array, private readonly K: Float64Array[], private readonly n: number) {}
+
+  at(sv: number, out: Float64Array): void {
+    const { y, ynew, K, n } = this;
+    const k1 = K[0], k2 = K[1], k3 = K[2], k4 = K[3], k5 = K[4];
+    const s1 = 1 - sv;
+    for (let i = 0; i < n; i++) {
+      const c2 = R_D21 * k1[i] + R_D22 * k2[i] + R_D23 * k3[i] + R_D24 * k4[i] + R_D25 * k5[i];
+      const c3 = R_D31 * k1[i] + R_D32 * k2[i] + R_D33 * k3[i] + R_D34 * k4[i] + R_D35 * k5[i];
+      out[i] = y[i] * s1 + sv * (ynew[i] + s1 * (c2 + sv * c3));
+    }
+  }
+}
+
+/**
+ * The Jacobian (and ∂f/∂t) at (t, y) for the stiff integrator: from `p.sparseJac`, `p.jac`, or forward
+ * differences (f(t, y) in dy1); ∂f/∂t zero for an autonomous problem, else one forward difference in t.
+ */
+function evalJacobian(p: OdeProblem, run: Run, W: StiffMatrix, t: number, y: Float64Array, dy1: Float64Array, h: number, fx: Float64Array, tmp: Float64Array): boolean {
+  const { n, rtol, atol } = run.s;
+  const J = W.J;
+  run.stats.jEvals++;
+  if (p.sparseJac) {
+    if (!W.evaluate(t, y) || !allFinite(J, J.length)) return false;
+  } else if (p.jac) {
+    if (p.jac(t, y, J) !== true || !allFinite(J, n * n)) return false;
+  } else {
+    // difference-quotient increments as in the CVODE documentation
+    // (Hindmarsh et al., "SUNDIALS", ACM TOMS 31(3), 2005):
+    // δ_j = max(√ε·|y_j|, minInc·w_j), w_j = rtol·|y_j| + atol_j,
+    // minInc = 1000·|h|·ε·n·‖f‖ (weighted RMS), so that small states are
+    // perturbed on their own scale rather than on a fixed absolute one.
+    let fnorm = 0;
+    for (let i = 0; i < n; i++) {
+      const r = dy1[i] / (rtol * Math.abs(y[i]) + atol[i]);
+      fnorm += r * r;
+    }
+    fnorm = Math.sqrt(fnorm / n);
+    const minInc = fnorm > 0 ? 1000 * Math.abs(h) * EPS * n * fnorm : 1;
+    for (let j = 0; j < n; j++) {
+      const ysafe = y[j];
+      let delt = Math.max(SQRT_EPS * Math.abs(ysafe), minInc * (rtol * Math.abs(ysafe) + atol[j]));
+      y[j] = ysafe + delt;
+      delt = y[j] - ysafe;
+      let ok = run.F(t, y, tmp);
+      if (!ok) {
+        // the forward perturbation left the domain: try the other side
+        y[j] = ysafe - delt;
+        delt = y[j] - ysafe;
+        ok = run.F(t, y, tmp);
+      }
+      y[j] = ysafe;
+      if (!ok) return false;
+      for (let i = 0; i < n; i++) J[i * n + j] = (tmp[i] - dy1[i]) / delt;
+    }
+  }
+  if (p.autonomous) {
+    fx.fill(0);
+    return true;
+  }
+  let delt = Math.sqrt(EPS * Math.max(1e-5, Math.abs(t)));
+  let tt = t + delt;
+  delt = tt - t;
+  let ok = run.F(tt, y, tmp);
+  if (!ok) {
+    tt = t - delt;
+    delt = tt - t;
+    ok = run.F(tt, y, tmp);
+  }
+  if (!ok) return false;
+  for (let i = 0; i < n; i++) fx[i] = (tmp[i] - dy1[i]) / delt;
+  return true;
+}
+
+/**
  * Stiff integration with Rodas4. Suitable for models whose time constants
- * span many decades. Uses `p.jac` when present, otherwise a forward
- * difference Jacobian (n extra f evaluations per step). ∂f/∂t is always
- * formed by one forward difference in t.
+ * span many decades. Uses `p.sparseJac` or `p.jac` when present, otherwise a
+ * forward difference Jacobian (n extra f evaluations per step). ∂f/∂t is
+ * formed by one forward difference in t unless the problem is autonomous.
  */
 export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   const run = startRun(p, o);
-  const { s, stats, rec, F, finish } = run;
+  const { s, stats, rec } = run;
   const { n, t1, span, rtol, atol } = s;
+  const M = RODAS4;
 
   const y = Float64Array.from(o.x0);
   const dy1 = new Float64Array(n); // f(t, y) at the start of the step
   const dy = new Float64Array(n);
   const fx = new Float64Array(n); // ∂f/∂t
-  const J = new Float64Array(n * n);
-  const E = new Float64Array(n * n);
-  const piv = new Int32Array(n);
-  const ak1 = new Float64Array(n);
-  const ak2 = new Float64Array(n);
-  const ak3 = new Float64Array(n);
-  const ak4 = new Float64Array(n);
-  const ak5 = new Float64Array(n);
-  const ak6 = new Float64Array(n);
+  const W = p.matrix ?? stiffMatrix(n, p.sparseJac);
+  const K = Array.from({ length: M.stages }, () => new Float64Array(n));
   const ynew = new Float64Array(n);
   const dynew = new Float64Array(n);
   const tmp = new Float64Array(n);
+  const interp = new RodasDense(y, ynew, K, n);
 
   let t = s.t0;
-  const domainMessage = (): string => `the state left the model's domain at t = ${fmt(t)}`;
-
   const early = firstCall(run, y, dy1);
   if (early) return early;
-
-  /** Jacobian and ∂f/∂t at (t, y); dy1 must hold f(t, y). */
-  const jacobian = (): boolean => {
-    stats.jEvals++;
-    if (p.jac) {
-      if (p.jac(t, y, J) !== true || !allFinite(J, n * n)) return false;
-    } else {
-      // difference-quotient increments as in the CVODE documentation
-      // (Hindmarsh et al., "SUNDIALS", ACM TOMS 31(3), 2005):
-      // δ_j = max(√ε·|y_j|, minInc·w_j), w_j = rtol·|y_j| + atol_j,
-      // minInc = 1000·|h|·ε·n·‖f‖ (weighted RMS), so that small states are
-      // perturbed on their own scale rather than on a fixed absolute one.
-      let fnorm = 0;
-      for (let i = 0; i < n; i++) {
-        const r = dy1[i] / (rtol * Math.abs(y[i]) + atol[i]);
-        fnorm += r * r;
-      }
-      fnorm = Math.sqrt(fnorm / n);
-      const minInc = fnorm > 0 ? 1000 * Math.abs(h) * EPS * n * fnorm : 1;
-      for (let j = 0; j < n; j++) {
-        const ysafe = y[j];
-        let delt = Math.max(SQRT_EPS * Math.abs(ysafe), minInc * (rtol * Math.abs(ysafe) + atol[j]));
-        y[j] = ysafe + delt;
-        delt = y[j] - ysafe;
-        let ok = F(t, y, tmp);
-        if (!ok) {
-          // the forward perturbation left the domain: try the other side
-          y[j] = ysafe - delt;
-          delt = y[j] - ysafe;
-          ok = F(t, y, tmp);
-        }
-        y[j] = ysafe;
-        if (!ok) return false;
-        for (let i = 0; i < n; i++) J[i * n + j] = (tmp[i] - dy1[i]) / delt;
-      }
-    }
-    if (p.autonomous) {
-      fx.fill(0);
-      return true;
-    }
-    let delt = Math.sqrt(EPS * Math.max(1e-5, Math.abs(t)));
-    let tt = t + delt;
-    delt = tt - t;
-    let ok = F(tt, y, tmp);
-    if (!ok) {
-      tt = t - delt;
-      delt = tt - t;
-      ok = F(tt, y, tmp);
-    }
-    if (!ok) return false;
-    for (let i = 0; i < n; i++) fx[i] = (tmp[i] - dy1[i]) / delt;
-    return true;
-  };
 
   let h = o.initialStep ?? firstGuess(y, dy1, rtol, atol, n).h;
   h = Math.min(h, span);
@@ -462,18 +557,15 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     }
 
     if (needJac) {
-      if (!jacobian()) return finish('domain', domainMessage());
+      if (!evalJacobian(p, run, W, t, y, dy1, h, fx, tmp)) return run.finish('domain', `the state left the model's domain at t = ${fmt(t)}`);
       needJac = false;
     }
 
     // iteration matrix E = I/(h·γ) − J
-    const fac = 1 / (h * R_GAMMA);
-    for (let k = 0; k < n * n; k++) E[k] = -J[k];
-    for (let i = 0; i < n; i++) E[i * n + i] += fac;
-    if (!luFactorInPlace(E, n, piv)) {
+    if (!W.factor(1 / (h * M.gamma))) {
       nsing++;
       if (nsing >= 5) {
-        return finish('stepTooSmall', `the iteration matrix is repeatedly singular at t = ${fmt(t)}`);
+        return run.finish('stepTooSmall', `the iteration matrix is repeatedly singular at t = ${fmt(t)}`);
       }
       h *= 0.5;
       reject = true;
@@ -481,73 +573,18 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     }
     stats.luDecomps++;
 
-    const hc21 = R_C21 / h;
-    const hc31 = R_C31 / h;
-    const hc32 = R_C32 / h;
-    const hc41 = R_C41 / h;
-    const hc42 = R_C42 / h;
-    const hc43 = R_C43 / h;
-    const hc51 = R_C51 / h;
-    const hc52 = R_C52 / h;
-    const hc53 = R_C53 / h;
-    const hc54 = R_C54 / h;
-    const hc61 = R_C61 / h;
-    const hc62 = R_C62 / h;
-    const hc63 = R_C63 / h;
-    const hc64 = R_C64 / h;
-    const hc65 = R_C65 / h;
-    const hd1 = h * R_D1;
-    const hd2 = h * R_D2;
-    const hd3 = h * R_D3;
-    const hd4 = h * R_D4;
-
     let stagesOk = true;
-    // stage 1
-    for (let i = 0; i < n; i++) ak1[i] = dy1[i] + hd1 * fx[i];
-    luSolveInPlace(E, n, piv, ak1);
-    // stage 2
-    for (let i = 0; i < n; i++) ynew[i] = y[i] + R_A21 * ak1[i];
-    if (!F(t + R_C2 * h, ynew, dy)) stagesOk = false;
-    if (stagesOk) {
-      for (let i = 0; i < n; i++) ak2[i] = dy[i] + hd2 * fx[i] + hc21 * ak1[i];
-      luSolveInPlace(E, n, piv, ak2);
-      // stage 3
-      for (let i = 0; i < n; i++) ynew[i] = y[i] + R_A31 * ak1[i] + R_A32 * ak2[i];
-      if (!F(t + R_C3 * h, ynew, dy)) stagesOk = false;
-    }
-    if (stagesOk) {
-      for (let i = 0; i < n; i++) ak3[i] = dy[i] + hd3 * fx[i] + hc31 * ak1[i] + hc32 * ak2[i];
-      luSolveInPlace(E, n, piv, ak3);
-      // stage 4
-      for (let i = 0; i < n; i++) ynew[i] = y[i] + R_A41 * ak1[i] + R_A42 * ak2[i] + R_A43 * ak3[i];
-      if (!F(t + R_C4 * h, ynew, dy)) stagesOk = false;
-    }
-    if (stagesOk) {
-      for (let i = 0; i < n; i++) {
-        ak4[i] = dy[i] + hd4 * fx[i] + hc41 * ak1[i] + hc42 * ak2[i] + hc43 * ak3[i];
+    for (let st = 0; st < M.stages && stagesOk; st++) {
+      if (st > 0) {
+        combine(ynew, y, K, M.a[st], n);
+        if (!run.F(t + M.alpha[st] * h, ynew, dy)) {
+          stagesOk = false;
+          break;
+        }
       }
-      luSolveInPlace(E, n, piv, ak4);
-      // stage 5
-      for (let i = 0; i < n; i++) {
-        ynew[i] = y[i] + R_A51 * ak1[i] + R_A52 * ak2[i] + R_A53 * ak3[i] + R_A54 * ak4[i];
-      }
-      if (!F(t + h, ynew, dy)) stagesOk = false;
-    }
-    if (stagesOk) {
-      for (let i = 0; i < n; i++) {
-        ak5[i] = dy[i] + hc51 * ak1[i] + hc52 * ak2[i] + hc53 * ak3[i] + hc54 * ak4[i];
-      }
-      luSolveInPlace(E, n, piv, ak5);
-      // stage 6: embedded solution, its increment is the error estimate
-      for (let i = 0; i < n; i++) ynew[i] += ak5[i];
-      if (!F(t + h, ynew, dy)) stagesOk = false;
-    }
-    if (stagesOk) {
-      for (let i = 0; i < n; i++) {
-        ak6[i] = dy[i] + hc61 * ak1[i] + hc62 * ak2[i] + hc63 * ak3[i] + hc64 * ak4[i] + hc65 * ak5[i];
-      }
-      luSolveInPlace(E, n, piv, ak6);
-      for (let i = 0; i < n; i++) ynew[i] += ak6[i];
+      const k = K[st];
+      stageRhs(k, st > 0 ? dy : dy1, fx, h * M.d[st], K, M.c[st], h, n);
+      W.solve(k);
     }
     if (!stagesOk) {
       stats.rejected++;
@@ -556,8 +593,9 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
       h *= DOMAIN_SHRINK;
       continue;
     }
+    combine(ynew, y, K, M.m, n);
 
-    const err = errorNorm(ak6, y, ynew, rtol, atol, n);
+    const err = errorNorm(K[M.err], y, ynew, rtol, atol, n);
     if (!Number.isFinite(err)) {
       stats.rejected++;
       lastWasDomain = false;
@@ -569,7 +607,7 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     let hnew = h / facc;
 
     const tNew = last ? t1 : t + h;
-    if (err <= 1 && !F(tNew, ynew, dynew)) {
+    if (err <= 1 && !run.F(tNew, ynew, dynew)) {
       // the new state itself is outside the domain
       stats.rejected++;
       lastWasDomain = true;
@@ -591,23 +629,14 @@ export function integrateStiff(p: OdeProblem, o: OdeOptions): OdeSolution {
       hacc = h;
       erracc = Math.max(1e-2, err);
 
-      const tOld = t;
-      const hStep = h;
-      rec.accept(tOld, hStep, tNew, ynew, (sv, out) => {
-        const s1 = 1 - sv;
-        for (let i = 0; i < n; i++) {
-          const c2 = R_D21 * ak1[i] + R_D22 * ak2[i] + R_D23 * ak3[i] + R_D24 * ak4[i] + R_D25 * ak5[i];
-          const c3 = R_D31 * ak1[i] + R_D32 * ak2[i] + R_D33 * ak3[i] + R_D34 * ak4[i] + R_D35 * ak5[i];
-          out[i] = y[i] * s1 + sv * (ynew[i] + s1 * (c2 + sv * c3));
-        }
-      });
+      rec.accept(t, h, tNew, ynew, interp);
       y.set(ynew);
       dy1.set(dynew);
       t = tNew;
       needJac = true;
       nsing = 0;
       lastWasDomain = false;
-      if (last) return finish('ok');
+      if (last) return run.finish('ok');
       h = nextStep(hnew, h, span, reject);
       reject = false;
     } else {
@@ -669,7 +698,7 @@ const DP_FAC_MAX = 10; // hnew/h <= 10
 /** Explicit integration with Dormand–Prince 5(4); for non-stiff models. */
 export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
   const run = startRun(p, o);
-  const { s, stats, rec, F, finish } = run;
+  const { s, stats, rec } = run;
   const { n, t1, span, rtol, atol } = s;
 
   const y = Float64Array.from(o.x0);
@@ -696,7 +725,7 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
     const g = firstGuess(y, k1, rtol, atol, n);
     let h0 = Math.min(g.h, span);
     for (let i = 0; i < n; i++) ystage[i] = y[i] + h0 * k1[i];
-    if (F(t + h0, ystage, k2)) {
+    if (run.F(t + h0, ystage, k2)) {
       let der2 = 0;
       for (let i = 0; i < n; i++) {
         const sk = atol[i] + rtol * Math.abs(y[i]);
@@ -727,32 +756,32 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
 
     let ok = true;
     for (let i = 0; i < n; i++) ystage[i] = y[i] + h * DP_A21 * k1[i];
-    ok = F(t + DP_C2 * h, ystage, k2);
+    ok = run.F(t + DP_C2 * h, ystage, k2);
     if (ok) {
       for (let i = 0; i < n; i++) ystage[i] = y[i] + h * (DP_A31 * k1[i] + DP_A32 * k2[i]);
-      ok = F(t + DP_C3 * h, ystage, k3);
+      ok = run.F(t + DP_C3 * h, ystage, k3);
     }
     if (ok) {
       for (let i = 0; i < n; i++) ystage[i] = y[i] + h * (DP_A41 * k1[i] + DP_A42 * k2[i] + DP_A43 * k3[i]);
-      ok = F(t + DP_C4 * h, ystage, k4);
+      ok = run.F(t + DP_C4 * h, ystage, k4);
     }
     if (ok) {
       for (let i = 0; i < n; i++) {
         ystage[i] = y[i] + h * (DP_A51 * k1[i] + DP_A52 * k2[i] + DP_A53 * k3[i] + DP_A54 * k4[i]);
       }
-      ok = F(t + DP_C5 * h, ystage, k5);
+      ok = run.F(t + DP_C5 * h, ystage, k5);
     }
     if (ok) {
       for (let i = 0; i < n; i++) {
         ystage[i] = y[i] + h * (DP_A61 * k1[i] + DP_A62 * k2[i] + DP_A63 * k3[i] + DP_A64 * k4[i] + DP_A65 * k5[i]);
       }
-      ok = F(tNew, ystage, k6);
+      ok = run.F(tNew, ystage, k6);
     }
     if (ok) {
       for (let i = 0; i < n; i++) {
         y1[i] = y[i] + h * (DP_A71 * k1[i] + DP_A73 * k3[i] + DP_A74 * k4[i] + DP_A75 * k5[i] + DP_A76 * k6[i]);
       }
-      ok = F(tNew, y1, k7);
+      ok = run.F(tNew, y1, k7);
     }
     if (!ok) {
       stats.rejected++;
@@ -782,7 +811,7 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
       stats.steps++;
       const tOld = t;
       const hStep = h;
-      rec.accept(tOld, hStep, tNew, y1, (th, out) => {
+      rec.accept(tOld, hStep, tNew, y1, { at: (th: number, out: Float64Array): void => {
         const th1 = 1 - th;
         for (let i = 0; i < n; i++) {
           const ydiff = y1[i] - y[i];
@@ -793,12 +822,12 @@ export function integrateNonstiff(p: OdeProblem, o: OdeOptions): OdeSolution {
             (DP_D1 * k1[i] + DP_D3 * k3[i] + DP_D4 * k4[i] + DP_D5 * k5[i] + DP_D6 * k6[i] + DP_D7 * k7[i]);
           out[i] = y[i] + th * (ydiff + th1 * (bspl + th * (r4 + th1 * r5)));
         }
-      });
+      } });
       y.set(y1);
       k1.set(k7);
       t = tNew;
       lastWasDomain = false;
-      if (last) return finish('ok');
+      if (last) return run.finish('ok');
       h = nextStep(hnew, h, span, reject);
       reject = false;
     } else {
