@@ -923,14 +923,21 @@ function aed(h: Float64Array, nn: number, ilo: number, hi: number, nw: number, w
  */
 function timesRight(m: Float64Array, ld: number, r0: number, r1: number, c0: number, q: Float64Array, ns: number, qld: number, kk = qld): void {
   const row = new Float64Array(ns);
+  const k4 = kk & ~3;
   for (let r = r0; r < r1; r++) {
     const o = r * ld + c0;
     row.fill(0);
-    for (let i = 0; i < kk; i++) {
+    for (let i = k4; i < kk; i++) {
       const hv = m[o + i];
       if (hv === 0) continue;
       const qo = i * qld;
       for (let j = 0; j < ns; j++) row[j] += hv * q[qo + j];
+    }
+    for (let i = 0; i < k4; i += 4) {
+      const h0 = m[o + i], h1 = m[o + i + 1], h2 = m[o + i + 2], h3 = m[o + i + 3];
+      if (h0 === 0 && h1 === 0 && h2 === 0 && h3 === 0) continue;
+      const q0 = i * qld, q1 = q0 + qld, q2 = q1 + qld, q3 = q2 + qld;
+      for (let j = 0; j < ns; j++) row[j] += h0 * q[q0 + j] + h1 * q[q1 + j] + h2 * q[q2 + j] + h3 * q[q3 + j];
     }
     for (let j = 0; j < ns; j++) m[o + j] = row[j];
   }

@@ -25,13 +25,13 @@ export function hessenbergBlocked(a: Float64Array, n: number, nb: number = NB): 
   if (n < 3) return;
   nb = Math.max(1, Math.min(nb, n - 2));
   const V = new Float64Array(n * nb); // V[i·nb + k]: reflector k of the panel, row i
-  const G = new Float64Array(2 * nb * n); // rows 0..nb−1: Vᵀ (G[k·n + i] = V[i, k]); rows nb..2nb−1: W
+  const G = new Float64Array((2 * nb + 4) * n); // rows 0..nb−1: Vᵀ (G[k·n + i] = V[i, k]); rows nb..2nb−1: W; 4 zero rows
   const Y = new Float64Array(n * nb); // Y[i·nb + k]
   const T = new Float64Array(nb * nb); // T[k·nb + l], upper triangular
   const M = new Float64Array(nb * nb); // Vᵀ Y
   const w = new Float64Array(nb);
   const u = new Float64Array(nb);
-  const coef = new Float64Array(2 * nb);
+  const coef = new Float64Array(2 * (2 * nb + 4)); // two rows' coefficients
   for (let p = 0; p < n - 2; p += nb) {
     const b = Math.min(nb, n - 2 - p);
     V.fill(0);
@@ -211,7 +211,7 @@ function trailing(
   const q = p + b;
   if (q >= n) return;
   const W0 = nb * n;
-  G.fill(0, W0, W0 + nb * n);
+  G.fill(0, W0, W0 + (nb + 4) * n);
   vtA(a, n, p, b, nb, V, G);
   vtY(n, p, b, nb, V, Y, M);
   minusMVt(n, q, b, nb, G, M);
@@ -345,28 +345,53 @@ function timesTt(n: number, q: number, b: number, nb: number, G: Float64Array, T
   }
 }
 
-/** A[:, q..] −= Y Vᵀ[:, q..] (all rows) + V W (rows p+1..): one pass, four terms at a time. */
+/**
+ * A[:, q..] −= Y Vᵀ[:, q..] (all rows) + V W (rows p+1..): one pass, two rows and four terms at a time
+ * (coefficients padded with zeros to a multiple of four; G has the rows for it).
+ */
 function update(a: Float64Array, n: number, p: number, b: number, nb: number, V: Float64Array, G: Float64Array, Y: Float64Array, coef: Float64Array): void {
-  const p1 = p + 1, q = p + b;
-  const nk = nb + b;
-  for (let r = 0; r < n; r++) {
-    const o = r * n;
-    for (let k = 0; k < nb; k++) coef[k] = k < b ? Y[r * nb + k] : 0;
-    for (let k = 0; k < b; k++) coef[nb + k] = r >= p1 ? V[r * nb + k] : 0;
-    let k = 0;
-    for (; k + 3 < nk; k += 4) {
-      const c0 = coef[k], c1 = coef[k + 1], c2 = coef[k + 2], c3 = coef[k + 3];
-      if (c0 === 0 && c1 === 0 && c2 === 0 && c3 === 0) continue;
-      const g0 = k * n, g1 = g0 + n, g2 = g1 + n, g3 = g2 + n;
+  const q = p + b;
+  const nk = (nb + b + 3) & ~3;
+  const cb = coef.length >> 1; // second row's coefficients at cb
+  let r = 0;
+  if (n % 2 === 1) {
+    rowCoefficients(r, p, b, nb, V, Y, coef, 0);
+    rowCoefficients(-1, p, b, nb, V, Y, coef, cb);
+    updatePair(a, n, q, nk, G, coef, cb, 0, 0);
+    r = 1;
+  }
+  for (; r < n; r += 2) {
+    rowCoefficients(r, p, b, nb, V, Y, coef, 0);
+    rowCoefficients(r + 1, p, b, nb, V, Y, coef, cb);
+    updatePair(a, n, q, nk, G, coef, cb, r * n, (r + 1) * n);
+  }
+}
+
+/** coef[at..]: row r's Y entries (nb, zero from b on), then its V entries (zero above row p+1); r = −1: all zero. */
+function rowCoefficients(r: number, p: number, b: number, nb: number, V: Float64Array, Y: Float64Array, coef: Float64Array, at: number): void {
+  coef.fill(0, at, at + (coef.length >> 1));
+  if (r < 0) return;
+  for (let k = 0; k < b; k++) coef[at + k] = Y[r * nb + k];
+  if (r > p) for (let k = 0; k < b; k++) coef[at + nb + k] = V[r * nb + k];
+}
+
+/** Rows at offsets o0 and o1 (o1 = o0: a zero second set of coefficients), columns q..n−1. */
+function updatePair(a: Float64Array, n: number, q: number, nk: number, G: Float64Array, coef: Float64Array, cb: number, o0: number, o1: number): void {
+  for (let k = 0; k < nk; k += 4) {
+    const c0 = coef[k], c1 = coef[k + 1], c2 = coef[k + 2], c3 = coef[k + 3];
+    const d0 = coef[cb + k], d1 = coef[cb + k + 1], d2 = coef[cb + k + 2], d3 = coef[cb + k + 3];
+    if (c0 === 0 && c1 === 0 && c2 === 0 && c3 === 0 && d0 === 0 && d1 === 0 && d2 === 0 && d3 === 0) continue;
+    const g0 = k * n, g1 = g0 + n, g2 = g1 + n, g3 = g2 + n;
+    if (o1 === o0) {
       for (let col = q; col < n; col++) {
-        a[o + col] -= c0 * G[g0 + col] + c1 * G[g1 + col] + c2 * G[g2 + col] + c3 * G[g3 + col];
+        a[o0 + col] -= c0 * G[g0 + col] + c1 * G[g1 + col] + c2 * G[g2 + col] + c3 * G[g3 + col];
       }
+      continue;
     }
-    for (; k < nk; k++) {
-      const c0 = coef[k];
-      if (c0 === 0) continue;
-      const g0 = k * n;
-      for (let col = q; col < n; col++) a[o + col] -= c0 * G[g0 + col];
+    for (let col = q; col < n; col++) {
+      const x0 = G[g0 + col], x1 = G[g1 + col], x2 = G[g2 + col], x3 = G[g3 + col];
+      a[o0 + col] -= c0 * x0 + c1 * x1 + c2 * x2 + c3 * x3;
+      a[o1 + col] -= d0 * x0 + d1 * x1 + d2 * x2 + d3 * x3;
     }
   }
 }
