@@ -15,11 +15,14 @@
  *     block with some negative products is first scaled the same way (each
  *     off-diagonal pair then has equal magnitudes) and goes to step 3; this
  *     removes the strong non-normality of chains with unequal couplings.
- *  3. Any other block is balanced (power-of-two diagonal similarity), reduced
- *     to upper Hessenberg form by Householder reflections, and its
- *     eigenvalues found by Francis' implicit double-shift QR iteration with
- *     deflation on small subdiagonals and exceptional shifts (the classical
- *     hqr algorithm; only the active window is updated).
+ *  3. Any other block is balanced (power-of-two diagonal similarity,
+ *     balance.ts), reduced to upper Hessenberg form by Householder reflections
+ *     (from 128 rows in panels, hessenberg.ts), and its eigenvalues found by
+ *     Francis' implicit double-shift QR iteration with deflation on small
+ *     subdiagonals and exceptional shifts (the classical hqr algorithm; only
+ *     the active window is updated); from 75 rows with aggressive early
+ *     deflation and the shifts chased as a chain of small bulges
+ *     (bulgeChain.ts).
  *
  * eigenvectors(): the whole matrix is balanced, reduced to Hessenberg form
  * with the reflections accumulated, brought to real Schur form by the same
@@ -33,6 +36,8 @@
  */
 import { CsrMatrix, csrFromDense } from './csr';
 import { complexSolve, DenseMatrix } from './dense';
+import { balance } from './balance';
+import { bulgeChainSweep } from './bulgeChain';
 import { hessenbergBlocked } from './hessenberg';
 import { symTridiagEigenvalues } from './symTridiag';
 
@@ -261,51 +266,6 @@ function tql1(d: Float64Array, e: Float64Array, n: number): boolean {
 }
 
 // ------------------------------------------------------------ general blocks
-
-/** Balances h in place (D⁻¹ h D with power-of-two D); returns D's diagonal. Scaling only, no permutations. */
-function balance(h: Float64Array, n: number): Float64Array {
-  const scale = new Float64Array(n).fill(1);
-  const RADIX = 2;
-  const SQRDX = RADIX * RADIX;
-  let noconv = true;
-  let sweeps = 0;
-  while (noconv && sweeps++ < 200) {
-    noconv = false;
-    for (let i = 0; i < n; i++) {
-      let c = 0, r = 0;
-      const row = i * n;
-      for (let j = 0; j < n; j++) {
-        if (j === i) continue;
-        c += Math.abs(h[j * n + i]);
-        r += Math.abs(h[row + j]);
-      }
-      if (c !== 0 && r !== 0) {
-        let g = r / RADIX;
-        let f = 1;
-        const s = c + r;
-        let guard = 0;
-        while (c < g && guard++ < 2100) {
-          f *= RADIX;
-          c *= SQRDX;
-        }
-        g = r * RADIX;
-        guard = 0;
-        while (c > g && guard++ < 2100) {
-          f /= RADIX;
-          c /= SQRDX;
-        }
-        if ((c + r) / f < 0.95 * s) {
-          noconv = true;
-          g = 1 / f;
-          scale[i] *= f;
-          for (let j = 0; j < n; j++) h[row + j] *= g;
-          for (let j = 0; j < n; j++) h[j * n + i] *= f;
-        }
-      }
-    }
-  }
-  return scale;
-}
 
 /**
  * Householder reduction to upper Hessenberg form (in place), with the same result and storage as
@@ -618,84 +578,6 @@ function hqr(h: Float64Array, nn: number, wr: Float64Array, wi: Float64Array, of
 /** Below this size a Hessenberg window goes to the classical double-shift QR (hqr). */
 const AED_NMIN = 75;
 const SMALL = 2.2250738585072014e-308;
-
-/**
- * One Francis double-shift sweep over rows/columns l..en of the Hessenberg h (nn×nn), eigenvalue-only
- * (nothing outside the window is updated), with the shifts given by their sum and product.
- */
-function francisSweep(h: Float64Array, nn: number, l: number, en: number, sum: number, prod: number): void {
-  // hqr's scaled first column with x = y = sum/2 and w = x·y − prod
-  let x = sum / 2, y = sum / 2;
-  let w = x * y - prod;
-  let z = h[l * nn + l];
-  let r = x - z;
-  let s = y - z;
-  let p = (r * s - w) / h[(l + 1) * nn + l] + h[l * nn + l + 1];
-  let q = h[(l + 1) * nn + l + 1] - z - r - s;
-  r = h[(l + 2) * nn + l + 1];
-  s = Math.abs(p) + Math.abs(q) + Math.abs(r);
-  if (!(s > 0) || !Number.isFinite(s)) return;
-  p /= s;
-  q /= s;
-  r /= s;
-  for (let i = l + 2; i <= en; i++) {
-    h[i * nn + i - 2] = 0;
-    if (i > l + 2) h[i * nn + i - 3] = 0;
-  }
-  for (let k = l; k <= en - 1; k++) {
-    const notlast = k !== en - 1;
-    if (k !== l) {
-      p = h[k * nn + k - 1];
-      q = h[(k + 1) * nn + k - 1];
-      r = notlast ? h[(k + 2) * nn + k - 1] : 0;
-      x = Math.abs(p) + Math.abs(q) + Math.abs(r);
-      if (x === 0) continue;
-      p /= x;
-      q /= x;
-      r /= x;
-    }
-    s = Math.sqrt(p * p + q * q + r * r);
-    if (p < 0) s = -s;
-    if (s === 0) continue;
-    if (k !== l) h[k * nn + k - 1] = -s * x;
-    p += s;
-    x = p / s;
-    y = q / s;
-    z = r / s;
-    q /= p;
-    r /= p;
-    const r0 = k * nn, r1 = r0 + nn, r2 = r1 + nn;
-    if (notlast) {
-      for (let j = k; j <= en; j++) {
-        const t = h[r0 + j] + q * h[r1 + j] + r * h[r2 + j];
-        h[r0 + j] -= t * x;
-        h[r1 + j] -= t * y;
-        h[r2 + j] -= t * z;
-      }
-    } else {
-      for (let j = k; j <= en; j++) {
-        const t = h[r0 + j] + q * h[r1 + j];
-        h[r0 + j] -= t * x;
-        h[r1 + j] -= t * y;
-      }
-    }
-    const iend = Math.min(en, k + 3);
-    if (notlast) {
-      for (let i = l, o = l * nn + k; i <= iend; i++, o += nn) {
-        const t = x * h[o] + y * h[o + 1] + z * h[o + 2];
-        h[o] -= t;
-        h[o + 1] -= t * q;
-        h[o + 2] -= t * r;
-      }
-    } else {
-      for (let i = l, o = l * nn + k; i <= iend; i++, o += nn) {
-        const t = x * h[o] + y * h[o + 1];
-        h[o] -= t;
-        h[o + 1] -= t * q;
-      }
-    }
-  }
-}
 
 /** Scratch space of swapBlocks (allocated once per deflation window). */
 interface SwapWork {
@@ -1018,18 +900,7 @@ function aed(h: Float64Array, nn: number, ilo: number, hi: number, nw: number, w
       zeroBelowSubdiagonal(t11, ns);
       for (let i = 0; i < ns; i++) for (let j = 0; j < ns; j++) t[i * nw + j] = t11[i * ns + j];
       // z(:, 0..ns−1) ← z(:, 0..ns−1)·q11
-      const row = new Float64Array(ns);
-      for (let i = 0; i < nw; i++) {
-        const o = i * nw;
-        row.fill(0);
-        for (let c = 0; c < ns; c++) {
-          const zc = z[o + c];
-          if (zc === 0) continue;
-          const qo = c * ns;
-          for (let j = 0; j < ns; j++) row[j] += zc * q11[qo + j];
-        }
-        for (let j = 0; j < ns; j++) z[o + j] = row[j];
-      }
+      timesRight(z, nw, 0, nw, 0, q11, ns, ns);
     }
   }
   // write back the window
@@ -1040,27 +911,43 @@ function aed(h: Float64Array, nn: number, ilo: number, hi: number, nw: number, w
   h[kwtop * nn + kwtop - 1] = ns > 0 ? beta : 0;
   if (kwtop + ns <= hi) h[(kwtop + ns) * nn + kwtop + ns - 1] = 0;
   // rows ilo..kwtop−1 of the active part: H(:, kwtop..hi) ← H(:, kwtop..hi)·V(:, 0..ns−1)
-  if (ns > 0) {
-    const row = new Float64Array(ns);
-    for (let r = ilo; r < kwtop; r++) {
-      const o = r * nn + kwtop;
-      row.fill(0);
-      for (let i = 0; i < nw; i++) {
-        const hv = h[o + i];
-        if (hv === 0) continue;
-        const zo = i * nw;
-        for (let j = 0; j < ns; j++) row[j] += hv * z[zo + j];
-      }
-      for (let j = 0; j < ns; j++) h[o + j] = row[j];
-    }
-  }
+  if (ns > 0) timesRight(h, nn, ilo, kwtop, kwtop, z, ns, nw);
   return { ndefl, sr, si };
 }
 
 /**
+ * Rows r0..r1−1 of m (row length ld), columns c0..c0+kk−1 (kk = rows of q): the first ns of them become
+ * that row segment times q's first ns columns (q row-major with row length qld). A function of its own so
+ * that V8's on-stack-replacement code for this loop does not run into unvisited code and deoptimize on
+ * every call of the caller.
+ */
+function timesRight(m: Float64Array, ld: number, r0: number, r1: number, c0: number, q: Float64Array, ns: number, qld: number, kk = qld): void {
+  const row = new Float64Array(ns);
+  const k4 = kk & ~3;
+  for (let r = r0; r < r1; r++) {
+    const o = r * ld + c0;
+    row.fill(0);
+    for (let i = k4; i < kk; i++) {
+      const hv = m[o + i];
+      if (hv === 0) continue;
+      const qo = i * qld;
+      for (let j = 0; j < ns; j++) row[j] += hv * q[qo + j];
+    }
+    for (let i = 0; i < k4; i += 4) {
+      const h0 = m[o + i], h1 = m[o + i + 1], h2 = m[o + i + 2], h3 = m[o + i + 3];
+      if (h0 === 0 && h1 === 0 && h2 === 0 && h3 === 0) continue;
+      const q0 = i * qld, q1 = q0 + qld, q2 = q1 + qld, q3 = q2 + qld;
+      for (let j = 0; j < ns; j++) row[j] += h0 * q[q0 + j] + h1 * q[q1 + j] + h2 * q[q2 + j] + h3 * q[q3 + j];
+    }
+    for (let j = 0; j < ns; j++) m[o + j] = row[j];
+  }
+}
+
+/**
  * Shifts per sweep for an active window of w rows; the deflation window is 1.5 times as large. LAPACK's
- * choice (iparmq) grows to 64 shifts at 590 rows; measured here, with sweeps applied one double shift at a
- * time and the window's Schur form by hqr2, 32 shifts (window 48) are as fast or faster at 500–1,000 rows.
+ * choice (iparmq) grows to 64 shifts at 590 rows; measured here, with the window's Schur form by hqr2, 32
+ * shifts (window 48) are as fast or faster at 500–1,000 rows, both with sweeps applied one double shift at a
+ * time and with the bulge chain (48 and 64 shifts tried at 590 rows and more).
  */
 function shiftCount(w: number): number {
   return w < 150 ? 10 : 32;
@@ -1069,7 +956,7 @@ function shiftCount(w: number): number {
 /**
  * Eigenvalues of the upper Hessenberg h (nn×nn, destroyed) written at off: windows below AED_NMIN
  * rows go to hqr; larger ones alternate aggressive early deflation (aed) with sweeps that use the
- * window's undeflated eigenvalues as shifts, applied as consecutive double-shift Francis sweeps;
+ * window's undeflated eigenvalues as shifts, chased as a chain of double-shift bulges (bulgeChain.ts);
  * eigenvalue-only, so a window that splits at a negligible subdiagonal entry becomes two independent
  * windows and nothing outside the active window is updated.
  */
@@ -1168,7 +1055,7 @@ function hqrAed(h: Float64Array, nn: number, wr: Float64Array, wi: Float64Array,
         // smallest shifts first
         pairs = pairs.reverse();
       }
-      for (const [sum, prod] of pairs) francisSweep(h, nn, lo, hi, sum, prod);
+      bulgeChainSweep(h, nn, lo, hi, pairs);
     }
   }
   return ok;
