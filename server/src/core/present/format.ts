@@ -8,6 +8,7 @@ import { formatNumber } from '../algebra/expr';
 import type { DeviationEquation, LinearModel } from '../solve/linearizer';
 import type { IndexReductionSummary } from '../model/indexReduction';
 import { eigenvalues, eigenvaluesSparse, sortEigen, stronglyConnectedCsr } from '../numeric/eigen';
+import type { CsrMatrix } from '../numeric/csr';
 import { unitSuffix, unitText } from '../semantics/units';
 import { maxOf, pushAll } from '../arrays';
 import { REPEAT_TOL } from '../analysis/dynamics/types';
@@ -181,6 +182,19 @@ export function multiplicityText(md: { algebraicMultiplicity: number; geometricM
   return ` (×${md.algebraicMultiplicity}${g})`;
 }
 
+/**
+ * A matrix with more cells than this is not written as a table in text or Markdown: at 10⁷ cells the table is
+ * already about 100 MB of text (a 10,000-state A would be 900 MB, more than a string can hold); its size and
+ * non-zero count are written instead, with the formats that carry it (csv, json, json --sparse).
+ */
+export const TABLE_CELL_LIMIT = 1e7;
+
+/** The line written in place of a matrix too large for a table. */
+export function tableTooLargeText(name: string, m: CsrMatrix): string {
+  const nnz = m.rowPtr[m.rows];
+  return `${name} (${m.rows}×${m.cols}): ${nnz} non-zero entries; too large for a table here (more than ${TABLE_CELL_LIMIT.toExponential(0).replace('e+', 'e')} cells): write it with --format csv, json or json --sparse`;
+}
+
 export function formatLinearText(a: Analysis, lin: LinearModel, values: VariableValue[], eqs: DeviationEquation[], digits = 5, eigen?: boolean): string {
   const t = lin.timeUnit;
   const out: string[] = [];
@@ -194,10 +208,13 @@ export function formatLinearText(a: Analysis, lin: LinearModel, values: Variable
   const sn = lin.states.map((s, i) => `Δ${s}${unitSuffix(lin.stateUnits[i])}`);
   const inn = lin.inputs.map((s, i) => `Δ${s}${unitSuffix(lin.inputUnits[i])}`);
   const on = lin.outputs.map((s, i) => `Δ${s}${unitSuffix(lin.outputUnits[i])}`);
-  out.push(formatMatrix('A', lin.A, lin.n, lin.n, sn, sn, digits));
-  out.push(formatMatrix('B', lin.B, lin.n, lin.m, sn, inn, digits));
-  out.push(formatMatrix('C', lin.C, lin.p, lin.n, on, sn, digits));
-  out.push(formatMatrix('D', lin.D, lin.p, lin.m, on, inn, digits));
+  // the dense matrices are read only for tables that are written (lin.A of 10,000 states is 800 MB)
+  const matrix = (name: 'A' | 'B' | 'C' | 'D', r: number, c: number, rn: string[], cn: string[]) =>
+    r * c > TABLE_CELL_LIMIT ? tableTooLargeText(name, lin.sparse[name]) : formatMatrix(name, lin[name], r, c, rn, cn, digits);
+  out.push(matrix('A', lin.n, lin.n, sn, sn));
+  out.push(matrix('B', lin.n, lin.m, sn, inn));
+  out.push(matrix('C', lin.p, lin.n, on, sn));
+  out.push(matrix('D', lin.p, lin.m, on, inn));
   out.push('');
   const ev = linearEigenIfCheap(lin, eigen);
   out.push(ev.eig ? `Eigenvalues [1/${t}]: ${formatEigen(ev.eig, digits) || '(none)'}` : `Eigenvalues [1/${t}]: ${ev.note}`);
@@ -214,16 +231,21 @@ export function formatLinearMarkdown(lin: LinearModel, values: VariableValue[], 
   out.push('', '```');
   pushAll(out, eqs.map((e) => e.text));
   out.push('```', '');
-  const table = (name: string, a: Float64Array, r: number, c: number, rn: string[], cn: string[]) => {
+  const table = (name: 'A' | 'B' | 'C' | 'D', r: number, c: number, rn: string[], cn: string[]) => {
     if (!r || !c) return;
+    if (r * c > TABLE_CELL_LIMIT) {
+      out.push(`**${name}**: ${tableTooLargeText(name, lin.sparse[name])}`, '');
+      return;
+    }
+    const a = lin[name];
     out.push(`**${name}**`, '', `| | ${cn.map((x) => `Δ${x}`).join(' | ')} |`, `|---|${cn.map(() => '---:').join('|')}|`);
     rows(a, r, c).forEach((row, i) => out.push(`| Δ${rn[i]} | ${row.map((x) => formatNumber(x, digits)).join(' | ')} |`));
     out.push('');
   };
-  table('A', lin.A, lin.n, lin.n, lin.states, lin.states);
-  table('B', lin.B, lin.n, lin.m, lin.states, lin.inputs);
-  table('C', lin.C, lin.p, lin.n, lin.outputs, lin.states);
-  table('D', lin.D, lin.p, lin.m, lin.outputs, lin.inputs);
+  table('A', lin.n, lin.n, lin.states, lin.states);
+  table('B', lin.n, lin.m, lin.states, lin.inputs);
+  table('C', lin.p, lin.n, lin.outputs, lin.states);
+  table('D', lin.p, lin.m, lin.outputs, lin.inputs);
   out.push(`Eigenvalues [1/${lin.timeUnit}]: ${formatEigen(linearEigen(lin), digits) || '(none)'}`);
   return out.join('\n');
 }
