@@ -3,7 +3,7 @@ import fc from 'fast-check';
 import { EigenvalueDecomposition, LuDecomposition, inverse } from 'ml-matrix';
 import { dense, DenseMatrix, matMul, toArrays } from '../server/src/core/numeric/dense';
 import { eigenvalues, eigenvectors, sortEigen } from '../server/src/core/numeric/eigen';
-import { randomDense, rng, toMl } from './helpers/matrices';
+import { randomDense, rng, toMl, spectrumMismatch } from './helpers/matrices';
 
 type C = { re: number; im: number };
 
@@ -14,30 +14,6 @@ function reference(a: DenseMatrix): C[] {
   // ml-matrix EigenvalueDecomposition as the reference library
   const evd = new EigenvalueDecomposition(toMl(a));
   return evd.realEigenvalues.map((re, k) => ({ re, im: evd.imaginaryEigenvalues[k] }));
-}
-
-/**
- * Largest distance between the two multisets of eigenvalues, relative to max(1, |λ|), after
- * matching each computed value to its nearest unused reference value.
- */
-function mismatch(got: C[], ref: C[]): number {
-  expect(got.length).toBe(ref.length);
-  const used = new Array(ref.length).fill(false);
-  let worst = 0;
-  for (const g of got) {
-    let best = -1, bd = Infinity;
-    for (let k = 0; k < ref.length; k++) {
-      if (used[k]) continue;
-      const d = Math.hypot(g.re - ref[k].re, g.im - ref[k].im);
-      if (d < bd) {
-        bd = d;
-        best = k;
-      }
-    }
-    used[best] = true;
-    worst = Math.max(worst, bd / Math.max(1, Math.hypot(ref[best].re, ref[best].im)));
-  }
-  return worst;
 }
 
 function values(a: DenseMatrix): C[] {
@@ -82,7 +58,7 @@ describe('eigenvalues against ml-matrix', () => {
     fc.assert(
       fc.property(fc.integer({ min: 1, max: 30 }), fc.integer({ min: 1, max: 2 ** 31 - 1 }), (n, seed) => {
         const a = randomSquare(n, rng(seed));
-        expect(mismatch(values(a), reference(a))).toBeLessThan(1e-8);
+        expect(spectrumMismatch(values(a), reference(a))).toBeLessThan(1e-8);
       }),
       { numRuns: 80 },
     );
@@ -100,7 +76,7 @@ describe('eigenvalues against ml-matrix', () => {
           // keep a random diagonal: with zero diagonals many such matrices are nilpotent (defective), where
           // the reference itself is only accurate to about eps^(1/k)
           for (let i = 0; i < n; i++) a.data[i * n + i] = 2 * rand() - 1;
-          expect(mismatch(values(a), reference(a))).toBeLessThan(1e-8);
+          expect(spectrumMismatch(values(a), reference(a))).toBeLessThan(1e-8);
         },
       ),
       { numRuns: 80 },
@@ -127,7 +103,7 @@ describe('eigenvalues against ml-matrix', () => {
     const s = dense(n, n);
     for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) s.data[i * n + j] = (a.data[i * n + j] * d[j]) / d[i];
     // D⁻¹AD has the same eigenvalues as A (common practice); reference computed on A itself
-    expect(mismatch(values(s), reference(a))).toBeLessThan(1e-8);
+    expect(spectrumMismatch(values(s), reference(a))).toBeLessThan(1e-8);
   });
 });
 
@@ -135,13 +111,13 @@ describe('eigenvalues with known closed forms', () => {
   it('companion matrix of (s+1)(s+2)(s+3) = s³ + 6s² + 11s + 6 has eigenvalues −1, −2, −3', () => {
     // coefficients expanded by hand (common practice)
     const got = values(companion([6, 11, 6]));
-    expect(mismatch(got, [{ re: -1, im: 0 }, { re: -2, im: 0 }, { re: -3, im: 0 }])).toBeLessThan(1e-10);
+    expect(spectrumMismatch(got, [{ re: -1, im: 0 }, { re: -2, im: 0 }, { re: -3, im: 0 }])).toBeLessThan(1e-10);
   });
 
   it('companion matrix of (s+1)…(s+6) has eigenvalues −1 … −6', () => {
     const roots = [-1, -2, -3, -4, -5, -6];
     const got = values(companion(polyFromRoots(roots)));
-    expect(mismatch(got, roots.map((re) => ({ re, im: 0 })))).toBeLessThan(1e-7);
+    expect(spectrumMismatch(got, roots.map((re) => ({ re, im: 0 })))).toBeLessThan(1e-7);
   });
 
   it('second-order system s² + 2ζωs + ω² has poles −ζω ± iω√(1−ζ²)', () => {
@@ -149,7 +125,7 @@ describe('eigenvalues with known closed forms', () => {
     for (const [zeta, w] of [[0.1, 1], [0.5, 3], [0.9, 0.2], [0, 5]]) {
       const got = values(companion([2 * zeta * w, w * w]));
       const wd = w * Math.sqrt(1 - zeta * zeta);
-      expect(mismatch(got, [{ re: -zeta * w, im: wd }, { re: -zeta * w, im: -wd }])).toBeLessThan(1e-12);
+      expect(spectrumMismatch(got, [{ re: -zeta * w, im: wd }, { re: -zeta * w, im: -wd }])).toBeLessThan(1e-12);
       // a complex pair is returned with positive imaginary part first
       const r = eigenvalues(companion([2 * zeta * w, w * w]));
       expect(r.im[0]).toBeGreaterThan(0);
@@ -160,7 +136,7 @@ describe('eigenvalues with known closed forms', () => {
 
   it('rotation block [[0, ω], [−ω, 0]] has ±iω, also hidden by a similarity in a larger matrix', () => {
     const w = 2.5;
-    expect(mismatch(values(dense(2, 2, [[0, w], [-w, 0]])), [{ re: 0, im: w }, { re: 0, im: -w }])).toBeLessThan(1e-14);
+    expect(spectrumMismatch(values(dense(2, 2, [[0, w], [-w, 0]])), [{ re: 0, im: w }, { re: 0, im: -w }])).toBeLessThan(1e-14);
     // block diag(rot(ω), −1, −2, rot(1) shifted by −0.5) under a random similarity
     const b = dense(6, 6, [
       [0, w, 0, 0, 0, 0],
@@ -174,7 +150,7 @@ describe('eigenvalues with known closed forms', () => {
     const expected = [
       { re: 0, im: w }, { re: 0, im: -w }, { re: -1, im: 0 }, { re: -2, im: 0 }, { re: -0.5, im: 1 }, { re: -0.5, im: -1 },
     ];
-    expect(mismatch(values(a), expected)).toBeLessThan(1e-10);
+    expect(spectrumMismatch(values(a), expected)).toBeLessThan(1e-10);
   });
 
   it('cyclic shift matrices (a hard case for the standard shifts) give the n-th roots of unity', () => {
@@ -183,20 +159,20 @@ describe('eigenvalues with known closed forms', () => {
       for (let i = 0; i < n; i++) m.data[i * n + ((i + 1) % n)] = 1;
       // the characteristic polynomial of the cyclic permutation is sⁿ − 1 (common practice)
       const expected = Array.from({ length: n }, (_, k) => ({ re: Math.cos((2 * Math.PI * k) / n), im: Math.sin((2 * Math.PI * k) / n) }));
-      expect(mismatch(values(m), expected)).toBeLessThan(1e-10);
+      expect(spectrumMismatch(values(m), expected)).toBeLessThan(1e-10);
       // the same with a similarity transform, so that the block triangular splitting cannot help
-      expect(mismatch(values(similarity(m, rng(n))), expected)).toBeLessThan(1e-9);
+      expect(spectrumMismatch(values(similarity(m, rng(n))), expected)).toBeLessThan(1e-9);
     }
   });
 
   it('defective (Jordan) blocks at a loose tolerance', () => {
     // a Jordan block of size k perturbs its eigenvalue by about eps^(1/k) (common practice)
     const j3 = dense(3, 3, [[2, 1, 0], [0, 2, 1], [0, 0, 2]]);
-    expect(mismatch(values(j3), [{ re: 2, im: 0 }, { re: 2, im: 0 }, { re: 2, im: 0 }])).toBeLessThan(1e-12);
+    expect(spectrumMismatch(values(j3), [{ re: 2, im: 0 }, { re: 2, im: 0 }, { re: 2, im: 0 }])).toBeLessThan(1e-12);
     const hidden = similarity(j3, rng(33));
-    expect(mismatch(values(hidden), [{ re: 2, im: 0 }, { re: 2, im: 0 }, { re: 2, im: 0 }])).toBeLessThan(1e-4);
+    expect(spectrumMismatch(values(hidden), [{ re: 2, im: 0 }, { re: 2, im: 0 }, { re: 2, im: 0 }])).toBeLessThan(1e-4);
     const j2 = similarity(dense(2, 2, [[-1, 1], [0, -1]]), rng(34));
-    expect(mismatch(values(j2), [{ re: -1, im: 0 }, { re: -1, im: 0 }])).toBeLessThan(1e-6);
+    expect(spectrumMismatch(values(j2), [{ re: -1, im: 0 }, { re: -1, im: 0 }])).toBeLessThan(1e-6);
   });
 
   it('tridiagonal Toeplitz chains: a + 2√(bc)·cos(kπ/(n+1)) (positive and negative products)', () => {
@@ -218,7 +194,7 @@ describe('eigenvalues with known closed forms', () => {
         if (b * c >= 0) expected.push({ re: a + Math.sqrt(b * c) * cs, im: 0 });
         else expected.push({ re: a, im: Math.sqrt(-b * c) * cs });
       }
-      expect(mismatch(values(m), expected)).toBeLessThan(1e-9);
+      expect(spectrumMismatch(values(m), expected)).toBeLessThan(1e-9);
     }
   });
 
@@ -236,10 +212,10 @@ describe('eigenvalues with known closed forms', () => {
         cascade.data[(i + 1) * n + i] = 0.5 + rand();
       }
     }
-    expect(mismatch(values(chain), reference(chain))).toBeLessThan(1e-9);
+    expect(spectrumMismatch(values(chain), reference(chain))).toBeLessThan(1e-9);
     // the eigenvalues of a triangular matrix are its diagonal entries (common practice)
     const diag = Array.from({ length: n }, (_, i) => ({ re: cascade.data[i * n + i], im: 0 }));
-    expect(mismatch(values(cascade), diag)).toBe(0);
+    expect(spectrumMismatch(values(cascade), diag)).toBe(0);
   });
 
   it('trace equals the sum and determinant the product of the eigenvalues', () => {
@@ -353,8 +329,8 @@ describe('eigenvectors', () => {
     const a = randomSquare(20, rng(5));
     const r = eigenvectors(a);
     const got = Array.from(r.re, (re, k) => ({ re, im: r.im[k] }));
-    expect(mismatch(got, reference(a))).toBeLessThan(1e-8);
-    expect(mismatch(got, values(a))).toBeLessThan(1e-8);
+    expect(spectrumMismatch(got, reference(a))).toBeLessThan(1e-8);
+    expect(spectrumMismatch(got, values(a))).toBeLessThan(1e-8);
   });
 
   it('structured cases: companion, oscillator, cascade, badly scaled, symmetric', () => {

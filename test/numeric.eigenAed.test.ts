@@ -9,7 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { EigenvalueDecomposition, inverse } from 'ml-matrix';
 import { dense, DenseMatrix, matMul } from '../server/src/core/numeric/dense';
 import { eigenvalues } from '../server/src/core/numeric/eigen';
-import { randomDense, rng, toMl } from './helpers/matrices';
+import { randomDense, rng, toMl, spectrumMismatch } from './helpers/matrices';
 
 type C = { re: number; im: number };
 
@@ -36,24 +36,6 @@ function values(a: DenseMatrix): C[] {
 function mlValues(a: DenseMatrix): C[] {
   const evd = new EigenvalueDecomposition(toMl(a));
   return evd.realEigenvalues.map((re, k) => ({ re, im: evd.imaginaryEigenvalues[k] }));
-}
-
-/** Largest distance from each computed eigenvalue to its nearest unused reference one, relative to max(1, |λ|). */
-function mismatch(got: C[], ref: C[]): number {
-  expect(got.length).toBe(ref.length);
-  const used = new Array(ref.length).fill(false);
-  let worst = 0;
-  for (const g of got) {
-    let best = -1, bd = Infinity;
-    for (let k = 0; k < ref.length; k++) {
-      if (used[k]) continue;
-      const d = Math.hypot(g.re - ref[k].re, g.im - ref[k].im);
-      if (d < bd) (bd = d), (best = k);
-    }
-    used[best] = true;
-    worst = Math.max(worst, bd / Math.max(1, Math.hypot(ref[best].re, ref[best].im)));
-  }
-  return worst;
 }
 
 /** A random orthogonal n×n matrix: product of n Householder reflections of random vectors. */
@@ -125,8 +107,8 @@ describe('dense eigenvalues of 75 states and more (aggressive early deflation)',
     it(`random ${n}×${n} (seed ${seed}) equals numpy.linalg.eigvals and ml-matrix`, () => {
       const a = mulberry(n, seed);
       const got = values(a);
-      expect(mismatch(got, ref.map(([re, im]) => ({ re, im })))).toBeLessThan(1e-11);
-      expect(mismatch(got, mlValues(a))).toBeLessThan(1e-11);
+      expect(spectrumMismatch(got, ref.map(([re, im]) => ({ re, im })))).toBeLessThan(1e-11);
+      expect(spectrumMismatch(got, mlValues(a))).toBeLessThan(1e-11);
     });
   }
 
@@ -135,7 +117,7 @@ describe('dense eigenvalues of 75 states and more (aggressive early deflation)',
     for (const n of [200, 400]) {
       const a = randomDense(n, n, rand);
       const got = values(a);
-      expect(mismatch(got, mlValues(a))).toBeLessThan(1e-10);
+      expect(spectrumMismatch(got, mlValues(a))).toBeLessThan(1e-10);
       let tr = 0;
       for (let i = 0; i < n; i++) tr += a.data[i * n + i];
       expect(Math.abs(got.reduce((s, g) => s + g.re, 0) - tr)).toBeLessThan(1e-10 * n);
@@ -152,7 +134,7 @@ describe('dense eigenvalues of 75 states and more (aggressive early deflation)',
     for (let k = 0; k < 20; k++) blocks.push([0]); // a zero block of 20
     for (let k = 0; k < 20; k++) blocks.push([-0.1 * k, 1 + 0.2 * k]); // distinct pairs
     const a = hideOrthogonal(quasiTriangular(blocks, rand, 0), rand); // upper part 0: normal matrix
-    expect(mismatch(values(a), exact(blocks))).toBeLessThan(1e-10);
+    expect(spectrumMismatch(values(a), exact(blocks))).toBeLessThan(1e-10);
   });
 
   it('defective Jordan blocks (non-normal): errors of order sqrt(eps) as theory says, equal to ml-matrix to the same order', () => {
@@ -179,12 +161,12 @@ describe('dense eigenvalues of 75 states and more (aggressive early deflation)',
     const a = hideOrthogonal(j, rand);
     const got = values(a);
     // a Jordan block of size k perturbed by ε moves its eigenvalues by about ε^(1/k): 1e-16^(1/3) ≈ 5e-6
-    expect(mismatch(got, ex)).toBeLessThan(1e-4);
+    expect(spectrumMismatch(got, ex)).toBeLessThan(1e-4);
     // the sums over each cluster are far more accurate than the single values (first-order perturbations cancel)
     const sumNear = (c: number): number => got.filter((g) => Math.abs(g.re - c) < 0.01).reduce((s, g) => s + g.re, 0);
     expect(Math.abs(sumNear(-1) - -40)).toBeLessThan(1e-8);
     expect(Math.abs(sumNear(2) - 60)).toBeLessThan(1e-8);
-    expect(mismatch(got, mlValues(a))).toBeLessThan(1e-4);
+    expect(spectrumMismatch(got, mlValues(a))).toBeLessThan(1e-4);
   });
 
   it('widely scaled rows and columns (diagonal similarity 2^±30): same eigenvalues as the unscaled matrix', () => {
@@ -194,8 +176,8 @@ describe('dense eigenvalues of 75 states and more (aggressive early deflation)',
     const b = dense(n, n);
     const d = Array.from({ length: n }, (_, i) => 2 ** Math.round(60 * (i / (n - 1)) - 30));
     for (let i = 0; i < n; i++) for (let jj = 0; jj < n; jj++) b.data[i * n + jj] = (d[i] * a.data[i * n + jj]) / d[jj];
-    expect(mismatch(values(b), values(a))).toBeLessThan(1e-10);
-    expect(mismatch(values(a), mlValues(a))).toBeLessThan(1e-10);
+    expect(spectrumMismatch(values(b), values(a))).toBeLessThan(1e-10);
+    expect(spectrumMismatch(values(a), mlValues(a))).toBeLessThan(1e-10);
   });
 
   it('huge and tiny magnitudes: 1e150·A and 1e-150·A scale the eigenvalues exactly', () => {
@@ -207,7 +189,7 @@ describe('dense eigenvalues of 75 states and more (aggressive early deflation)',
       const b = dense(n, n);
       for (let i = 0; i < n * n; i++) b.data[i] = a.data[i] * f;
       const got = values(b).map((g) => ({ re: g.re / f, im: g.im / f }));
-      expect(mismatch(got, base)).toBeLessThan(1e-10);
+      expect(spectrumMismatch(got, base)).toBeLessThan(1e-10);
     }
   });
 
@@ -221,6 +203,6 @@ describe('dense eigenvalues of 75 states and more (aggressive early deflation)',
     const t = randomDense(n, n, rand);
     for (let i = 0; i < n; i++) t.data[i * n + i] += 3 * Math.sqrt(n);
     const a = matMul(matMul(t, b), dense(n, n, inverse(toMl(t)).to2DArray()));
-    expect(mismatch(values(a), exact(blocks))).toBeLessThan(1e-8);
+    expect(spectrumMismatch(values(a), exact(blocks))).toBeLessThan(1e-8);
   });
 });

@@ -5,30 +5,9 @@ import { csrFromDense, csrFromTriplets, csrGet, csrToDense } from '../server/src
 import { dense, DenseMatrix, toArrays } from '../server/src/core/numeric/dense';
 import { BlockStats, eigenvalues, eigenvaluesSparse, stronglyConnectedCsr } from '../server/src/core/numeric/eigen';
 import { symTridiagEigenvalues } from '../server/src/core/numeric/symTridiag';
-import { randomDense, rng, toMl } from './helpers/matrices';
+import { randomDense, rng, toMl, spectrumMismatch } from './helpers/matrices';
 
 type C = { re: number; im: number };
-
-/** Largest distance between two multisets of eigenvalues (nearest unused match), relative to max(1, |λ|). */
-function mismatch(got: C[], ref: C[]): number {
-  expect(got.length).toBe(ref.length);
-  const used = new Array(ref.length).fill(false);
-  let worst = 0;
-  for (const g of got) {
-    let best = -1, bd = Infinity;
-    for (let k = 0; k < ref.length; k++) {
-      if (used[k]) continue;
-      const d = Math.hypot(g.re - ref[k].re, g.im - ref[k].im);
-      if (d < bd) {
-        bd = d;
-        best = k;
-      }
-    }
-    used[best] = true;
-    worst = Math.max(worst, bd / Math.max(1, Math.hypot(ref[best].re, ref[best].im)));
-  }
-  return worst;
-}
 
 const pairs = (r: { re: Float64Array; im: Float64Array }): C[] => Array.from(r.re, (re, k) => ({ re, im: r.im[k] }));
 const fromList = (l: number[][]): C[] => l.map(([re, im]) => ({ re, im }));
@@ -85,7 +64,7 @@ describe('eigenvalues against NumPy', () => {
       const a = randomDense(n, n, rng(seed));
       const r = eigenvalues(a);
       expect(r.converged).toBe(true);
-      expect(mismatch(pairs(r), fromList(ref))).toBeLessThan(1e-12);
+      expect(spectrumMismatch(pairs(r), fromList(ref))).toBeLessThan(1e-12);
       // independent route: trace and trace of the square
       const t = traceIdentities(a, pairs(r));
       expect(t.t1).toBeLessThan(1e-13);
@@ -111,7 +90,7 @@ describe('eigenvalues against NumPy', () => {
     const stats: BlockStats = { blocks: 0, largest: 0 };
     const r = eigenvaluesSparse(csrFromDense(b), {}, stats);
     expect(stats).toEqual({ blocks: 5, largest: 4 });
-    expect(mismatch(pairs(r), fromList(ref))).toBeLessThan(1e-12);
+    expect(spectrumMismatch(pairs(r), fromList(ref))).toBeLessThan(1e-12);
     expect(traceIdentities(b, pairs(r)).t2).toBeLessThan(1e-12);
   });
 });
@@ -161,11 +140,11 @@ describe('block triangular path', () => {
           for (let r = 0; r < m; r++) for (let c = 0; c < m; c++) sub.data[r * m + c] = a.data[b[r] * n + b[c]];
           perBlock.push(...pairs(eigenvalues(sub)));
         }
-        expect(mismatch(pairs(sparse), perBlock)).toBeLessThan(1e-12);
+        expect(spectrumMismatch(pairs(sparse), perBlock)).toBeLessThan(1e-12);
         // ml-matrix is a second, independent QR: on random non-normal blocks an eigenvalue may be ill conditioned
         // (a near-defective pair), and two backward-stable routes then differ by up to κ·ε·‖A‖ (about √ε for a
         // nearly double eigenvalue); the sharp check is the per-block one above
-        expect(mismatch(pairs(sparse), mlReference(a))).toBeLessThan(1e-6);
+        expect(spectrumMismatch(pairs(sparse), mlReference(a))).toBeLessThan(1e-6);
       }),
       { numRuns: Number(process.env.POISE_PROPERTY_RUNS ?? 60) },
     );
@@ -191,7 +170,7 @@ describe('block triangular path', () => {
       for (let k = 0; k < n; k++) worst = Math.max(worst, Math.abs(got[k] - exact[k]));
       expect(worst / (4 * g)).toBeLessThan(1e-13 * Math.max(1, n / 100));
       expect(r.im.every((v) => v === 0)).toBe(true);
-      if (n <= 60) expect(mismatch(pairs(r), mlReference(csrToDense(c)))).toBeLessThan(1e-12);
+      if (n <= 60) expect(spectrumMismatch(pairs(r), mlReference(csrToDense(c)))).toBeLessThan(1e-12);
     }
   });
 
@@ -249,7 +228,7 @@ describe('block triangular path', () => {
     // within the limit: the n-th roots of unity (characteristic polynomial sⁿ − 1, common practice)
     const ok = eigenvaluesSparse(ring);
     const roots = Array.from({ length: n }, (_, k) => ({ re: Math.cos((2 * Math.PI * k) / n), im: Math.sin((2 * Math.PI * k) / n) }));
-    expect(mismatch(pairs(ok), roots)).toBeLessThan(1e-10);
+    expect(spectrumMismatch(pairs(ok), roots)).toBeLessThan(1e-10);
   });
 });
 

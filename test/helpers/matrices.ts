@@ -3,6 +3,7 @@
  * dense matrices, and the conversion to ml-matrix (the reference library the results are checked against).
  */
 import { Matrix } from 'ml-matrix';
+import { expect } from 'vitest';
 import { dense, toArrays, type DenseMatrix } from '../../server/src/core/numeric/dense';
 
 /** Seeded pseudo-random numbers in [0, 1) (mulberry32, common practice for reproducible test data). */
@@ -29,3 +30,27 @@ export function randomDense(rows: number, cols: number, rand: () => number, zero
 
 /** The same matrix as an ml-matrix Matrix. */
 export const toMl = (m: DenseMatrix): Matrix => new Matrix(toArrays(m));
+
+/** A complex number as the eigenvalue routines return it. */
+export type Complex = { re: number; im: number };
+
+/**
+ * Largest distance between two multisets of eigenvalues, each of `got` matched to its nearest unused one of
+ * `ref`; relative to max(1, |λ|) unless `relative` is false.
+ */
+export function spectrumMismatch(got: Complex[], ref: Complex[], relative = true): number {
+  expect(got.length).toBe(ref.length);
+  const used = new Array(ref.length).fill(false);
+  let worst = 0;
+  for (const g of got) {
+    let best = -1, bd = Infinity;
+    for (let k = 0; k < ref.length; k++) {
+      if (used[k]) continue;
+      const d = Math.hypot(g.re - ref[k].re, g.im - ref[k].im);
+      if (d < bd) (bd = d), (best = k);
+    }
+    used[best] = true;
+    worst = Math.max(worst, relative ? bd / Math.max(1, Math.hypot(ref[best].re, ref[best].im)) : bd);
+  }
+  return worst;
+}

@@ -117,10 +117,10 @@ function ql(d: Float64Array, e2: Float64Array, n: number, tol2: number, multi: b
     if (l === lastL && m === lastM) stuck++;
     else (lastL = l), (lastM = m), (stuck = 0);
     const steps = m - l;
-    // Four shifts from the leading block can stall on a block (about one random matrix in two thousand
-    // did, found by the property test against ml-matrix); the single Wilkinson shift converges on every
-    // unreduced symmetric tridiagonal matrix (Wilkinson 1968, global convergence of the shifted QL/QR), so
-    // a block that has not split after MULTI_TRIES multishift sweeps goes on with single shifts.
+    // A safeguard: nothing proves that four shifts from the leading block always make a block split; the
+    // single Wilkinson shift converges on every unreduced symmetric tridiagonal matrix (Wilkinson 1968,
+    // global convergence of the shifted QL/QR), so a block that has not split after MULTI_TRIES
+    // multishift sweeps goes on with single shifts.
     if (!multi || steps < 4 * K || stuck >= MULTI_TRIES) {
       const sigma = wilkinson(d, e2, l);
       start(d, m, sigma, st, 0);
